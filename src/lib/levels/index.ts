@@ -1,0 +1,50 @@
+/**
+ * Scopegrade level analysis engine: public interface. Framework-free and
+ * browser-safe (no Node-only imports).
+ */
+export { LevelInputError } from './errors';
+export { analyzeLevels, castHueCentres } from './analyze';
+export type {
+	AnalyzeOptions,
+	CastDirection,
+	CastSize,
+	Finding,
+	FindingSeverity,
+	LevelReport,
+	LevelWarning,
+	NonMonotonicStep,
+	Rgb,
+	StepReport,
+	TintReading,
+	TintReport
+} from './analyze';
+export {
+	bt1886,
+	deltaE2000,
+	rgbToXyzMatrix,
+	xyzToLab,
+	createDisplayModel,
+	SMPTE_C_PRIMARIES,
+	BT709_PRIMARIES,
+	D65_XY,
+	BT1886_DEFAULTS
+} from './colour';
+export type { Bt1886Options, Primaries, Chromaticity, Vec3, Mat3, DisplayModel } from './colour';
+export { RUBRIC, RUBRIC_VERSION, BANDS, decideBand, bandRank } from './rubric';
+export type { Band, FailReason, BandInputs } from './rubric';
+export {
+	validateLevelInput,
+	ALL_STEPS_IRE,
+	REQUIRED_STEPS_IRE,
+	CHANNELS,
+	DEFAULT_FULL_SCALE_MV,
+	MAX_READING_MV,
+	MIN_READING_MV
+} from './validate';
+export type { Channel, LevelInput, LevelStepInput } from './validate';
+export { whatIf, bestFit, transformSignalIre, interpolateCurve } from './whatif';
+export type { LevelTransform, WhatIfResult, BestFitResult, ChannelFit } from './whatif';
+export { aggregateRuns } from './aggregate';
+export type { AggregateResult } from './aggregate';
+export { importTrace, traceToLevelInput } from './trace';
+export type { ImportTraceOptions, TraceImport, TracePlateau, TraceChannel, VoltageUnit } from './trace';
