@@ -1,0 +1,107 @@
+#!/usr/bin/env node
+// `npm test`: bootstrap like `npm start`, then vitest (unit + integration against a real
+// PostgreSQL, fake SMTP and fake shops) and Playwright against the built app.
+// Extra arguments pick a part: `npm test -- unit` (vitest only) or `npm test -- e2e`.
+import { existsSync, mkdirSync, readFileSync, rmSync } from 'node:fs';
+import { resolve } from 'node:path';
+import { appEnv, profile, ROOT } from './lib/profiles.mjs';
+import { log, portIsFree, run, startService, stopAll, waitForHttp } from './lib/run.mjs';
+import { ensureChromium, ensureDatabase, ensureNodeModules, startCluster, stopCluster } from './lib/bootstrap.mjs';
+
+const parts = process.argv.slice(2);
+const want = (part) => parts.length === 0 || parts.includes(part);
+
+const p = profile('test');
+const e2e = { ...p, database: 'scopegrade_e2e', databaseUrl: p.databaseUrl.replace(/\/scopegrade_test$/, '/scopegrade_e2e') };
+const artifacts = resolve(ROOT, 'tests', 'artifacts');
+const children = [];
+let failed = false;
+const totals = { passed: 0, failed: 0, skipped: 0 };
+
+function readJson(file) {
+	try {
+		return JSON.parse(readFileSync(file, 'utf8'));
+	} catch {
+		return null;
+	}
+}
+
+async function main() {
+	for (const port of [p.appPort, p.inboxPort, p.smtpPort, p.shopsPort]) {
+		if (!(await portIsFree(port))) throw new Error(`port ${port} is in use: is another test run going on?`);
+	}
+	ensureNodeModules();
+	if (want('e2e')) ensureChromium();
+	await startCluster(p, { fast: true });
+	ensureDatabase(p, { fresh: true });
+	ensureDatabase(e2e, { fresh: true });
+	rmSync(artifacts, { recursive: true, force: true });
+	mkdirSync(artifacts, { recursive: true });
+
+	const env = {
+		...process.env,
+		...appEnv(p, 'test-secret-not-for-production-0123456789'),
+		TEST_DATABASE_URL: p.databaseUrl,
+		TEST_ADMIN_DATABASE_URL: p.adminUrl
+	};
+	const tsx = resolve(ROOT, 'node_modules/.bin/tsx');
+	run(tsx, ['scripts/migrate.ts'], { cwd: ROOT, env });
+
+	const mail = startService('mail', tsx, ['fixtures/mail/server.ts'], { cwd: ROOT, env });
+	const shops = startService('shops', tsx, ['fixtures/shops/server.ts'], { cwd: ROOT, env });
+	children.push(mail, shops);
+	await waitForHttp(`http://127.0.0.1:${p.inboxPort}/api/health`, 30_000, mail);
+
+	if (want('unit')) {
+		log('vitest: unit and integration tests');
+		const out = resolve(artifacts, 'vitest.json');
+		try {
+			run(resolve(ROOT, 'node_modules/.bin/vitest'), ['run', '--reporter=default', '--reporter=json', `--outputFile.json=${out}`], { cwd: ROOT, env });
+		} catch {
+			failed = true;
+		}
+		const r = readJson(out);
+		if (r) {
+			totals.passed += r.numPassedTests ?? 0;
+			totals.failed += r.numFailedTests ?? 0;
+			totals.skipped += (r.numPendingTests ?? 0) + (r.numTodoTests ?? 0);
+		} else failed = true;
+	}
+
+	if (want('e2e')) {
+		log('building the app for the end-to-end tests');
+		run('npm', ['run', 'build', '--silent'], { cwd: ROOT, env });
+		const e2eEnv = { ...env, DATABASE_URL: e2e.databaseUrl };
+		run(tsx, ['scripts/migrate.ts'], { cwd: ROOT, env: e2eEnv });
+		run(tsx, ['scripts/seed.ts'], { cwd: ROOT, env: e2eEnv });
+		log('playwright: end-to-end tests in Debian\'s Chromium');
+		const out = resolve(artifacts, 'playwright.json');
+		try {
+			run(resolve(ROOT, 'node_modules/.bin/playwright'), ['test'], {
+				cwd: ROOT,
+				env: { ...e2eEnv, PLAYWRIGHT_JSON_OUTPUT_NAME: out }
+			});
+		} catch {
+			failed = true;
+		}
+		const r = readJson(out);
+		if (r?.stats) {
+			totals.passed += r.stats.expected ?? 0;
+			totals.failed += (r.stats.unexpected ?? 0) + (r.stats.flaky ?? 0);
+			totals.skipped += r.stats.skipped ?? 0;
+		} else failed = true;
+	}
+}
+
+try {
+	await main();
+} catch (err) {
+	console.error(`\nnpm test could not run: ${err.message}`);
+	failed = true;
+} finally {
+	await stopAll(children);
+	stopCluster(p);
+}
+if (totals.failed > 0) failed = true;
+console.log(`\nScopegrade tests: ${totals.passed} passed, ${totals.failed} failed, ${totals.skipped} skipped`);
+process.exit(failed ? 1 : 0);

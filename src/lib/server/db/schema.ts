@@ -1,0 +1,645 @@
+/**
+ * The whole Scopegrade domain in one Drizzle schema.
+ *
+ * Naming: our own tables are singular snake_case with snake_case columns. The four Auth.js
+ * tables (`user`, `account`, `session`, `verificationToken`) keep the names and camelCase
+ * columns the Drizzle adapter expects; we only add `role` (and timestamps) to `user`.
+ *
+ * This module is loaded by drizzle-kit, tsx job scripts and Vite alike: keep it free of
+ * `$lib` and `$env` imports.
+ */
+import { sql } from 'drizzle-orm';
+import {
+	bigint,
+	bigserial,
+	boolean,
+	char,
+	check,
+	date,
+	doublePrecision,
+	index,
+	integer,
+	jsonb,
+	numeric,
+	pgEnum,
+	pgTable,
+	primaryKey,
+	serial,
+	smallint,
+	text,
+	timestamp,
+	uniqueIndex,
+	uuid,
+	type AnyPgColumn
+} from 'drizzle-orm/pg-core';
+
+// ---------------------------------------------------------------- enums
+
+export const roleEnum = pgEnum('role', ['member', 'curator', 'admin']);
+export const bandEnum = pgEnum('band', ['exact', 'close', 'fair', 'poor', 'failing']);
+/** Our stock states; schema.org ItemAvailability values map onto these. */
+export const stockStateEnum = pgEnum('stock_state', [
+	'in_stock',
+	'out_of_stock',
+	'preorder',
+	'backorder',
+	'discontinued',
+	'unknown'
+]);
+export const regionEnum = pgEnum('region', ['na', 'eu', 'uk', 'jp', 'au']);
+export const feedFormatEnum = pgEnum('feed_format', ['jsonld', 'microdata', 'selectors', 'api']);
+export const powerKindEnum = pgEnum('power_kind', ['usb-bus', 'usb-adapter', 'barrel']);
+export const runStatusEnum = pgEnum('run_status', ['pending', 'accepted', 'rejected', 'superseded']);
+export const reviewStatusEnum = pgEnum('review_status', ['pending', 'verified', 'rejected']);
+export const terminationEnum = pgEnum('termination', ['75-ohm', 'unterminated', 'unknown']);
+export const fileKindEnum = pgEnum('file_kind', ['photo', 'thumbnail', 'trace']);
+export const fileStatusEnum = pgEnum('file_status', ['pending', 'public', 'rejected']);
+export const stockEventKindEnum = pgEnum('stock_event_kind', ['restock', 'sellout', 'price_drop']);
+export const outboxStatusEnum = pgEnum('outbox_status', ['pending', 'sending', 'sent', 'dead', 'skipped']);
+export const alertModeEnum = pgEnum('alert_mode', ['instant', 'digest']);
+export const guideStatusEnum = pgEnum('guide_status', ['draft', 'published', 'retired']);
+export const pollOutcomeEnum = pgEnum('poll_outcome', [
+	'ok',
+	'not_modified',
+	'timeout',
+	'network',
+	'http_4xx',
+	'http_5xx',
+	'rate_limited',
+	'robots_disallowed',
+	'gone',
+	'unreadable',
+	'wrong_currency',
+	'too_large'
+]);
+
+const createdAt = () => timestamp('created_at', { withTimezone: true }).notNull().defaultNow();
+const updatedAt = () => timestamp('updated_at', { withTimezone: true }).notNull().defaultNow();
+
+// ---------------------------------------------------------------- Auth.js tables
+
+export const users = pgTable('user', {
+	id: text('id')
+		.primaryKey()
+		.$defaultFn(() => crypto.randomUUID()),
+	name: text('name'),
+	email: text('email').unique(),
+	emailVerified: timestamp('emailVerified', { mode: 'date' }),
+	image: text('image'),
+	role: roleEnum('role').notNull().default('member'),
+	createdAt: timestamp('createdAt', { withTimezone: true }).notNull().defaultNow()
+});
+
+export const accounts = pgTable(
+	'account',
+	{
+		userId: text('userId')
+			.notNull()
+			.references(() => users.id, { onDelete: 'cascade' }),
+		type: text('type').notNull(),
+		provider: text('provider').notNull(),
+		providerAccountId: text('providerAccountId').notNull(),
+		refresh_token: text('refresh_token'),
+		access_token: text('access_token'),
+		expires_at: integer('expires_at'),
+		token_type: text('token_type'),
+		scope: text('scope'),
+		id_token: text('id_token'),
+		session_state: text('session_state')
+	},
+	(t) => [primaryKey({ columns: [t.provider, t.providerAccountId] })]
+);
+
+export const sessions = pgTable(
+	'session',
+	{
+		sessionToken: text('sessionToken').primaryKey(),
+		userId: text('userId')
+			.notNull()
+			.references(() => users.id, { onDelete: 'cascade' }),
+		expires: timestamp('expires', { mode: 'date' }).notNull()
+	},
+	(t) => [index('session_user_idx').on(t.userId)]
+);
+
+export const verificationTokens = pgTable(
+	'verificationToken',
+	{
+		identifier: text('identifier').notNull(),
+		token: text('token').notNull(),
+		expires: timestamp('expires', { mode: 'date' }).notNull()
+	},
+	(t) => [primaryKey({ columns: [t.identifier, t.token] })]
+);
+
+/** A member's alert preferences (one row per user, created on first change). */
+export const memberPrefs = pgTable(
+	'member_pref',
+	{
+		userId: text('user_id')
+			.primaryKey()
+			.references(() => users.id, { onDelete: 'cascade' }),
+		alertMode: alertModeEnum('alert_mode').notNull().default('instant'),
+		/** Quiet hours in the member's time zone, as hours 0-23; null means none. */
+		quietFrom: smallint('quiet_from'),
+		quietTo: smallint('quiet_to'),
+		timezone: text('timezone').notNull().default('UTC'),
+		digestHour: smallint('digest_hour').notNull().default(8),
+		updatedAt: updatedAt()
+	},
+	(t) => [
+		check('member_pref_quiet_hours', sql`(${t.quietFrom} is null or ${t.quietFrom} between 0 and 23) and (${t.quietTo} is null or ${t.quietTo} between 0 and 23)`),
+		check('member_pref_digest_hour', sql`${t.digestHour} between 0 and 23`)
+	]
+);
+
+// ---------------------------------------------------------------- catalogue
+
+export const chips = pgTable('chip', {
+	id: serial('id').primaryKey(),
+	slug: text('slug').notNull().unique(),
+	name: text('name').notNull(),
+	maker: text('maker').notNull(),
+	notes: text('notes').notNull().default(''),
+	retiredAt: timestamp('retired_at', { withTimezone: true }),
+	createdAt: createdAt(),
+	updatedAt: updatedAt()
+});
+
+export const converters = pgTable(
+	'converter',
+	{
+		id: serial('id').primaryKey(),
+		slug: text('slug').notNull().unique(),
+		brand: text('brand').notNull(),
+		model: text('model').notNull(),
+		summary: text('summary').notNull().default(''),
+		hasAudioOut: boolean('has_audio_out').notNull().default(false),
+		power: powerKindEnum('power').notNull().default('usb-bus'),
+		outputs: text('outputs').array().notNull().default(sql`'{vga}'::text[]`),
+		retiredAt: timestamp('retired_at', { withTimezone: true }),
+		lastReviewedAt: timestamp('last_reviewed_at', { withTimezone: true }),
+		createdAt: createdAt(),
+		updatedAt: updatedAt()
+	},
+	(t) => [
+		check('converter_slug_format', sql`${t.slug} ~ '^[a-z0-9]+(-[a-z0-9]+)*$'`),
+		uniqueIndex('converter_brand_model_uq').on(t.brand, t.model)
+	]
+);
+
+/**
+ * One hardware revision of a converter, identified by its chip and board marking.
+ * The band/score columns cache the engine's aggregate over accepted bench runs
+ * (recomputed whenever a run is saved, accepted or superseded).
+ */
+export const revisions = pgTable(
+	'revision',
+	{
+		id: serial('id').primaryKey(),
+		converterId: integer('converter_id')
+			.notNull()
+			.references(() => converters.id, { onDelete: 'restrict' }),
+		code: text('code').notNull(),
+		chipId: integer('chip_id')
+			.notNull()
+			.references(() => chips.id, { onDelete: 'restrict' }),
+		boardMarking: text('board_marking').notNull().default(''),
+		seenFrom: date('seen_from'),
+		seenTo: date('seen_to'),
+		notes: text('notes').notNull().default(''),
+		band: bandEnum('band'),
+		score: doublePrecision('score'),
+		scoreMin: doublePrecision('score_min'),
+		scoreMax: doublePrecision('score_max'),
+		runCount: integer('run_count').notNull().default(0),
+		rubricVersion: text('rubric_version'),
+		gradedAt: timestamp('graded_at', { withTimezone: true }),
+		retiredAt: timestamp('retired_at', { withTimezone: true }),
+		createdAt: createdAt(),
+		updatedAt: updatedAt()
+	},
+	(t) => [
+		uniqueIndex('revision_converter_code_uq').on(t.converterId, t.code),
+		index('revision_chip_idx').on(t.chipId),
+		index('revision_band_idx').on(t.band),
+		check('revision_seen_range', sql`${t.seenTo} is null or ${t.seenFrom} is null or ${t.seenTo} >= ${t.seenFrom}`),
+		check('revision_score_range', sql`${t.score} is null or ${t.score} between 0 and 100`)
+	]
+);
+
+// ---------------------------------------------------------------- uploaded files
+
+/** Every stored object (photo, thumbnail, scope trace); bytes live in object storage under storage_key. */
+export const files = pgTable(
+	'file',
+	{
+		id: uuid('id').primaryKey().defaultRandom(),
+		ownerId: text('owner_id').references(() => users.id, { onDelete: 'set null' }),
+		kind: fileKindEnum('kind').notNull(),
+		status: fileStatusEnum('status').notNull().default('pending'),
+		contentType: text('content_type').notNull(),
+		byteSize: integer('byte_size').notNull(),
+		sha256: char('sha256', { length: 64 }).notNull(),
+		storageKey: text('storage_key').notNull().unique(),
+		originalName: text('original_name').notNull().default(''),
+		width: integer('width'),
+		height: integer('height'),
+		thumbnailId: uuid('thumbnail_id').references((): AnyPgColumn => files.id, { onDelete: 'set null' }),
+		createdAt: createdAt()
+	},
+	(t) => [
+		index('file_owner_idx').on(t.ownerId),
+		check('file_size_positive', sql`${t.byteSize} > 0`)
+	]
+);
+
+// ---------------------------------------------------------------- bench runs
+
+/** One measured unit: who, when, with what, and the readings (bench_reading). */
+export const benchRuns = pgTable(
+	'bench_run',
+	{
+		id: serial('id').primaryKey(),
+		revisionId: integer('revision_id')
+			.notNull()
+			.references(() => revisions.id, { onDelete: 'restrict' }),
+		status: runStatusEnum('status').notNull().default('pending'),
+		measuredBy: text('measured_by').notNull(),
+		submittedById: text('submitted_by_id').references(() => users.id, { onDelete: 'set null' }),
+		measuredOn: date('measured_on').notNull(),
+		testSource: text('test_source').notNull(),
+		pattern: text('pattern').notNull().default('11-step grey ramp, 0-100 IRE'),
+		instrument: text('instrument').notNull(),
+		termination: terminationEnum('termination').notNull().default('75-ohm'),
+		fullScaleMv: doublePrecision('full_scale_mv').notNull().default(700),
+		notes: text('notes').notNull().default(''),
+		traceFileId: uuid('trace_file_id').references(() => files.id, { onDelete: 'set null' }),
+		/** The engine's level report for these readings (a cache; the readings are the truth). */
+		report: jsonb('report'),
+		band: bandEnum('band'),
+		score: doublePrecision('score'),
+		rubricVersion: text('rubric_version'),
+		supersededById: integer('superseded_by_id').references((): AnyPgColumn => benchRuns.id, {
+			onDelete: 'set null'
+		}),
+		reviewNote: text('review_note'),
+		reviewedById: text('reviewed_by_id').references(() => users.id, { onDelete: 'set null' }),
+		reviewedAt: timestamp('reviewed_at', { withTimezone: true }),
+		createdAt: createdAt(),
+		updatedAt: updatedAt()
+	},
+	(t) => [
+		index('bench_run_revision_status_idx').on(t.revisionId, t.status),
+		index('bench_run_status_idx').on(t.status),
+		check('bench_run_full_scale', sql`${t.fullScaleMv} between 100 and 2000`)
+	]
+);
+
+/** One IRE step of a bench run: the R, G and B levels in mV. */
+export const benchReadings = pgTable(
+	'bench_reading',
+	{
+		benchRunId: integer('bench_run_id')
+			.notNull()
+			.references(() => benchRuns.id, { onDelete: 'cascade' }),
+		ire: smallint('ire').notNull(),
+		rMv: doublePrecision('r_mv').notNull(),
+		gMv: doublePrecision('g_mv').notNull(),
+		bMv: doublePrecision('b_mv').notNull()
+	},
+	(t) => [
+		primaryKey({ columns: [t.benchRunId, t.ire] }),
+		check('bench_reading_ire_step', sql`${t.ire} between 0 and 100 and ${t.ire} % 10 = 0`),
+		check(
+			'bench_reading_mv_range',
+			sql`${t.rMv} between 0 and 2000 and ${t.gMv} between 0 and 2000 and ${t.bMv} between 0 and 2000`
+		)
+	]
+);
+
+// ---------------------------------------------------------------- shops and listings
+
+export const shops = pgTable(
+	'shop',
+	{
+		id: serial('id').primaryKey(),
+		slug: text('slug').notNull().unique(),
+		name: text('name').notNull(),
+		region: regionEnum('region').notNull(),
+		currency: char('currency', { length: 3 }).notNull(),
+		shipsTo: regionEnum('ships_to').array().notNull().default(sql`'{}'::region[]`),
+		baseUrl: text('base_url').notNull(),
+		defaultFormat: feedFormatEnum('default_format').notNull(),
+		/** Curator-set CSS selectors or JSON mapping shared by the shop's listings. */
+		feedConfig: jsonb('feed_config').notNull().default(sql`'{}'::jsonb`),
+		maxConcurrency: smallint('max_concurrency').notNull().default(2),
+		minSpacingMs: integer('min_spacing_ms').notNull().default(1000),
+		active: boolean('active').notNull().default(true),
+		createdAt: createdAt(),
+		updatedAt: updatedAt()
+	},
+	(t) => [
+		check('shop_currency_iso', sql`${t.currency} ~ '^[A-Z]{3}$'`),
+		check('shop_concurrency', sql`${t.maxConcurrency} between 1 and 16`),
+		check('shop_spacing', sql`${t.minSpacingMs} >= 0`)
+	]
+);
+
+/** One converter's page at one shop. */
+export const listings = pgTable(
+	'listing',
+	{
+		id: serial('id').primaryKey(),
+		shopId: integer('shop_id')
+			.notNull()
+			.references(() => shops.id, { onDelete: 'restrict' }),
+		converterId: integer('converter_id')
+			.notNull()
+			.references(() => converters.id, { onDelete: 'restrict' }),
+		url: text('url').notNull(),
+		format: feedFormatEnum('format').notNull(),
+		/** Overrides the shop's feed_config for this page (selectors or API mapping). */
+		feedConfig: jsonb('feed_config'),
+		pollIntervalMinutes: integer('poll_interval_minutes').notNull().default(60),
+		active: boolean('active').notNull().default(true),
+		delistedAt: timestamp('delisted_at', { withTimezone: true }),
+		title: text('title'),
+		createdAt: createdAt(),
+		updatedAt: updatedAt()
+	},
+	(t) => [
+		uniqueIndex('listing_url_uq').on(t.url),
+		index('listing_converter_idx').on(t.converterId),
+		index('listing_shop_idx').on(t.shopId),
+		check('listing_interval', sql`${t.pollIntervalMinutes} between 1 and 10080`)
+	]
+);
+
+/**
+ * Polling state per listing, kept apart from history: "last checked" moves on every poll,
+ * while observations only grow when price, currency or stock state change.
+ */
+export const listingStates = pgTable(
+	'listing_state',
+	{
+		listingId: integer('listing_id')
+			.primaryKey()
+			.references(() => listings.id, { onDelete: 'cascade' }),
+		nextPollAt: timestamp('next_poll_at', { withTimezone: true }).notNull().defaultNow(),
+		leaseOwner: text('lease_owner'),
+		leaseUntil: timestamp('lease_until', { withTimezone: true }),
+		pollRequestedAt: timestamp('poll_requested_at', { withTimezone: true }),
+		lastCheckedAt: timestamp('last_checked_at', { withTimezone: true }),
+		lastSuccessAt: timestamp('last_success_at', { withTimezone: true }),
+		lastOutcome: pollOutcomeEnum('last_outcome'),
+		lastErrorAt: timestamp('last_error_at', { withTimezone: true }),
+		lastError: text('last_error'),
+		consecutiveFailures: integer('consecutive_failures').notNull().default(0),
+		etag: text('etag'),
+		lastModified: text('last_modified'),
+		currentPriceMinor: bigint('current_price_minor', { mode: 'number' }),
+		currentCurrency: char('current_currency', { length: 3 }),
+		currentStock: stockStateEnum('current_stock').notNull().default('unknown'),
+		currentSince: timestamp('current_since', { withTimezone: true })
+	},
+	(t) => [index('listing_state_due_idx').on(t.nextPollAt)]
+);
+
+/** A change point: a row is written only when price, currency or stock state change. */
+export const observations = pgTable(
+	'observation',
+	{
+		id: bigserial('id', { mode: 'number' }).primaryKey(),
+		listingId: integer('listing_id')
+			.notNull()
+			.references(() => listings.id, { onDelete: 'cascade' }),
+		observedAt: timestamp('observed_at', { withTimezone: true }).notNull(),
+		priceMinor: bigint('price_minor', { mode: 'number' }),
+		currency: char('currency', { length: 3 }),
+		stock: stockStateEnum('stock').notNull()
+	},
+	(t) => [
+		index('observation_listing_time_idx').on(t.listingId, t.observedAt),
+		check('observation_price_positive', sql`${t.priceMinor} is null or ${t.priceMinor} > 0`)
+	]
+);
+
+/** Restock / sell-out / price-drop transitions, written in the same transaction as the observation. */
+export const stockEvents = pgTable(
+	'stock_event',
+	{
+		id: bigserial('id', { mode: 'number' }).primaryKey(),
+		listingId: integer('listing_id')
+			.notNull()
+			.references(() => listings.id, { onDelete: 'cascade' }),
+		observationId: bigint('observation_id', { mode: 'number' })
+			.notNull()
+			.references(() => observations.id, { onDelete: 'cascade' }),
+		kind: stockEventKindEnum('kind').notNull(),
+		at: timestamp('at', { withTimezone: true }).notNull(),
+		priceMinor: bigint('price_minor', { mode: 'number' }),
+		currency: char('currency', { length: 3 }),
+		previousStock: stockStateEnum('previous_stock'),
+		/** Set when a restock falls inside the listing's quiet period: recorded, but no alerts. */
+		quiet: boolean('quiet').notNull().default(false)
+	},
+	(t) => [
+		uniqueIndex('stock_event_observation_kind_uq').on(t.observationId, t.kind),
+		index('stock_event_kind_time_idx').on(t.kind, t.at),
+		index('stock_event_listing_time_idx').on(t.listingId, t.at)
+	]
+);
+
+/** Poll outcomes counted per shop per day, for the health view. */
+export const pollCounts = pgTable(
+	'poll_count',
+	{
+		shopId: integer('shop_id')
+			.notNull()
+			.references(() => shops.id, { onDelete: 'cascade' }),
+		day: date('day').notNull(),
+		outcome: pollOutcomeEnum('outcome').notNull(),
+		count: integer('count').notNull().default(0),
+		lastAt: timestamp('last_at', { withTimezone: true }).notNull().defaultNow(),
+		lastDetail: text('last_detail')
+	},
+	(t) => [primaryKey({ columns: [t.shopId, t.day, t.outcome] })]
+);
+
+/** Dated exchange rates: 1 unit of `base` buys `rate` units of `quote`. */
+export const exchangeRates = pgTable(
+	'exchange_rate',
+	{
+		base: char('base', { length: 3 }).notNull(),
+		quote: char('quote', { length: 3 }).notNull(),
+		day: date('day').notNull(),
+		rate: numeric('rate', { precision: 18, scale: 8 }).notNull(),
+		source: text('source').notNull().default('manual'),
+		createdAt: createdAt()
+	},
+	(t) => [
+		primaryKey({ columns: [t.base, t.quote, t.day] }),
+		check('exchange_rate_positive', sql`${t.rate} > 0`)
+	]
+);
+
+// ---------------------------------------------------------------- teardown reports
+
+/** "I opened a unit bought at shop S in month M and found chip C" (with a board photo). */
+export const teardownReports = pgTable(
+	'teardown_report',
+	{
+		id: serial('id').primaryKey(),
+		converterId: integer('converter_id')
+			.notNull()
+			.references(() => converters.id, { onDelete: 'restrict' }),
+		revisionId: integer('revision_id').references(() => revisions.id, { onDelete: 'set null' }),
+		shopId: integer('shop_id').references(() => shops.id, { onDelete: 'set null' }),
+		shopNameOther: text('shop_name_other'),
+		purchaseMonth: date('purchase_month').notNull(),
+		chipId: integer('chip_id').references(() => chips.id, { onDelete: 'set null' }),
+		chipText: text('chip_text').notNull().default(''),
+		boardMarking: text('board_marking').notNull().default(''),
+		photoFileId: uuid('photo_file_id').references(() => files.id, { onDelete: 'set null' }),
+		notes: text('notes').notNull().default(''),
+		status: reviewStatusEnum('status').notNull().default('pending'),
+		reviewReason: text('review_reason'),
+		submittedById: text('submitted_by_id').references(() => users.id, { onDelete: 'set null' }),
+		reviewedById: text('reviewed_by_id').references(() => users.id, { onDelete: 'set null' }),
+		reviewedAt: timestamp('reviewed_at', { withTimezone: true }),
+		createdAt: createdAt()
+	},
+	(t) => [
+		index('teardown_converter_status_idx').on(t.converterId, t.status),
+		index('teardown_status_idx').on(t.status),
+		check('teardown_month_first_day', sql`extract(day from ${t.purchaseMonth}) = 1`)
+	]
+);
+
+// ---------------------------------------------------------------- watches and alerts
+
+/** A subscriber's alert rule: one converter, or a rule over the catalogue. */
+export const watches = pgTable(
+	'watch',
+	{
+		id: serial('id').primaryKey(),
+		userId: text('user_id')
+			.notNull()
+			.references(() => users.id, { onDelete: 'cascade' }),
+		converterId: integer('converter_id').references(() => converters.id, { onDelete: 'cascade' }),
+		minBand: bandEnum('min_band'),
+		maxPriceMinor: bigint('max_price_minor', { mode: 'number' }),
+		priceCurrency: char('price_currency', { length: 3 }),
+		region: regionEnum('region'),
+		needsAudio: boolean('needs_audio').notNull().default(false),
+		shopIds: integer('shop_ids').array(),
+		alsoPriceDrops: boolean('also_price_drops').notNull().default(false),
+		paused: boolean('paused').notNull().default(false),
+		createdAt: createdAt(),
+		updatedAt: updatedAt()
+	},
+	(t) => [
+		index('watch_user_idx').on(t.userId),
+		index('watch_converter_idx').on(t.converterId),
+		check('watch_price_currency', sql`${t.maxPriceMinor} is null or ${t.priceCurrency} is not null`)
+	]
+);
+
+/** One message per (watch, stock event); the unique key makes replays and second workers harmless. */
+export const alertOutbox = pgTable(
+	'alert_outbox',
+	{
+		id: bigserial('id', { mode: 'number' }).primaryKey(),
+		watchId: integer('watch_id')
+			.notNull()
+			.references(() => watches.id, { onDelete: 'cascade' }),
+		stockEventId: bigint('stock_event_id', { mode: 'number' })
+			.notNull()
+			.references(() => stockEvents.id, { onDelete: 'cascade' }),
+		userId: text('user_id')
+			.notNull()
+			.references(() => users.id, { onDelete: 'cascade' }),
+		mode: alertModeEnum('mode').notNull().default('instant'),
+		status: outboxStatusEnum('status').notNull().default('pending'),
+		attempts: integer('attempts').notNull().default(0),
+		nextAttemptAt: timestamp('next_attempt_at', { withTimezone: true }).notNull().defaultNow(),
+		leaseOwner: text('lease_owner'),
+		leaseUntil: timestamp('lease_until', { withTimezone: true }),
+		lastError: text('last_error'),
+		messageId: text('message_id'),
+		digestKey: text('digest_key'),
+		sentAt: timestamp('sent_at', { withTimezone: true }),
+		createdAt: createdAt()
+	},
+	(t) => [
+		uniqueIndex('alert_outbox_watch_event_uq').on(t.watchId, t.stockEventId),
+		index('alert_outbox_due_idx').on(t.status, t.nextAttemptAt),
+		index('alert_outbox_user_idx').on(t.userId)
+	]
+);
+
+// ---------------------------------------------------------------- guides
+
+export const guides = pgTable('guide', {
+	id: serial('id').primaryKey(),
+	slug: text('slug').notNull().unique(),
+	title: text('title').notNull(),
+	summary: text('summary').notNull().default(''),
+	bodyMarkdown: text('body_markdown').notNull().default(''),
+	status: guideStatusEnum('status').notNull().default('draft'),
+	authorId: text('author_id').references(() => users.id, { onDelete: 'set null' }),
+	publishedAt: timestamp('published_at', { withTimezone: true }),
+	createdAt: createdAt(),
+	updatedAt: updatedAt()
+});
+
+/** A converter recommended by a guide, with the band it had when picked (to flag re-grades). */
+export const guidePicks = pgTable(
+	'guide_pick',
+	{
+		guideId: integer('guide_id')
+			.notNull()
+			.references(() => guides.id, { onDelete: 'cascade' }),
+		converterId: integer('converter_id')
+			.notNull()
+			.references(() => converters.id, { onDelete: 'restrict' }),
+		position: smallint('position').notNull().default(0),
+		note: text('note').notNull().default(''),
+		bandAtPick: bandEnum('band_at_pick')
+	},
+	(t) => [primaryKey({ columns: [t.guideId, t.converterId] })]
+);
+
+// ---------------------------------------------------------------- audit log
+
+/** Every curator and admin change: who, when, what, before and after. */
+export const auditLog = pgTable(
+	'audit_log',
+	{
+		id: bigserial('id', { mode: 'number' }).primaryKey(),
+		actorId: text('actor_id').references(() => users.id, { onDelete: 'set null' }),
+		action: text('action').notNull(),
+		entity: text('entity').notNull(),
+		entityId: text('entity_id').notNull(),
+		before: jsonb('before'),
+		after: jsonb('after'),
+		reason: text('reason'),
+		at: timestamp('at', { withTimezone: true }).notNull().defaultNow()
+	},
+	(t) => [
+		index('audit_entity_idx').on(t.entity, t.entityId),
+		index('audit_actor_idx').on(t.actorId),
+		index('audit_time_idx').on(t.at)
+	]
+);
+
+// ---------------------------------------------------------------- value types
+
+export type Role = (typeof roleEnum.enumValues)[number];
+export type Band = (typeof bandEnum.enumValues)[number];
+export type StockState = (typeof stockStateEnum.enumValues)[number];
+export type Region = (typeof regionEnum.enumValues)[number];
+export type FeedFormat = (typeof feedFormatEnum.enumValues)[number];
+export type RunStatus = (typeof runStatusEnum.enumValues)[number];
+export type PollOutcome = (typeof pollOutcomeEnum.enumValues)[number];

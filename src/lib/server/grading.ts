@@ -1,0 +1,111 @@
+/**
+ * Bench runs and revision grades in the database. Grades are never typed in: they are
+ * always what the level engine (src/lib/levels) computes from the stored readings.
+ * Free of `$lib`/`$env` imports so the seed and jobs can use it under tsx.
+ */
+import { and, eq, inArray } from 'drizzle-orm';
+import type { PgDatabase, PgQueryResultHKT } from 'drizzle-orm/pg-core';
+import { aggregateRuns, analyzeLevels, type LevelReport } from '../levels/index';
+import * as t from './db/schema';
+
+// Accepts both the pool-level db and a transaction.
+// eslint-disable-next-line @typescript-eslint/no-explicit-any
+type Db = PgDatabase<PgQueryResultHKT, typeof t, any>;
+
+export interface Reading {
+	ire: number;
+	r: number;
+	g: number;
+	b: number;
+}
+
+export interface NewBenchRun {
+	revisionId: number;
+	status: t.RunStatus;
+	measuredBy: string;
+	submittedById: string | null;
+	measuredOn: string;
+	testSource: string;
+	pattern?: string;
+	instrument: string;
+	termination: '75-ohm' | 'unterminated' | 'unknown';
+	fullScaleMv: number;
+	notes?: string;
+	traceFileId?: string | null;
+	readings: Reading[];
+}
+
+/**
+ * Analyse the readings and store the run with its report. Throws the engine's
+ * LevelInputError (nothing stored) when the readings cannot be graded.
+ */
+export async function recordBenchRun(db: Db, run: NewBenchRun): Promise<{ id: number; report: LevelReport }> {
+	const report = analyzeLevels({ steps: run.readings, fullScaleMv: run.fullScaleMv });
+	const [row] = await db
+		.insert(t.benchRuns)
+		.values({
+			revisionId: run.revisionId,
+			status: run.status,
+			measuredBy: run.measuredBy,
+			submittedById: run.submittedById,
+			measuredOn: run.measuredOn,
+			testSource: run.testSource,
+			pattern: run.pattern,
+			instrument: run.instrument,
+			termination: run.termination,
+			fullScaleMv: run.fullScaleMv,
+			notes: run.notes ?? '',
+			traceFileId: run.traceFileId ?? null,
+			report,
+			band: report.band,
+			score: report.score,
+			rubricVersion: report.rubricVersion
+		})
+		.returning({ id: t.benchRuns.id });
+	await db.insert(t.benchReadings).values(
+		run.readings.map((s) => ({ benchRunId: row.id, ire: s.ire, rMv: s.r, gMv: s.g, bMv: s.b }))
+	);
+	return { id: row.id, report };
+}
+
+/** Recompute a revision's cached grade from its accepted bench runs. */
+export async function regradeRevision(db: Db, revisionId: number, now = new Date()) {
+	const runs = await db
+		.select({ id: t.benchRuns.id, fullScaleMv: t.benchRuns.fullScaleMv })
+		.from(t.benchRuns)
+		.where(and(eq(t.benchRuns.revisionId, revisionId), eq(t.benchRuns.status, 'accepted')));
+	if (runs.length === 0) {
+		await db
+			.update(t.revisions)
+			.set({ band: null, score: null, scoreMin: null, scoreMax: null, runCount: 0, gradedAt: now, updatedAt: now })
+			.where(eq(t.revisions.id, revisionId));
+		return null;
+	}
+	const readings = await db
+		.select()
+		.from(t.benchReadings)
+		.where(inArray(t.benchReadings.benchRunId, runs.map((r) => r.id)));
+	const reports = runs.map((run) =>
+		analyzeLevels({
+			steps: readings
+				.filter((x) => x.benchRunId === run.id)
+				.map((x) => ({ ire: x.ire, r: x.rMv, g: x.gMv, b: x.bMv })),
+			fullScaleMv: run.fullScaleMv
+		})
+	);
+	const agg = aggregateRuns(reports);
+	await db
+		.update(t.revisions)
+		.set({
+			band: agg.band,
+			score: agg.medianScore,
+			scoreMin: agg.minScore,
+			scoreMax: agg.maxScore,
+			runCount: agg.count,
+			rubricVersion: agg.rubricVersion,
+			gradedAt: now,
+			updatedAt: now
+		})
+		.where(eq(t.revisions.id, revisionId));
+	return agg;
+}
