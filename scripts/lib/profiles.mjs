@@ -48,7 +48,7 @@ export function appEnv(p, authSecret) {
 		SHOPS_PORT: String(p.shopsPort),
 		SHOPS_CONTROL_URL: `http://127.0.0.1:${p.shopsPort}`,
 		FEED_ALLOW_PRIVATE: 'true',
-		ADMIN_EMAILS: 'admin@scopegrade.test',
+		ADMIN_EMAILS: 'admin@scopegrade.test,owner@scopegrade.test',
 		PUBLIC_BASE_URL: p.origin
 	};
 }

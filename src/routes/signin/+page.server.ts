@@ -1,6 +1,7 @@
 import { fail, redirect } from '@sveltejs/kit';
 import { z } from 'zod';
 import { signIn } from '$lib/server/auth/config';
+import { withForm } from '$lib/server/auth/forward';
 import type { Actions, PageServerLoad } from './$types';
 
 const SignInForm = z.object({
@@ -25,11 +26,6 @@ export const actions: Actions = {
 			return fail(400, { email: String(form.get('email') ?? ''), error: parsed.error.issues[0].message });
 		}
 		// Auth.js reads providerId, email and redirectTo from the posted form.
-		const body = new FormData();
-		body.set('providerId', 'nodemailer');
-		body.set('email', parsed.data.email);
-		body.set('redirectTo', parsed.data.next);
-		const request = new Request(event.request.url, { method: 'POST', headers: event.request.headers, body });
-		await signIn({ ...event, request });
+		await signIn(withForm(event, { providerId: 'nodemailer', email: parsed.data.email, redirectTo: parsed.data.next }));
 	}
 };

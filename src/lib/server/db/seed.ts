@@ -5,7 +5,7 @@
  * key, and child rows (bench runs, history) are only added for parents this call created.
  * A second run changes nothing, and nothing a user added or edited is touched.
  */
-import { eq, sql } from 'drizzle-orm';
+import { and, eq, sql } from 'drizzle-orm';
 import type { Database } from './client';
 import * as t from './schema';
 import {
@@ -243,12 +243,16 @@ export async function seedDemo(db: Database, opts: SeedOptions): Promise<SeedSum
 			});
 		}
 
+		// Rates are added only for currencies with no rate yet: an admin's rates are never touched.
 		const day = now.toISOString().slice(0, 10);
 		for (const [quote, rate] of Object.entries(DEMO_RATES_PER_EUR)) {
-			await tx
-				.insert(t.exchangeRates)
-				.values({ base: 'EUR', quote, day, rate: String(rate), source: 'demo' })
-				.onConflictDoNothing();
+			const known = await tx
+				.select({ day: t.exchangeRates.day })
+				.from(t.exchangeRates)
+				.where(and(eq(t.exchangeRates.base, 'EUR'), eq(t.exchangeRates.quote, quote)))
+				.limit(1);
+			if (known.length) continue;
+			await tx.insert(t.exchangeRates).values({ base: 'EUR', quote, day, rate: String(rate), source: 'demo' });
 		}
 	});
 

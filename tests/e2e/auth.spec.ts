@@ -1,0 +1,50 @@
+import { expect, test } from '@playwright/test';
+import { signIn } from './support/inbox';
+
+test('a visitor signs in through the e-mailed link and sees the signed-in state', async ({ page }) => {
+	const email = `visitor-${Date.now()}@example.test`;
+	await signIn(page, email);
+	await expect(page).toHaveURL(/\/account$/);
+	await expect(page.getByTestId('signed-in-as')).toContainText(email);
+	await expect(page.getByTestId('signed-in-as')).toContainText('member');
+
+	// Signing out ends the session.
+	await page.getByRole('main').getByRole('button', { name: 'Sign out' }).click();
+	await page.goto('/account');
+	await expect(page).toHaveURL(/\/signin\?next=%2Faccount/);
+});
+
+test('a signed-out visitor is sent to sign in from protected pages, and the API answers 401', async ({ page, request }) => {
+	await page.goto('/curate');
+	await expect(page).toHaveURL(/\/signin\?next=%2Fcurate/);
+	const api = await request.get('/api/v1/curate/summary');
+	expect(api.status()).toBe(401);
+});
+
+test('a member gets 403 from curator pages and the curator API', async ({ page }) => {
+	await signIn(page, `member-${Date.now()}@example.test`);
+	const res = await page.goto('/curate');
+	expect(res?.status()).toBe(403);
+	const admin = await page.goto('/admin');
+	expect(admin?.status()).toBe(403);
+	const api = await page.request.get('/api/v1/curate/summary');
+	expect(api.status()).toBe(403);
+});
+
+test('the demo curator reaches the workspace and the curator API, but not admin', async ({ page }) => {
+	await signIn(page, 'curator@scopegrade.test');
+	const res = await page.goto('/curate');
+	expect(res?.status()).toBe(200);
+	await expect(page.getByRole('heading', { name: 'Curator workspace' })).toBeVisible();
+	const api = await page.request.get('/api/v1/curate/summary');
+	expect(api.status()).toBe(200);
+	expect(await api.json()).toMatchObject({ pendingRuns: expect.any(Number), listings: 16 });
+	const admin = await page.goto('/admin');
+	expect(admin?.status()).toBe(403);
+});
+
+test('an address in ADMIN_EMAILS gets the admin role', async ({ page }) => {
+	await signIn(page, 'owner@scopegrade.test');
+	const res = await page.goto('/admin');
+	expect(res?.status()).toBe(200);
+});

@@ -1,0 +1,55 @@
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import postgres from 'postgres';
+import { applyMigrations } from '../../src/lib/server/db/migrate';
+import { createEmptyDatabase } from './helpers/db';
+
+describe('migrations', () => {
+	let url: string;
+	let sql: postgres.Sql;
+
+	beforeAll(async () => {
+		url = await createEmptyDatabase('sg_it_migrations');
+		await applyMigrations(url);
+		sql = postgres(url, { max: 1, onnotice: () => {} });
+	});
+	afterAll(async () => sql?.end());
+
+	it('create every table of the domain on an empty database', async () => {
+		const rows = await sql<{ table_name: string }[]>`
+			select table_name from information_schema.tables where table_schema = 'public' order by 1`;
+		const names = rows.map((r) => r.table_name);
+		for (const table of [
+			'user', 'account', 'session', 'verificationToken', 'member_pref',
+			'chip', 'converter', 'revision', 'bench_run', 'bench_reading', 'file',
+			'shop', 'listing', 'listing_state', 'observation', 'stock_event', 'poll_count', 'exchange_rate',
+			'teardown_report', 'watch', 'alert_outbox', 'guide', 'guide_pick', 'audit_log'
+		]) {
+			expect(names, `table ${table}`).toContain(table);
+		}
+	});
+
+	it('apply a second time as a no-op', async () => {
+		await expect(applyMigrations(url)).resolves.toBeUndefined();
+	});
+
+	it('reject readings outside 0-2000 mV and IRE steps that are not multiples of 10', async () => {
+		await sql`insert into chip (slug, name, maker) values ('c', 'C', 'M')`;
+		await sql`insert into converter (slug, brand, model) values ('x-one', 'X', 'One')`;
+		const [rev] = await sql`insert into revision (converter_id, code, chip_id)
+			select c.id, 'A', ch.id from converter c, chip ch returning id`;
+		const [run] = await sql`insert into bench_run (revision_id, measured_by, measured_on, test_source, instrument)
+			values (${rev.id}, 'tester', '2026-01-01', 'src', 'scope') returning id`;
+		await expect(sql`insert into bench_reading values (${run.id}, 15, 1, 1, 1)`).rejects.toThrow(/bench_reading_ire_step/);
+		await expect(sql`insert into bench_reading values (${run.id}, 10, -5, 70, 70)`).rejects.toThrow(/bench_reading_mv_range/);
+		await expect(sql`insert into bench_reading values (${run.id}, 10, 70, 70, 2500)`).rejects.toThrow(/bench_reading_mv_range/);
+		await sql`insert into bench_reading values (${run.id}, 10, 70, 70, 70)`;
+		await expect(sql`insert into bench_reading values (${run.id}, 10, 71, 71, 71)`).rejects.toThrow(/duplicate key/);
+	});
+
+	it('reject a stock state or band outside the enums', async () => {
+		await expect(sql`select 'sold'::stock_state`).rejects.toThrow(/invalid input value/);
+		await expect(sql`select 'great'::band`).rejects.toThrow(/invalid input value/);
+		const states = await sql`select unnest(enum_range(null::stock_state))::text as s`;
+		expect(states.map((r) => r.s)).toEqual(['in_stock', 'out_of_stock', 'preorder', 'backorder', 'discontinued', 'unknown']);
+	});
+});
