@@ -27,7 +27,7 @@ export interface RobotsRules {
 	reason?: string;
 }
 
-/** RFC 9309 section 2.5: crawlers must parse at least 500 KiB; we read 512 KiB and ignore the rest. */
+/** RFC 9309 section 2.5: parse at least 500 KiB. We keep 512 Ki characters (octets for an ASCII file) and ignore the rest. */
 export const ROBOTS_MAX_BYTES = 512 * 1024;
 /** RFC 9309 section 2.4: do not use a cached robots.txt for more than 24 hours. */
 export const ROBOTS_MAX_CACHE_MS = 24 * 60 * 60 * 1000;
