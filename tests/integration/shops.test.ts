@@ -227,6 +227,28 @@ describe('faults', () => {
 	});
 });
 
+describe('timed faults from the scenario file', () => {
+	it('a timeline 429 is active only inside its window', async () => {
+		await control('POST', '/clock', { minutes: 485 });
+		const res = await get('thamesbit', '/item/beam-bridge-pro');
+		expect(res.status).toBe(429);
+		expect(res.headers.get('retry-after')).toBe('300');
+		expect((await control('GET', '/state')).json.faults).toEqual([expect.objectContaining({ kind: 'http429', source: 'timeline' })]);
+		await control('POST', '/clock', { minutes: 490 });
+		expect((await get('thamesbit', '/item/beam-bridge-pro')).status).toBe(200);
+	});
+
+	it('a 500 on robots.txt maps to complete disallow (RFC 9309 2.3.1.4)', async () => {
+		await control('POST', '/clock', { minutes: 565 });
+		const res = await get('northbay-circuits', '/robots.txt');
+		expect(res.status).toBe(500);
+		const rules = robotsFromFetch({ status: res.status, body: await res.text() });
+		expect(isAllowed(rules, UA, '/products/scanlet')).toBe(false);
+		// The pages themselves still answer: it is the poller's job to hold back.
+		expect((await get('northbay-circuits', '/products/scanlet')).status).toBe(200);
+	});
+});
+
 describe('conditional requests and the request log', () => {
 	it('If-None-Match with the ETag gets 304 with no body (RFC 9110 13.1.2, 15.4.5)', async () => {
 		const first = await get('northbay-circuits', '/products/loop-rgb');

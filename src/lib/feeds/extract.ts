@@ -192,11 +192,10 @@ function readJsonLd($: CheerioRoot): ReaderResult {
 				if (offerNodes.length > 1) notes.push(`JSON-LD has ${offerNodes.length} offers; read the first priced one`);
 				return { ok: true, offer: { price: f.price, currency: f.currency, availability: f.availability, title: name === undefined ? undefined : String(name), notes } };
 			}
-			if (product) {
-				return { ok: false, kind: 'no-price', reason: 'no price found: the JSON-LD Product has no Offer with a price' };
-			}
+			// A priceless Product (say, a related item) may sit beside the real one: keep looking.
 		}
 	}
+	if (sawProduct) return { ok: false, kind: 'no-price', reason: 'no price found: the JSON-LD Product has no Offer with a price' };
 	if (broken.length) return { ok: false, kind: 'unreadable', reason: broken[0] };
 	return { ok: false, kind: 'no-price', reason: 'no price found: JSON-LD present but it holds no Product or Offer' };
 }

@@ -42,6 +42,12 @@ describe('JSON-LD (W3C JSON-LD 1.1 embedding; schema.org 30.0 Offer)', () => {
 		expect(extractOffer({ body, format: 'jsonld' })).toMatchObject({ ok: true, priceMinor: 2499 });
 	});
 
+	it('a Product without a price is a no-price failure; a priced one beside it still wins', () => {
+		const bare = { '@context': 'https://schema.org', '@type': 'Product', name: 'Related item' };
+		expect(extractOffer({ body: doc(ld(bare), ''), format: 'jsonld' })).toMatchObject({ ok: false, kind: 'no-price', reason: 'no price found: the JSON-LD Product has no Offer with a price' });
+		expect(extractOffer({ body: doc(ld([bare, product]), ''), format: 'jsonld' })).toMatchObject({ ok: true, priceMinor: 2499, title: 'Vantacove Beam Bridge' });
+	});
+
 	it('missing priceCurrency is a no-currency failure, not a guess', () => {
 		const p = { ...product, offers: { '@type': 'Offer', price: '24.99', availability: 'https://schema.org/InStock' } };
 		const r = extractOffer({ body: doc(ld(p), ''), format: 'jsonld', expectedCurrency: 'USD' });
