@@ -133,7 +133,9 @@ function findSteps(time: number[], mv: number[], name: string): { plateaus: Trac
 	// First differences are noise almost everywhere (edges are few): a robust
 	// sigma of them, over sqrt(2), is the sample noise.
 	const sigma = robustSigma(diffs) / Math.SQRT2;
-	const w = Math.max(5, (Math.round(n / 300) >> 1) * 2 + 1);
+	// Window grows with the sample rate but is capped: past ~21 samples a
+	// wider median only costs time.
+	const w = Math.min(21, Math.max(5, (Math.round(n / 300) >> 1) * 2 + 1));
 	const h = (w - 1) >> 1;
 	const s = runningMedian(mv, w);
 	const flatThr = Math.max(4 * sigma, 1.5);
