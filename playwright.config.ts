@@ -33,7 +33,7 @@ export default defineConfig({
 		}
 	},
 	webServer: {
-		command: 'node build',
+		command: `node ${process.env.SG_BUILD_DIR || 'build'}`,
 		url: `${origin}/`,
 		reuseExistingServer: false,
 		timeout: 60_000,

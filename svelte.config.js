@@ -5,7 +5,8 @@ import { vitePreprocess } from '@sveltejs/vite-plugin-svelte';
 const config = {
 	preprocess: vitePreprocess(),
 	kit: {
-		adapter: adapter({ out: 'build' })
+		// The test run builds into its own folder so it never swaps files under a running `npm start`.
+		adapter: adapter({ out: process.env.SG_BUILD_DIR || 'build' })
 	}
 };
 

@@ -41,6 +41,7 @@ async function main() {
 	const env = {
 		...process.env,
 		...appEnv(p, 'test-secret-not-for-production-0123456789'),
+		SG_BUILD_DIR: resolve(p.dataDir, 'build'),
 		TEST_DATABASE_URL: p.databaseUrl,
 		TEST_ADMIN_DATABASE_URL: p.adminUrl
 	};

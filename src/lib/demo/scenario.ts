@@ -194,6 +194,35 @@ export const SHOP_SELECTORS: Record<string, { price: string; stock: string; curr
 	'wattle-and-wire': { price: '#buy-box [data-price]', stock: '#buy-box .availability', currency: '#buy-box [data-currency]', title: 'h1.product-title' }
 };
 
+/** JSON mapping the curator set for the API shop (dot paths into its product document). */
+export const SHOP_API_MAPPINGS: Record<
+	string,
+	{
+		price: string;
+		currency?: string;
+		fixedCurrency?: string;
+		stock: string;
+		stockValues?: Record<string, DemoStock>;
+		priceScale?: 'major' | 'minor';
+		title?: string;
+	}
+> = {
+	'kumo-parts': {
+		price: 'price_yen',
+		currency: 'currency',
+		stock: 'stock.status',
+		stockValues: {
+			available: 'in_stock',
+			none: 'out_of_stock',
+			backorder: 'backorder',
+			preorder: 'preorder',
+			discontinued: 'discontinued'
+		},
+		priceScale: 'major',
+		title: 'name'
+	}
+};
+
 export interface DemoListing {
 	shop: string;
 	converter: string;

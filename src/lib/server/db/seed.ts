@@ -15,6 +15,7 @@ import {
 	DEMO_RATES_PER_EUR,
 	LISTINGS,
 	SHOPS,
+	SHOP_API_MAPPINGS,
 	SHOP_SELECTORS,
 	demoReadings,
 	seededRandom,
@@ -153,8 +154,8 @@ export async function seedDemo(db: Database, opts: SeedOptions): Promise<SeedSum
 			const baseUrl = shopBaseUrl(s.portOffset, opts);
 			const selectors = SHOP_SELECTORS[s.slug];
 			const feedConfig =
-				s.format === 'api'
-					? { apiMapping: { price: 'price_yen', fixedCurrency: s.currency, stock: 'stock.status', priceScale: 'minor' } }
+				s.format === 'api' && SHOP_API_MAPPINGS[s.slug]
+					? { apiMapping: SHOP_API_MAPPINGS[s.slug] }
 					: selectors
 						? { selectors }
 						: {};
