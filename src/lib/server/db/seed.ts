@@ -22,6 +22,7 @@ import {
 	type DemoListing
 } from '../../demo/scenario';
 import { recordBenchRun, regradeRevision } from '../grading';
+import { isBuyable } from '../../pricing';
 
 export interface SeedOptions {
 	/** Base port of the fake shops: shop N listens on shopsPort + its portOffset. */
@@ -260,10 +261,6 @@ export async function seedDemo(db: Database, opts: SeedOptions): Promise<SeedSum
 	return summary;
 }
 
-/** In stock and preorder can be bought now; the rest cannot. */
-export function isBuyable(stock: t.StockState): boolean {
-	return stock === 'in_stock' || stock === 'preorder';
-}
 
 /**
  * Deterministic synthetic history for one listing: a few sell-outs, restocks and price moves
