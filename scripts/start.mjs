@@ -45,7 +45,8 @@ for (const [what, port] of [
 	['app', p.appPort],
 	['inbox', p.inboxPort],
 	['SMTP', p.smtpPort],
-	['fake shops', p.shopsPort]
+	['fake shops', p.shopsPort],
+	['fake S3', p.s3Port]
 ]) {
 	if (!(await portIsFree(port))) {
 		console.error(`Port ${port} (${what}) is already in use by another program. Free it and start again.`);
@@ -89,8 +90,10 @@ try {
 
 	const mail = startService('mail', tsx, ['fixtures/mail/server.ts'], { cwd: ROOT, env });
 	const shops = startService('shops', tsx, ['fixtures/shops/server.ts'], { cwd: ROOT, env });
-	children.push(mail, shops);
+	const s3 = startService('s3', tsx, ['fixtures/s3/server.ts'], { cwd: ROOT, env });
+	children.push(mail, shops, s3);
 	await waitForHttp(`http://127.0.0.1:${p.inboxPort}/api/health`, 30_000, mail);
+	await waitForHttp(`http://127.0.0.1:${p.s3Port}/`, 30_000, s3);
 	const app = startService('app', process.execPath, ['build'], { cwd: ROOT, env });
 	const jobs = startService('jobs', tsx, ['jobs/index.ts'], { cwd: ROOT, env });
 	children.push(app, jobs);
@@ -107,6 +110,7 @@ try {
   Scopegrade is running (demo data, invented shops and brands):
     app          ${p.origin}/
     local inbox  http://127.0.0.1:${p.inboxPort}/   (sign-in links and alerts land here)
+    fake S3      http://127.0.0.1:${p.s3Port}/   (uploads; bucket scopegrade)
     fake shops   control http://127.0.0.1:${p.shopsPort}/state, shops on ports ${p.shopsPort + 1}-${p.shopsPort + 5}
     database     ${p.databaseUrl}
   Demo sign-in: curator@scopegrade.test (curator), admin@scopegrade.test (admin), any other address (member).

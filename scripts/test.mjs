@@ -27,7 +27,7 @@ function readJson(file) {
 }
 
 async function main() {
-	for (const port of [p.appPort, p.inboxPort, p.smtpPort, p.shopsPort]) {
+	for (const port of [p.appPort, p.inboxPort, p.smtpPort, p.shopsPort, p.s3Port]) {
 		if (!(await portIsFree(port))) throw new Error(`port ${port} is in use: is another test run going on?`);
 	}
 	ensureNodeModules();
@@ -50,8 +50,12 @@ async function main() {
 
 	const mail = startService('mail', tsx, ['fixtures/mail/server.ts'], { cwd: ROOT, env });
 	const shops = startService('shops', tsx, ['fixtures/shops/server.ts'], { cwd: ROOT, env });
-	children.push(mail, shops);
+	// Fresh fake S3 folder per run, like the fresh databases.
+	rmSync(resolve(p.dataDir, 's3'), { recursive: true, force: true });
+	const s3 = startService('s3', tsx, ['fixtures/s3/server.ts'], { cwd: ROOT, env });
+	children.push(mail, shops, s3);
 	await waitForHttp(`http://127.0.0.1:${p.inboxPort}/api/health`, 30_000, mail);
+	await waitForHttp(`http://127.0.0.1:${p.s3Port}/`, 30_000, s3);
 
 	if (want('unit')) {
 		log('vitest: unit and integration tests');

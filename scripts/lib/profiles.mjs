@@ -9,8 +9,8 @@ export const ROOT = resolve(fileURLToPath(new URL('../..', import.meta.url)));
 export function profile(name) {
 	const p =
 		name === 'dev'
-			? { pgPort: 54330, database: 'scopegrade', appPort: 4300, inboxPort: 4301, smtpPort: 4325, shopsPort: 4310 }
-			: { pgPort: 54340, database: 'scopegrade_test', appPort: 4400, inboxPort: 4401, smtpPort: 4425, shopsPort: 4410 };
+			? { pgPort: 54330, database: 'scopegrade', appPort: 4300, inboxPort: 4301, smtpPort: 4325, shopsPort: 4310, s3Port: 4320 }
+			: { pgPort: 54340, database: 'scopegrade_test', appPort: 4400, inboxPort: 4401, smtpPort: 4425, shopsPort: 4410, s3Port: 4420 };
 	const dataDir = resolve(ROOT, '.data', name);
 	const pgUser = 'scopegrade';
 	const pgPassword = 'scopegrade-local';
@@ -48,6 +48,14 @@ export function appEnv(p, authSecret) {
 		SHOPS_PORT: String(p.shopsPort),
 		SHOPS_CONTROL_URL: `http://127.0.0.1:${p.shopsPort}`,
 		FEED_ALLOW_PRIVATE: 'true',
+		// Object storage: the local fake S3 (fixtures/s3/server.ts) accepts S3RVER/S3RVER.
+		S3_PORT: String(p.s3Port),
+		S3_DIR: resolve(p.dataDir, 's3'),
+		S3_ENDPOINT: `http://127.0.0.1:${p.s3Port}`,
+		S3_BUCKET: 'scopegrade',
+		S3_REGION: 'us-east-1',
+		S3_ACCESS_KEY_ID: 'S3RVER',
+		S3_SECRET_ACCESS_KEY: 'S3RVER',
 		ADMIN_EMAILS: 'admin@scopegrade.test,owner@scopegrade.test',
 		PUBLIC_BASE_URL: p.origin
 	};
