@@ -64,6 +64,7 @@ export interface Finding {
 		| 'channel-high'
 		| 'channel-low'
 		| 'tint'
+		| 'levels-off'
 		| 'visible-difference';
 	severity: FindingSeverity;
 	text: string;
@@ -460,6 +461,19 @@ function buildFindings(r: LevelReport, whiteMedian: number): Finding[] {
 	if (!channelFinding && (r.tint.white.direction !== 'neutral' || r.tint.midGrey.direction !== 'neutral')) {
 		const strongest = [r.tint.white, r.tint.midGrey].some((t) => t.size === 'clear' || t.size === 'strong');
 		out.push({ code: 'tint', severity: strongest ? 'warning' : 'info', text: r.tint.summary });
+	}
+
+	// Below Close with nothing above to explain why: name the worst step, so a buyer never
+	// sees a poor grade without the numbers behind it.
+	if (r.band !== 'exact' && r.band !== 'close' && !unterminated && !out.some((f) => f.severity === 'warning' || f.severity === 'critical')) {
+		const w = r.worstDeviation;
+		const expected = w.mv - w.deviationMv;
+		const low = w.deviationMv < 0;
+		out.push({
+			code: 'levels-off',
+			severity: 'warning',
+			text: `Levels run ${low ? 'low' : 'high'}: ${CHANNEL_NAMES[w.channel]} reads ${fmt(w.mv)} mV at ${w.ire} IRE where ${fmt(expected)} mV is expected (${fmt(Math.abs(w.deviationMv) / r.mvPerIre)} IRE ${low ? 'under' : 'over'}). The picture looks ${low ? 'a little dim and flat' : 'a little harsh, with bright detail crowding together'}.`
+		});
 	}
 
 	if (r.worstDeltaE00 > F.visibleDeltaE00) {

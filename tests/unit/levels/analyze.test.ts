@@ -309,3 +309,20 @@ describe('bad input', () => {
 		}
 	});
 });
+
+describe('findings explain every grade below Close', () => {
+	it('a uniform 3 % shortfall (fair) names the worst step and its numbers (7 mV per IRE: common practice)', () => {
+		// 0.97 x expected everywhere: 679 mV at 100 IRE is 21 mV = 3.0 IRE under 700 mV.
+		const r = analyzeLevels(ramp((i) => [6.79 * i, 6.79 * i, 6.79 * i]));
+		expect(r.band).toBe('fair');
+		const f = r.findings.find((x) => x.code === 'levels-off');
+		expect(f?.severity).toBe('warning');
+		expect(f?.text).toContain('679 mV at 100 IRE where 700 mV is expected');
+		expect(f?.text).toContain('3 IRE under');
+	});
+	it('adds no such finding when another one already explains the grade', () => {
+		const r = analyzeLevels(perfectExcept(10, [27, 27, 27]));
+		expect(codes(r)).toContain('shadows-dark');
+		expect(codes(r)).not.toContain('levels-off');
+	});
+});
