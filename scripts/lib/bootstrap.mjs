@@ -1,7 +1,7 @@
 // What both README commands do first: system packages, npm packages, a local PostgreSQL.
 import { createHash, randomBytes } from 'node:crypto';
 import { chmodSync, existsSync, mkdirSync, readFileSync, readdirSync, writeFileSync } from 'node:fs';
-import { resolve } from 'node:path';
+import { dirname, resolve } from 'node:path';
 import { ROOT } from './profiles.mjs';
 import { capture, log, run } from './run.mjs';
 
@@ -67,11 +67,14 @@ export async function startCluster(p, { fast = false } = {}) {
 	mkdirSync(p.dataDir, { recursive: true });
 	chmodSync(resolve(ROOT, '.data'), 0o755);
 	chmodSync(p.dataDir, 0o755);
+	const home = dirname(p.pgDataDir);
+	mkdirSync(home, { recursive: true });
+	chmodSync(home, 0o755);
 	if (!existsSync(resolve(p.pgDataDir, 'PG_VERSION'))) {
 		log(`creating a PostgreSQL cluster in ${p.pgDataDir}…`);
 		mkdirSync(p.pgDataDir, { recursive: true, mode: 0o700 });
 		chmodSync(p.pgDataDir, 0o700);
-		const pwfile = resolve(p.dataDir, 'pgpass.tmp');
+		const pwfile = `/tmp/sg-pwfile-${p.pgPort}`; // /tmp: readable by postgres wherever the checkout is
 		writeFileSync(pwfile, p.pgPassword + '\n', { mode: 0o644 });
 		chownToPostgres(p.pgDataDir);
 		chownToPostgres(pwfile);

@@ -1,9 +1,29 @@
 // Ports and names for the two ways the product runs on one machine. Development and tests
 // use different ports and clusters, so the test suite can run while `npm start` is up.
-import { resolve } from 'node:path';
+import { createHash } from 'node:crypto';
+import { statSync } from 'node:fs';
+import { dirname, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 
 export const ROOT = resolve(fileURLToPath(new URL('../..', import.meta.url)));
+
+/**
+ * PostgreSQL runs as the `postgres` user, which must be able to reach its data folder.
+ * When some folder above the checkout is closed to others (a checkout under /root, say),
+ * the cluster lives in /var/tmp instead, keyed by the checkout path.
+ */
+function clusterHome(dataDir) {
+	for (let dir = ROOT; ; dir = dirname(dir)) {
+		try {
+			if ((statSync(dir).mode & 0o001) === 0) break;
+		} catch {
+			break;
+		}
+		if (dir === dirname(dir)) return dataDir;
+	}
+	const key = createHash('sha256').update(ROOT).digest('hex').slice(0, 12);
+	return resolve('/var/tmp', `scopegrade-${key}`, dataDir.split('/').pop());
+}
 
 /** @param {'dev' | 'test'} name */
 export function profile(name) {
@@ -18,8 +38,8 @@ export function profile(name) {
 		name,
 		...p,
 		dataDir,
-		pgDataDir: resolve(dataDir, 'pg'),
-		pgLog: resolve(dataDir, 'postgres.log'),
+		pgDataDir: resolve(clusterHome(dataDir), 'pg'),
+		pgLog: resolve(clusterHome(dataDir), 'postgres.log'),
 		// Short socket path: Unix sockets must stay under ~100 characters.
 		pgSocketDir: `/tmp/sg-pg-${p.pgPort}`,
 		pgUser,
