@@ -401,9 +401,14 @@ export const listingStates = pgTable(
 		currentPriceMinor: bigint('current_price_minor', { mode: 'number' }),
 		currentCurrency: char('current_currency', { length: 3 }),
 		currentStock: stockStateEnum('current_stock').notNull().default('unknown'),
-		currentSince: timestamp('current_since', { withTimezone: true })
+		currentSince: timestamp('current_since', { withTimezone: true }),
+		/** 404 answers in a row; the poller marks the listing delisted after a few (see polling/config.ts). */
+		consecutiveNotFound: integer('consecutive_not_found').notNull().default(0)
 	},
-	(t) => [index('listing_state_due_idx').on(t.nextPollAt)]
+	(t) => [
+		index('listing_state_due_idx').on(t.nextPollAt),
+		index('listing_state_requested_idx').on(t.pollRequestedAt).where(sql`${t.pollRequestedAt} is not null`)
+	]
 );
 
 /** A change point: a row is written only when price, currency or stock state change. */
@@ -466,6 +471,19 @@ export const pollCounts = pgTable(
 	},
 	(t) => [primaryKey({ columns: [t.shopId, t.day, t.outcome] })]
 );
+
+/**
+ * Shop-wide polling state that every poller worker must see: a pause after a 429/503 with
+ * Retry-After (RFC 9110 section 10.2.3), which stops all of the shop's listings, "poll now" included.
+ */
+export const shopPollStates = pgTable('shop_poll_state', {
+	shopId: integer('shop_id')
+		.primaryKey()
+		.references(() => shops.id, { onDelete: 'cascade' }),
+	pausedUntil: timestamp('paused_until', { withTimezone: true }),
+	pauseReason: text('pause_reason'),
+	updatedAt: updatedAt()
+});
 
 /** Dated exchange rates: 1 unit of `base` buys `rate` units of `quote`. */
 export const exchangeRates = pgTable(
