@@ -1,0 +1,220 @@
+/**
+ * The public guide's catalogue rules: what a catalogue entry is, how the catalogue filters
+ * and sorts, and how the finder ranks and explains its picks. Pure and browser-safe: the
+ * server builds entries from cached grades and the pricing helpers, this module only reads
+ * them (it never recomputes a grade or a price).
+ */
+import { BANDS, bandRank, type Band } from './components/bands';
+import { formatMoney, isBuyable, REGION_CODES, REGION_LABELS, type Region, type StockState } from './pricing';
+
+export const POWER_KINDS = ['usb-bus', 'usb-adapter', 'barrel'] as const;
+export type PowerKind = (typeof POWER_KINDS)[number];
+export const POWER_LABELS: Record<PowerKind, string> = {
+	'usb-bus': 'USB bus power',
+	'usb-adapter': 'USB power adapter',
+	barrel: 'Barrel power input'
+};
+export const SORTS = ['band', 'price', 'name'] as const;
+export type CatalogueSort = (typeof SORTS)[number];
+
+export interface CatalogueRevision {
+	id: number;
+	code: string;
+	chip: string;
+	chipSlug: string;
+	boardMarking: string;
+	band: Band | null;
+	score: number | null;
+	runs: number;
+	retired: boolean;
+	seenFrom: string | null;
+	seenTo: string | null;
+}
+
+export interface CatalogueOffer {
+	listingId: number;
+	shopSlug: string;
+	shopName: string;
+	shopRegion: Region;
+	url: string;
+	priceMinor: number | null;
+	currency: string | null;
+	/** Price in the visitor's display currency (null when unknown or no rate). */
+	displayMinor: number | null;
+	displayCurrency: string;
+	stock: StockState;
+	lastCheckedAt: string | null;
+}
+
+export interface CatalogueEntry {
+	id: number;
+	slug: string;
+	brand: string;
+	model: string;
+	summary: string;
+	hasAudioOut: boolean;
+	power: PowerKind;
+	outputs: string[];
+	lastReviewedAt: string | null;
+	revisions: CatalogueRevision[];
+	/** Best band over current (non-retired) revisions, null when none is graded. */
+	bestBand: Band | null;
+	bestScore: number | null;
+	/** Listings at shops serving the region, cheapest buyable first, then the rest. */
+	offers: CatalogueOffer[];
+	/** The cheapest buyable offer in the region (from pricing.bestOfferByConverter). */
+	best: CatalogueOffer | null;
+	/** Shops in the region with the converter in stock now. */
+	inStockShops: number;
+}
+
+/** The lead band of a converter: the best over its current revisions. */
+export function leadGrade(revisions: CatalogueRevision[]): { band: Band | null; score: number | null } {
+	let band: Band | null = null;
+	let score: number | null = null;
+	for (const r of revisions) {
+		if (r.retired || !r.band) continue;
+		const better = band === null || bandRank(r.band) < bandRank(band) || (r.band === band && (r.score ?? -1) > (score ?? -1));
+		if (better) {
+			band = r.band;
+			score = r.score;
+		}
+	}
+	return { band, score };
+}
+
+/** True when any current revision is `min` or better. */
+export function meetsBand(entry: Pick<CatalogueEntry, 'revisions'>, min: Band): boolean {
+	return entry.revisions.some((r) => !r.retired && r.band !== null && bandRank(r.band) <= bandRank(min));
+}
+
+/** True when the current revisions do not all share one band: a buyer may get either. */
+export function bandsDiffer(entry: Pick<CatalogueEntry, 'revisions'>): boolean {
+	const current = entry.revisions.filter((r) => !r.retired);
+	return new Set(current.map((r) => r.band ?? 'none')).size > 1;
+}
+
+export interface CatalogueFilter {
+	minBand?: Band;
+	/** In minor units of the display currency. */
+	priceMin?: number;
+	priceMax?: number;
+	inStock?: boolean;
+	audio?: boolean;
+	power?: PowerKind;
+	sort?: CatalogueSort;
+}
+
+/** Apply the catalogue filters (band, price, stock, audio, power), then sort. */
+export function filterCatalogue(entries: CatalogueEntry[], f: CatalogueFilter): CatalogueEntry[] {
+	const hit = entries.filter((e) => {
+		if (f.minBand && !meetsBand(e, f.minBand)) return false;
+		if (f.audio && !e.hasAudioOut) return false;
+		if (f.power && e.power !== f.power) return false;
+		if (f.inStock && e.inStockShops === 0) return false;
+		if (f.priceMin != null || f.priceMax != null) {
+			const p = e.best?.displayMinor;
+			if (p == null) return false;
+			if (f.priceMin != null && p < f.priceMin) return false;
+			if (f.priceMax != null && p > f.priceMax) return false;
+		}
+		return true;
+	});
+	return sortCatalogue(hit, f.sort ?? 'band');
+}
+
+const byName = (a: CatalogueEntry, b: CatalogueEntry) =>
+	a.brand.localeCompare(b.brand, 'en') || a.model.localeCompare(b.model, 'en');
+const byBand = (a: CatalogueEntry, b: CatalogueEntry) =>
+	bandRank(a.bestBand) - bandRank(b.bestBand) || (b.bestScore ?? -1) - (a.bestScore ?? -1);
+const byPrice = (a: CatalogueEntry, b: CatalogueEntry) =>
+	(a.best?.displayMinor ?? Infinity) - (b.best?.displayMinor ?? Infinity);
+
+/** Sort a copy: best band (then score), lowest price (unpriced last), or brand and model. */
+export function sortCatalogue(entries: CatalogueEntry[], sort: CatalogueSort): CatalogueEntry[] {
+	const cmp = sort === 'name' ? byName : sort === 'price' ? (a: CatalogueEntry, b: CatalogueEntry) => byPrice(a, b) || byBand(a, b) || byName(a, b) : (a: CatalogueEntry, b: CatalogueEntry) => byBand(a, b) || byPrice(a, b) || byName(a, b);
+	return [...entries].sort(cmp);
+}
+
+export interface FinderInput {
+	region: Region;
+	/** Budget in minor units of the display currency; none when absent. */
+	budgetMinor?: number;
+	needsAudio?: boolean;
+	inStockNow?: boolean;
+	minBand?: Band;
+}
+
+export interface FinderResult {
+	entry: CatalogueEntry;
+	rank: number;
+	/** One sentence in plain words: band, where it can be bought, lowest price. */
+	explanation: string;
+	/** Extra notes a buyer should read (another revision grades worse, pre-order only ...). */
+	notes: string[];
+}
+
+const BAND_WORD: Record<Band, string> = { exact: 'Exact', close: 'Close', fair: 'Fair', poor: 'Poor', failing: 'Failing' };
+
+/** Explain one entry in words, e.g. "Close band; in stock at 2 shops in your region; lowest 12.90 EUR". */
+export function explainEntry(e: CatalogueEntry, region: Region): string {
+	const parts: string[] = [];
+	parts.push(e.bestBand ? `${BAND_WORD[e.bestBand]} band` : 'not graded yet');
+	if (e.inStockShops > 0) parts.push(`in stock at ${e.inStockShops} ${e.inStockShops === 1 ? 'shop' : 'shops'} in your region`);
+	else if (e.best) parts.push(`${e.best.stock === 'preorder' ? 'pre-order only' : 'orderable'} in your region`);
+	else parts.push(`not buyable in ${REGION_LABELS[region]} right now`);
+	if (e.best?.displayMinor != null) parts.push(`lowest ${formatMoney(e.best.displayMinor, e.best.displayCurrency)}`);
+	return parts.join('; ');
+}
+
+function notesFor(e: CatalogueEntry, minBand: Band | undefined): string[] {
+	const notes: string[] = [];
+	const current = e.revisions.filter((r) => !r.retired && r.band);
+	const worse = current.filter((r) => e.bestBand && bandRank(r.band) > bandRank(e.bestBand));
+	for (const r of worse) {
+		notes.push(`Revision ${r.code} (chip ${r.chip}) grades ${BAND_WORD[r.band!]}: which one a shop sends cannot be chosen.`);
+	}
+	if (minBand && worse.some((r) => bandRank(r.band) > bandRank(minBand))) {
+		notes.push(`Only some revisions reach ${BAND_WORD[minBand]} or better.`);
+	}
+	return notes;
+}
+
+/**
+ * Rank the catalogue for a buyer: keep entries that meet every need, then order by band,
+ * then whether they can be bought in the region now, then score, then price.
+ */
+export function rankFinder(entries: CatalogueEntry[], input: FinderInput): FinderResult[] {
+	const hit = entries.filter((e) => {
+		if (input.minBand && !meetsBand(e, input.minBand)) return false;
+		if (input.needsAudio && !e.hasAudioOut) return false;
+		if (input.inStockNow && e.inStockShops === 0) return false;
+		if (input.budgetMinor != null) {
+			const p = e.best?.displayMinor;
+			if (p == null || p > input.budgetMinor) return false;
+		}
+		return true;
+	});
+	const buyable = (e: CatalogueEntry) => (e.inStockShops > 0 ? 0 : e.best ? 1 : 2);
+	hit.sort(
+		(a, b) =>
+			bandRank(a.bestBand) - bandRank(b.bestBand) ||
+			buyable(a) - buyable(b) ||
+			(b.bestScore ?? -1) - (a.bestScore ?? -1) ||
+			byPrice(a, b) ||
+			byName(a, b)
+	);
+	return hit.map((entry, i) => ({
+		entry,
+		rank: i + 1,
+		explanation: explainEntry(entry, input.region),
+		notes: notesFor(entry, input.minBand)
+	}));
+}
+
+/** Offers a visitor can order now (pricing's rule: in stock or pre-order). */
+export function orderable(offers: CatalogueOffer[]): CatalogueOffer[] {
+	return offers.filter((o) => isBuyable(o.stock));
+}
+
+export { BANDS, REGION_CODES };

@@ -1,0 +1,74 @@
+/**
+ * HTTP helpers for the open-data API: JSON with a strong ETag and 304 on a matching
+ * If-None-Match (RFC 9110 sections 8.8.3 and 13.1.2), 400 bodies of the form
+ * { error, issues }, and CSV (RFC 4180: CRLF line ends, quotes doubled).
+ */
+import { createHash } from 'node:crypto';
+import { json } from '@sveltejs/kit';
+import type { z } from 'zod';
+import { issuesOf } from './public-params';
+
+/** Licence of Scopegrade's own data (catalogue, grades, readings). */
+export const DATA_LICENCE = {
+	name: 'CC BY 4.0',
+	url: 'https://creativecommons.org/licenses/by/4.0/',
+	attribution: 'Scopegrade bench data',
+	notice: 'Scopegrade bench data, licensed CC BY 4.0 (https://creativecommons.org/licenses/by/4.0/). Grades use Scopegrade\'s own rubric, not a published standard.'
+} as const;
+
+export function etagOf(body: string): string {
+	return `"${createHash('sha256').update(body).digest('base64url').slice(0, 27)}"`;
+}
+
+/** Does an If-None-Match header match this ETag (weak comparison, any of a list, or *)? */
+export function matchesEtag(header: string | null, etag: string): boolean {
+	if (!header) return false;
+	if (header.trim() === '*') return true;
+	const bare = etag.replace(/^W\//, '');
+	return header.split(',').some((t) => t.trim().replace(/^W\//, '') === bare);
+}
+
+/** Answer a body with an ETag, or 304 when the client already has it. */
+export function cachedResponse(
+	request: Request,
+	body: string,
+	contentType: string,
+	extra: Record<string, string> = {}
+): Response {
+	const etag = etagOf(body);
+	const headers: Record<string, string> = {
+		ETag: etag,
+		'Cache-Control': 'public, max-age=60, must-revalidate',
+		Vary: 'Accept-Encoding',
+		...extra
+	};
+	if (matchesEtag(request.headers.get('if-none-match'), etag)) return new Response(null, { status: 304, headers });
+	return new Response(body, { status: 200, headers: { 'Content-Type': contentType, ...headers } });
+}
+
+/** JSON with an ETag. */
+export function cachedJson(request: Request, data: unknown, extra: Record<string, string> = {}): Response {
+	return cachedResponse(request, JSON.stringify(data), 'application/json; charset=utf-8', extra);
+}
+
+/** 400 with the zod issues. */
+export function badRequest(err: z.ZodError, what = 'invalid query parameters'): Response {
+	return json({ error: what, issues: issuesOf(err) }, { status: 400 });
+}
+
+export function notFound(what: string): Response {
+	return json({ error: `${what} not found`, issues: [] }, { status: 404 });
+}
+
+function csvCell(v: unknown): string {
+	if (v === null || v === undefined) return '';
+	const s = typeof v === 'string' ? v : String(v);
+	return /[",\r\n]/.test(s) || /^\s|\s$/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
+}
+
+/** Rows of flat objects to CSV with a header line, in the key order of `columns`. */
+export function toCsv<T extends object>(rows: T[], columns: (keyof T & string)[]): string {
+	const lines = [columns.join(',')];
+	for (const r of rows) lines.push(columns.map((c) => csvCell(r[c])).join(','));
+	return lines.join('\r\n') + '\r\n';
+}

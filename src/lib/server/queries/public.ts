@@ -1,0 +1,623 @@
+/**
+ * Read queries behind the public guide (pages and /api/v1). Grades come from the revisions'
+ * cached aggregates and the bench runs' stored level reports; prices from the listing states
+ * through the pricing helpers. Nothing here recomputes a grade or converts money by hand.
+ */
+import { and, asc, desc, eq, inArray, isNull, sql } from 'drizzle-orm';
+import type { Database } from '../db/client';
+import {
+	benchReadings,
+	benchRuns,
+	chips,
+	converters,
+	guidePicks,
+	guides,
+	listings,
+	shops,
+	stockEvents,
+	teardownReports,
+	revisions
+} from '../db/schema';
+import { currentOffers, loadRates } from './offers';
+import { aggregateRuns, type LevelInput, type LevelReport } from '../../levels/index';
+import { leadGrade, type CatalogueEntry, type CatalogueOffer, type CatalogueRevision, type PowerKind } from '../../finder';
+import {
+	bestOfferByConverter,
+	isBuyable,
+	servesRegion,
+	type CurrentOffer,
+	type PricedOffer,
+	type RatesPerEur,
+	type Region,
+	convertMinor
+} from '../../pricing';
+import type { Band } from '../../components/bands';
+import { revisionOdds, type ShopRevisionOdds } from '../../odds';
+
+const iso = (d: Date | string | null | undefined): string | null =>
+	d == null ? null : d instanceof Date ? d.toISOString() : new Date(d).toISOString();
+
+/** Where a visitor shops and which currency they read prices in. */
+export interface Viewpoint {
+	region: Region;
+	currency: string;
+}
+
+function toOffer(o: CurrentOffer | PricedOffer, currency: string, rates: RatesPerEur): CatalogueOffer {
+	const displayMinor =
+		'displayMinor' in o
+			? o.displayMinor
+			: o.priceMinor != null && o.currency
+				? convertMinor(o.priceMinor, o.currency, currency, rates)
+				: null;
+	return {
+		listingId: o.listingId,
+		shopSlug: o.shopSlug,
+		shopName: o.shopName,
+		shopRegion: o.shopRegion,
+		url: o.url,
+		priceMinor: o.priceMinor,
+		currency: o.currency,
+		displayMinor,
+		displayCurrency: currency,
+		stock: o.stock,
+		lastCheckedAt: iso(o.lastCheckedAt)
+	};
+}
+
+type ConverterRow = typeof converters.$inferSelect;
+
+async function revisionsFor(db: Database, converterIds: number[]) {
+	if (converterIds.length === 0) return [];
+	return db
+		.select({
+			id: revisions.id,
+			converterId: revisions.converterId,
+			code: revisions.code,
+			chip: chips.name,
+			chipSlug: chips.slug,
+			chipMaker: chips.maker,
+			chipNotes: chips.notes,
+			boardMarking: revisions.boardMarking,
+			band: revisions.band,
+			score: revisions.score,
+			scoreMin: revisions.scoreMin,
+			scoreMax: revisions.scoreMax,
+			runs: revisions.runCount,
+			rubricVersion: revisions.rubricVersion,
+			gradedAt: revisions.gradedAt,
+			retiredAt: revisions.retiredAt,
+			seenFrom: revisions.seenFrom,
+			seenTo: revisions.seenTo,
+			notes: revisions.notes
+		})
+		.from(revisions)
+		.innerJoin(chips, eq(chips.id, revisions.chipId))
+		.where(inArray(revisions.converterId, converterIds))
+		.orderBy(asc(revisions.converterId), asc(revisions.code));
+}
+
+function buildEntries(
+	rows: ConverterRow[],
+	revs: Awaited<ReturnType<typeof revisionsFor>>,
+	offers: CurrentOffer[],
+	view: Viewpoint,
+	rates: RatesPerEur
+): CatalogueEntry[] {
+	const best = bestOfferByConverter(offers, view.region, view.currency, rates);
+	return rows.map((c) => {
+		const revisionsOf: CatalogueRevision[] = revs
+			.filter((r) => r.converterId === c.id)
+			.map((r) => ({
+				id: r.id,
+				code: r.code,
+				chip: r.chip,
+				chipSlug: r.chipSlug,
+				boardMarking: r.boardMarking,
+				band: r.band,
+				score: r.score,
+				runs: r.runs,
+				retired: r.retiredAt !== null,
+				seenFrom: r.seenFrom,
+				seenTo: r.seenTo
+			}));
+		const lead = leadGrade(revisionsOf);
+		const inRegion = offers.filter((o) => o.converterId === c.id && servesRegion(o, view.region));
+		const bestOffer = best.get(c.id);
+		const priced = inRegion
+			.map((o) => toOffer(o, view.currency, rates))
+			.sort(
+				(a, b) =>
+					Number(isBuyable(b.stock)) - Number(isBuyable(a.stock)) ||
+					(a.displayMinor ?? Infinity) - (b.displayMinor ?? Infinity)
+			);
+		return {
+			id: c.id,
+			slug: c.slug,
+			brand: c.brand,
+			model: c.model,
+			summary: c.summary,
+			hasAudioOut: c.hasAudioOut,
+			power: c.power as PowerKind,
+			outputs: c.outputs,
+			lastReviewedAt: iso(c.lastReviewedAt),
+			revisions: revisionsOf,
+			bestBand: lead.band,
+			bestScore: lead.score,
+			offers: priced,
+			best: bestOffer ? toOffer(bestOffer, view.currency, rates) : null,
+			inStockShops: new Set(inRegion.filter((o) => o.stock === 'in_stock').map((o) => o.shopSlug)).size
+		};
+	});
+}
+
+/** Every live converter as a catalogue entry priced for one viewpoint. */
+export async function loadCatalogue(db: Database, view: Viewpoint): Promise<CatalogueEntry[]> {
+	const rows = await db
+		.select()
+		.from(converters)
+		.where(isNull(converters.retiredAt))
+		.orderBy(asc(converters.brand), asc(converters.model));
+	const ids = rows.map((r) => r.id);
+	const [revs, offers, rates] = await Promise.all([revisionsFor(db, ids), currentOffers(db, ids), loadRates(db)]);
+	return buildEntries(rows, revs, offers, view, rates);
+}
+
+export interface PublicBenchRun {
+	id: number;
+	measuredBy: string;
+	measuredOn: string;
+	testSource: string;
+	pattern: string;
+	instrument: string;
+	termination: string;
+	fullScaleMv: number;
+	band: Band | null;
+	score: number | null;
+	input: LevelInput;
+	report: LevelReport;
+}
+
+export interface PublicRevision extends CatalogueRevision {
+	chipMaker: string;
+	chipNotes: string;
+	notes: string;
+	scoreMin: number | null;
+	scoreMax: number | null;
+	rubricVersion: string | null;
+	gradedAt: string | null;
+	runsDetail: PublicBenchRun[];
+	/** Index into runsDetail of the run the revision's band was taken from (engine's median). */
+	medianRun: number | null;
+	measuredBy: string[];
+}
+
+export interface PublicListing extends CatalogueOffer {
+	shipsTo: Region[];
+	servesViewer: boolean;
+}
+
+export interface TeardownRow {
+	id: number;
+	revisionCode: string | null;
+	chip: string;
+	boardMarking: string;
+	shopSlug: string | null;
+	shopName: string;
+	purchaseMonth: string;
+	notes: string;
+	photoFileId: string | null;
+}
+
+export interface ConverterDetail {
+	entry: CatalogueEntry;
+	revisions: PublicRevision[];
+	listings: PublicListing[];
+	teardowns: TeardownRow[];
+	odds: ShopRevisionOdds[];
+}
+
+/** Accepted bench runs (with readings and stored reports) for some revisions. */
+async function runsFor(db: Database, revisionIds: number[]) {
+	if (revisionIds.length === 0) return new Map<number, PublicBenchRun[]>();
+	const runs = await db
+		.select()
+		.from(benchRuns)
+		.where(and(inArray(benchRuns.revisionId, revisionIds), eq(benchRuns.status, 'accepted')))
+		.orderBy(asc(benchRuns.measuredOn), asc(benchRuns.id));
+	const readings = runs.length
+		? await db
+				.select()
+				.from(benchReadings)
+				.where(inArray(benchReadings.benchRunId, runs.map((r) => r.id)))
+				.orderBy(asc(benchReadings.benchRunId), asc(benchReadings.ire))
+		: [];
+	const out = new Map<number, PublicBenchRun[]>();
+	for (const r of runs) {
+		if (!r.report) continue; // a run without its engine report is not shown
+		const steps = readings
+			.filter((x) => x.benchRunId === r.id)
+			.map((x) => ({ ire: x.ire, r: x.rMv, g: x.gMv, b: x.bMv }));
+		const list = out.get(r.revisionId) ?? [];
+		list.push({
+			id: r.id,
+			measuredBy: r.measuredBy,
+			measuredOn: r.measuredOn,
+			testSource: r.testSource,
+			pattern: r.pattern,
+			instrument: r.instrument,
+			termination: r.termination,
+			fullScaleMv: r.fullScaleMv,
+			band: r.band,
+			score: r.score,
+			input: { steps, fullScaleMv: r.fullScaleMv },
+			report: r.report as LevelReport
+		});
+		out.set(r.revisionId, list);
+	}
+	return out;
+}
+
+function medianRunIndex(runs: PublicBenchRun[]): number | null {
+	if (runs.length === 0) return null;
+	try {
+		return aggregateRuns(runs.map((r) => r.report)).medianRunIndex;
+	} catch {
+		return runs.length - 1; // mixed rubric versions: show the newest run
+	}
+}
+
+function publicRevision(
+	r: Awaited<ReturnType<typeof revisionsFor>>[number],
+	runs: PublicBenchRun[]
+): PublicRevision {
+	return {
+		id: r.id,
+		code: r.code,
+		chip: r.chip,
+		chipSlug: r.chipSlug,
+		chipMaker: r.chipMaker,
+		chipNotes: r.chipNotes,
+		boardMarking: r.boardMarking,
+		band: r.band,
+		score: r.score,
+		scoreMin: r.scoreMin,
+		scoreMax: r.scoreMax,
+		runs: r.runs,
+		retired: r.retiredAt !== null,
+		seenFrom: r.seenFrom,
+		seenTo: r.seenTo,
+		notes: r.notes,
+		rubricVersion: r.rubricVersion,
+		gradedAt: iso(r.gradedAt),
+		runsDetail: runs,
+		medianRun: medianRunIndex(runs),
+		measuredBy: [...new Set(runs.map((x) => x.measuredBy))]
+	};
+}
+
+/** One converter with everything its page shows, or null when there is no such live converter. */
+export async function loadConverterDetail(db: Database, slug: string, view: Viewpoint): Promise<ConverterDetail | null> {
+	const [row] = await db.select().from(converters).where(and(eq(converters.slug, slug), isNull(converters.retiredAt)));
+	if (!row) return null;
+	const [revs, offers, rates] = await Promise.all([revisionsFor(db, [row.id]), currentOffers(db, [row.id]), loadRates(db)]);
+	const [entry] = buildEntries([row], revs, offers, view, rates);
+	const runs = await runsFor(db, revs.map((r) => r.id));
+	const teardownRows = await db
+		.select({
+			id: teardownReports.id,
+			revisionCode: revisions.code,
+			chipName: chips.name,
+			chipText: teardownReports.chipText,
+			boardMarking: teardownReports.boardMarking,
+			shopSlug: shops.slug,
+			shopName: shops.name,
+			shopNameOther: teardownReports.shopNameOther,
+			purchaseMonth: teardownReports.purchaseMonth,
+			notes: teardownReports.notes,
+			photoFileId: teardownReports.photoFileId
+		})
+		.from(teardownReports)
+		.leftJoin(revisions, eq(revisions.id, teardownReports.revisionId))
+		.leftJoin(chips, eq(chips.id, teardownReports.chipId))
+		.leftJoin(shops, eq(shops.id, teardownReports.shopId))
+		.where(and(eq(teardownReports.converterId, row.id), eq(teardownReports.status, 'verified')))
+		.orderBy(desc(teardownReports.purchaseMonth), desc(teardownReports.id));
+	const teardowns: TeardownRow[] = teardownRows.map((t) => ({
+		id: t.id,
+		revisionCode: t.revisionCode,
+		chip: t.chipName ?? t.chipText,
+		boardMarking: t.boardMarking,
+		shopSlug: t.shopSlug,
+		shopName: t.shopName ?? t.shopNameOther ?? 'another shop',
+		purchaseMonth: t.purchaseMonth,
+		notes: t.notes,
+		photoFileId: t.photoFileId
+	}));
+	const odds = revisionOdds(
+		teardowns
+			.filter((t) => t.shopSlug && t.revisionCode)
+			.map((t) => ({ shopSlug: t.shopSlug!, shopName: t.shopName, revisionCode: t.revisionCode! })),
+		revs.map((r) => r.code)
+	);
+	const shipsBySlug = new Map(offers.map((o) => [o.shopSlug, o.shipsTo] as const));
+	const listingsOut: PublicListing[] = offers
+		.map((o) => ({
+			...toOffer(o, view.currency, rates),
+			shipsTo: shipsBySlug.get(o.shopSlug) ?? [],
+			servesViewer: servesRegion(o, view.region)
+		}))
+		.sort(
+			(a, b) =>
+				Number(b.servesViewer) - Number(a.servesViewer) ||
+				Number(isBuyable(b.stock)) - Number(isBuyable(a.stock)) ||
+				(a.displayMinor ?? Infinity) - (b.displayMinor ?? Infinity)
+		);
+	return {
+		entry,
+		revisions: revs.map((r) => publicRevision(r, runs.get(r.id) ?? [])),
+		listings: listingsOut,
+		teardowns,
+		odds
+	};
+}
+
+/** Several converters' details for the compare page, in the order asked. */
+export async function loadCompare(db: Database, slugs: string[], view: Viewpoint): Promise<ConverterDetail[]> {
+	const out: ConverterDetail[] = [];
+	for (const s of slugs) {
+		const d = await loadConverterDetail(db, s, view);
+		if (d) out.push(d);
+	}
+	return out;
+}
+
+/** One revision with its converter slug and accepted runs (for /api/v1/revisions/[id]). */
+export async function loadRevision(db: Database, id: number) {
+	const [r] = await db
+		.select({ converterId: revisions.converterId, slug: converters.slug, brand: converters.brand, model: converters.model })
+		.from(revisions)
+		.innerJoin(converters, eq(converters.id, revisions.converterId))
+		.where(and(eq(revisions.id, id), isNull(converters.retiredAt)));
+	if (!r) return null;
+	const revs = (await revisionsFor(db, [r.converterId])).filter((x) => x.id === id);
+	const runs = await runsFor(db, [id]);
+	return { converter: { slug: r.slug, brand: r.brand, model: r.model }, revision: publicRevision(revs[0], runs.get(id) ?? []) };
+}
+
+/** Current listings of one converter, every region (for /api/v1/listings). */
+export async function loadListings(db: Database, slug: string, view: Viewpoint) {
+	const d = await loadConverterDetail(db, slug, view);
+	return d ? d.listings : null;
+}
+
+export interface RestockRow {
+	id: number;
+	at: string;
+	converterSlug: string;
+	converterName: string;
+	shopSlug: string;
+	shopName: string;
+	shopRegion: Region;
+	priceMinor: number | null;
+	currency: string | null;
+	previousStock: string | null;
+	url: string;
+	band: Band | null;
+}
+
+/** The newest restocks (stock events of kind 'restock'), with the converter's lead band. */
+export async function loadRestocks(db: Database, limit = 50): Promise<RestockRow[]> {
+	const rows = await db
+		.select({
+			id: stockEvents.id,
+			at: stockEvents.at,
+			priceMinor: stockEvents.priceMinor,
+			currency: stockEvents.currency,
+			previousStock: stockEvents.previousStock,
+			converterId: converters.id,
+			converterSlug: converters.slug,
+			brand: converters.brand,
+			model: converters.model,
+			shopSlug: shops.slug,
+			shopName: shops.name,
+			shopRegion: shops.region,
+			url: listings.url
+		})
+		.from(stockEvents)
+		.innerJoin(listings, eq(listings.id, stockEvents.listingId))
+		.innerJoin(shops, eq(shops.id, listings.shopId))
+		.innerJoin(converters, eq(converters.id, listings.converterId))
+		.where(and(eq(stockEvents.kind, 'restock'), isNull(converters.retiredAt)))
+		.orderBy(desc(stockEvents.at), desc(stockEvents.id))
+		.limit(limit);
+	const revs = await revisionsFor(db, [...new Set(rows.map((r) => r.converterId))]);
+	return rows.map((r) => {
+		const lead = leadGrade(
+			revs
+				.filter((x) => x.converterId === r.converterId)
+				.map((x) => ({ ...x, retired: x.retiredAt !== null }))
+		);
+		return {
+			id: r.id,
+			at: iso(r.at)!,
+			converterSlug: r.converterSlug,
+			converterName: `${r.brand} ${r.model}`,
+			shopSlug: r.shopSlug,
+			shopName: r.shopName,
+			shopRegion: r.shopRegion,
+			priceMinor: r.priceMinor,
+			currency: r.currency,
+			previousStock: r.previousStock,
+			url: r.url,
+			band: lead.band
+		};
+	});
+}
+
+export interface GuideSummary {
+	slug: string;
+	title: string;
+	summary: string;
+	publishedAt: string | null;
+	updatedAt: string;
+	picks: number;
+}
+
+/** Published guides, newest first. */
+export async function listGuides(db: Database): Promise<GuideSummary[]> {
+	const rows = await db
+		.select({
+			slug: guides.slug,
+			title: guides.title,
+			summary: guides.summary,
+			publishedAt: guides.publishedAt,
+			updatedAt: guides.updatedAt,
+			picks: sql<number>`(select count(*)::int from ${guidePicks} where ${guidePicks.guideId} = ${guides.id})`
+		})
+		.from(guides)
+		.where(eq(guides.status, 'published'))
+		.orderBy(desc(guides.publishedAt), asc(guides.title));
+	return rows.map((r) => ({ ...r, publishedAt: iso(r.publishedAt), updatedAt: iso(r.updatedAt)! }));
+}
+
+export interface GuidePickView {
+	position: number;
+	note: string;
+	bandAtPick: Band | null;
+	entry: CatalogueEntry | null;
+	/** The pick's converter can no longer be bought in the viewer's region (or was retired). */
+	unbuyable: boolean;
+	/** The lead band today differs from the band when the curator picked it. */
+	regraded: boolean;
+}
+
+/** A published guide with its picks priced and graded live. */
+export async function loadGuide(db: Database, slug: string, view: Viewpoint) {
+	const [g] = await db
+		.select()
+		.from(guides)
+		.where(and(eq(guides.slug, slug), eq(guides.status, 'published')));
+	if (!g) return null;
+	const picks = await db
+		.select()
+		.from(guidePicks)
+		.where(eq(guidePicks.guideId, g.id))
+		.orderBy(asc(guidePicks.position), asc(guidePicks.converterId));
+	const ids = picks.map((p) => p.converterId);
+	const rows = ids.length ? await db.select().from(converters).where(inArray(converters.id, ids)) : [];
+	const [revs, offers, rates] = await Promise.all([revisionsFor(db, ids), currentOffers(db, ids), loadRates(db)]);
+	const entries = buildEntries(rows.filter((r) => r.retiredAt === null), revs, offers, view, rates);
+	const pickViews: GuidePickView[] = picks.map((p) => {
+		const entry = entries.find((e) => e.id === p.converterId) ?? null;
+		return {
+			position: p.position,
+			note: p.note,
+			bandAtPick: p.bandAtPick,
+			entry,
+			unbuyable: !entry?.best,
+			regraded: p.bandAtPick !== null && entry !== null && entry.bestBand !== p.bandAtPick
+		};
+	});
+	return {
+		slug: g.slug,
+		title: g.title,
+		summary: g.summary,
+		bodyMarkdown: g.bodyMarkdown,
+		publishedAt: iso(g.publishedAt),
+		updatedAt: iso(g.updatedAt)!,
+		picks: pickViews
+	};
+}
+
+// ---------------------------------------------------------------- open data exports
+
+export interface CatalogueExportRow {
+	converter_slug: string;
+	brand: string;
+	model: string;
+	has_audio_out: boolean;
+	power: string;
+	outputs: string;
+	revision_id: number;
+	revision_code: string;
+	chip: string;
+	board_marking: string;
+	band: string | null;
+	score: number | null;
+	bench_runs: number;
+	rubric_version: string | null;
+	retired: boolean;
+	last_reviewed_at: string | null;
+}
+
+/** One row per revision of every live converter. */
+export async function exportCatalogue(db: Database): Promise<CatalogueExportRow[]> {
+	const rows = await db
+		.select()
+		.from(converters)
+		.where(isNull(converters.retiredAt))
+		.orderBy(asc(converters.slug));
+	const revs = await revisionsFor(db, rows.map((r) => r.id));
+	return revs
+		.map((r) => {
+			const c = rows.find((x) => x.id === r.converterId)!;
+			return {
+				converter_slug: c.slug,
+				brand: c.brand,
+				model: c.model,
+				has_audio_out: c.hasAudioOut,
+				power: c.power,
+				outputs: c.outputs.join(' '),
+				revision_id: r.id,
+				revision_code: r.code,
+				chip: r.chip,
+				board_marking: r.boardMarking,
+				band: r.band,
+				score: r.score,
+				bench_runs: r.runs,
+				rubric_version: r.rubricVersion,
+				retired: r.retiredAt !== null,
+				last_reviewed_at: iso(c.lastReviewedAt)
+			};
+		})
+		.sort((a, b) => a.converter_slug.localeCompare(b.converter_slug) || a.revision_code.localeCompare(b.revision_code));
+}
+
+export interface ReadingExportRow {
+	converter_slug: string;
+	revision_code: string;
+	bench_run_id: number;
+	measured_on: string;
+	measured_by: string;
+	termination: string;
+	full_scale_mv: number;
+	ire: number;
+	r_mv: number;
+	g_mv: number;
+	b_mv: number;
+}
+
+/** Every reading of every accepted bench run of live converters. */
+export async function exportReadings(db: Database): Promise<ReadingExportRow[]> {
+	return db
+		.select({
+			converter_slug: converters.slug,
+			revision_code: revisions.code,
+			bench_run_id: benchRuns.id,
+			measured_on: benchRuns.measuredOn,
+			measured_by: benchRuns.measuredBy,
+			termination: benchRuns.termination,
+			full_scale_mv: benchRuns.fullScaleMv,
+			ire: benchReadings.ire,
+			r_mv: benchReadings.rMv,
+			g_mv: benchReadings.gMv,
+			b_mv: benchReadings.bMv
+		})
+		.from(benchReadings)
+		.innerJoin(benchRuns, eq(benchRuns.id, benchReadings.benchRunId))
+		.innerJoin(revisions, eq(revisions.id, benchRuns.revisionId))
+		.innerJoin(converters, eq(converters.id, revisions.converterId))
+		.where(and(eq(benchRuns.status, 'accepted'), isNull(converters.retiredAt)))
+		.orderBy(asc(converters.slug), asc(revisions.code), asc(benchRuns.id), asc(benchReadings.ire));
+}
