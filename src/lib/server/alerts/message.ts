@@ -1,0 +1,200 @@
+/**
+ * Alert and digest e-mails: our own words and look (the same calm card as the sign-in
+ * message), an HTML part built with the escaping `html` template and a plain-text part.
+ * Pure: the sender gathers the facts (AlertView) from the database.
+ */
+import { BAND_LABELS, BAND_METER_SEGMENTS, bandSegments, type Band } from '../../components/bands';
+import { formatMoney, REGION_LABELS, type Region } from '../../pricing';
+import { html, SafeHtml } from './template';
+
+export interface AlertView {
+	kind: 'restock' | 'price_drop';
+	at: Date;
+	converter: { slug: string; brand: string; model: string };
+	shop: { name: string; region: Region; shipsTo: Region[] };
+	priceMinor: number | null;
+	currency: string | null;
+	/** The price in the member's currency, when it differs from the shop's and a rate is known. */
+	converted: { minor: number; currency: string } | null;
+	band: Band | null;
+	/** Revision code the band belongs to (e.g. "B"). */
+	revisionCode: string | null;
+	/** One plain-words finding from the revision's latest accepted bench run. */
+	finding: string | null;
+	/** How long the listing's previous restock lasted before it sold out, in ms (null: no history). */
+	previousRunMs: number | null;
+	buyUrl: string;
+	converterUrl: string;
+}
+
+export interface MessageLinks {
+	manageUrl: string;
+	unsubscribeUrl: string;
+}
+
+export interface RenderedMessage {
+	subject: string;
+	text: string;
+	html: string;
+}
+
+const ACCENT = '#b45309';
+const INK = '#1d1d1b';
+const MUTED = '#5c5a55';
+const LINE = '#dcd9d2';
+
+/** "3 days 4 hours", "5 hours 10 minutes", "25 minutes". */
+export function formatDuration(ms: number): string {
+	const minutes = Math.max(1, Math.round(ms / 60_000));
+	const plural = (n: number, w: string) => `${n} ${w}${n === 1 ? '' : 's'}`;
+	if (minutes < 60) return plural(minutes, 'minute');
+	const hours = Math.floor(minutes / 60);
+	if (hours < 24) return minutes % 60 ? `${plural(hours, 'hour')} ${plural(minutes % 60, 'minute')}` : plural(hours, 'hour');
+	const days = Math.floor(hours / 24);
+	return hours % 24 ? `${plural(days, 'day')} ${plural(hours % 24, 'hour')}` : plural(days, 'day');
+}
+
+export function converterName(v: Pick<AlertView, 'converter'>) {
+	return `${v.converter.brand} ${v.converter.model}`;
+}
+
+function priceText(v: AlertView): string {
+	if (v.priceMinor == null || !v.currency) return 'price not shown by the shop';
+	const own = formatMoney(v.priceMinor, v.currency);
+	return v.converted ? `${own} (about ${formatMoney(v.converted.minor, v.converted.currency)})` : own;
+}
+
+function whereText(v: AlertView): string {
+	const others = v.shop.shipsTo.filter((r) => r !== v.shop.region).map((r) => REGION_LABELS[r]);
+	return `${v.shop.name}, ${REGION_LABELS[v.shop.region]}${others.length ? `; ships to ${others.join(', ')}` : ''}`;
+}
+
+function bandText(v: AlertView): string {
+	if (!v.band) return 'Not graded yet';
+	return `${BAND_LABELS[v.band]} (${bandSegments(v.band)} of ${BAND_METER_SEGMENTS})${v.revisionCode ? `, revision ${v.revisionCode}` : ''}`;
+}
+
+function lastRunText(v: AlertView): string {
+	return v.previousRunMs == null
+		? 'No earlier restock on record at this shop.'
+		: `Last time it stayed in stock for ${formatDuration(v.previousRunMs)}.`;
+}
+
+function headline(v: AlertView): string {
+	return v.kind === 'restock' ? `${converterName(v)} is back in stock` : `${converterName(v)} dropped in price`;
+}
+
+/** The subject line: what, where, how much. */
+export function alertSubject(v: AlertView): string {
+	const price = v.priceMinor != null && v.currency ? `, ${formatMoney(v.priceMinor, v.currency)}` : '';
+	return v.kind === 'restock'
+		? `Back in stock: ${converterName(v)} at ${v.shop.name}${price}`
+		: `Price drop: ${converterName(v)} at ${v.shop.name}${price}`;
+}
+
+/** The band as a five-segment meter drawn with table cells (no images, reads without colour). */
+function meterHtml(band: Band | null): SafeHtml {
+	const filled = bandSegments(band);
+	const cells = Array.from({ length: BAND_METER_SEGMENTS }, (_, i) =>
+		html`<td style="width:10px;height:12px;padding:0;border:1px solid ${i < filled ? ACCENT : LINE};background:${i < filled ? ACCENT : '#ffffff'}"></td>`
+	);
+	return html`<table role="presentation" cellpadding="0" cellspacing="2" style="display:inline-table;vertical-align:middle;margin-right:6px"><tr>${cells}</tr></table>`;
+}
+
+function readoutRow(label: string, value: SafeHtml | string): SafeHtml {
+	return html`<tr><td style="padding:6px 12px 6px 0;font-size:13px;color:${MUTED};white-space:nowrap;vertical-align:top">${label}</td><td style="padding:6px 0;font-size:14px;line-height:1.45">${value}</td></tr>`;
+}
+
+function alertCardHtml(v: AlertView): SafeHtml {
+	return html`<h2 style="margin:0 0 10px;font-size:18px">${headline(v)}</h2>
+<table role="presentation" cellpadding="0" cellspacing="0" style="border-top:1px solid ${LINE};border-bottom:1px solid ${LINE};margin:0 0 16px;width:100%">
+${readoutRow('Where', whereText(v))}
+${readoutRow('Price', html`<span style="font-variant-numeric:tabular-nums">${priceText(v)}</span>`)}
+${readoutRow('Level grade', html`${meterHtml(v.band)}<strong>${bandText(v)}</strong>`)}
+${v.finding ? readoutRow('On the bench', v.finding) : ''}
+${readoutRow('Stock history', lastRunText(v))}
+</table>
+<p style="margin:0 0 8px"><a href="${v.buyUrl}" style="display:inline-block;background:${ACCENT};color:#ffffff;text-decoration:none;padding:10px 18px;border-radius:6px;font-weight:600">Open the shop page</a>
+&nbsp; <a href="${v.converterUrl}" style="color:${ACCENT};font-weight:600">Grade and prices on Scopegrade</a></p>`;
+}
+
+function shell(title: SafeHtml | string, body: SafeHtml, links: MessageLinks, why: string): string {
+	return html`<!doctype html><html><body style="margin:0;background:#f4f3f0;font-family:system-ui,sans-serif;color:${INK}">
+<table role="presentation" width="100%" cellpadding="0" cellspacing="0"><tr><td align="center" style="padding:32px 12px">
+<table role="presentation" width="100%" style="max-width:560px;background:#ffffff;border:1px solid ${LINE};border-radius:10px" cellpadding="0" cellspacing="0">
+<tr><td style="padding:24px 28px">
+<p style="margin:0 0 4px;font-size:13px;letter-spacing:.08em;text-transform:uppercase;color:${ACCENT}">Scopegrade stock alert</p>
+<h1 style="margin:0 0 18px;font-size:20px">${title}</h1>
+${body}
+<p style="margin:20px 0 0;font-size:12px;color:${MUTED};line-height:1.5">${why} Stock moves fast: check the shop's page before you pay.
+<a href="${links.manageUrl}" style="color:${MUTED}">Manage your watches</a> · <a href="${links.unsubscribeUrl}" style="color:${MUTED}">Unsubscribe</a></p>
+</td></tr></table></td></tr></table></body></html>`.value;
+}
+
+function alertText(v: AlertView): string[] {
+	return [
+		headline(v),
+		'',
+		`Where:         ${whereText(v)}`,
+		`Price:         ${priceText(v)}`,
+		`Level grade:   ${bandText(v)}`,
+		...(v.finding ? [`On the bench:  ${v.finding}`] : []),
+		`Stock history: ${lastRunText(v)}`,
+		'',
+		`Shop page:  ${v.buyUrl}`,
+		`Scopegrade: ${v.converterUrl}`
+	];
+}
+
+/** One alert e-mail (a restock or a price drop for one watch). */
+export function renderAlertMessage(v: AlertView, links: MessageLinks): RenderedMessage {
+	const why = 'You get this because you watch this converter on Scopegrade.';
+	const text = [
+		...alertText(v),
+		'',
+		'--',
+		why + " Stock moves fast: check the shop's page before you pay.",
+		`Manage your watches: ${links.manageUrl}`,
+		`Unsubscribe from this watch: ${links.unsubscribeUrl}`
+	].join('\n');
+	return { subject: alertSubject(v), text, html: shell(headline(v), alertCardHtml(v), links, why) };
+}
+
+/** The daily digest: every alert a member collected, newest first, in one message. */
+export function renderDigestMessage(items: AlertView[], links: MessageLinks, day: string): RenderedMessage {
+	if (items.length === 0) throw new Error('an empty digest is never sent');
+	const sorted = [...items].sort((a, b) => b.at.getTime() - a.at.getTime());
+	const restocks = sorted.filter((v) => v.kind === 'restock').length;
+	const drops = sorted.length - restocks;
+	const counts = [restocks ? `${restocks} restock${restocks === 1 ? '' : 's'}` : '', drops ? `${drops} price drop${drops === 1 ? '' : 's'}` : '']
+		.filter(Boolean)
+		.join(' and ');
+	const subject = `Your Scopegrade digest for ${day}: ${counts}`;
+	const why = 'You get this daily digest because you watch converters on Scopegrade.';
+	const cards = sorted.map((v, i) => html`${i ? html`<hr style="border:0;border-top:1px solid ${LINE};margin:22px 0">` : ''}${alertCardHtml(v)}`);
+	const text = [
+		`Scopegrade digest for ${day}: ${counts}.`,
+		'',
+		...sorted.flatMap((v) => [...alertText(v), '']),
+		'--',
+		why,
+		`Manage your watches: ${links.manageUrl}`,
+		`Unsubscribe from all alerts: ${links.unsubscribeUrl}`
+	].join('\n');
+	return { subject, text, html: shell(`${counts} since your last digest`, html`${cards}`, links, why) };
+}
+
+/**
+ * RFC 2369 section 3.2 List-Unsubscribe (angle brackets, comma-separated, preferred first) and
+ * RFC 8058 section 3.1 List-Unsubscribe-Post for one-click unsubscribe by HTTPS POST.
+ */
+export function unsubscribeHeaders(baseUrl: string, token: string, mailDomain = 'scopegrade.test'): Record<string, string> {
+	return {
+		'List-Unsubscribe': `<${unsubscribeUrl(baseUrl, token)}>, <mailto:unsubscribe+${token}@${mailDomain}>`,
+		'List-Unsubscribe-Post': 'List-Unsubscribe=One-Click'
+	};
+}
+
+export function unsubscribeUrl(baseUrl: string, token: string): string {
+	return `${baseUrl.replace(/\/+$/, '')}/unsubscribe/${encodeURIComponent(token)}`;
+}
