@@ -1,0 +1,129 @@
+/**
+ * Admin changes: people's roles, shops, exchange rates. Each is audited in its own
+ * transaction. An admin cannot take away their own admin role (someone else must), so a
+ * site never ends up with nobody able to grant roles by accident.
+ */
+import { asc, desc, eq, ilike, or, sql } from 'drizzle-orm';
+import type { z } from 'zod';
+import { audit } from '../audit';
+import * as t from '../db/schema';
+import { FieldError, isUniqueViolation, pick, slugify, type Actor, type Database } from './common';
+import type { rateSchema, roleChangeSchema, shopSchema } from './schemas';
+
+export async function listUsers(db: Database, q = '', limit = 100) {
+	const where = q ? or(ilike(t.users.email, `%${q}%`), ilike(t.users.name, `%${q}%`)) : undefined;
+	return db
+		.select({ id: t.users.id, email: t.users.email, name: t.users.name, role: t.users.role, createdAt: t.users.createdAt })
+		.from(t.users)
+		.where(where)
+		.orderBy(sql`case ${t.users.role} when 'admin' then 0 when 'curator' then 1 else 2 end`, asc(t.users.email))
+		.limit(limit);
+}
+
+/** Change someone's role, with a reason for the log. */
+export async function changeRole(db: Database, actor: Actor, input: z.infer<typeof roleChangeSchema>) {
+	if (actor.role !== 'admin') throw new FieldError(null, 'Only an admin can change roles.', 403);
+	if (input.userId === actor.id && input.role !== 'admin')
+		throw new FieldError('role', 'You cannot remove your own admin role; ask another admin.', 403);
+	return db.transaction(async (tx) => {
+		const [before] = await tx.select().from(t.users).where(eq(t.users.id, input.userId)).for('update');
+		if (!before) throw new FieldError('userId', 'That person does not exist.', 404);
+		if (before.role === input.role) throw new FieldError('role', `${before.email} already has the ${input.role} role.`);
+		const [row] = await tx.update(t.users).set({ role: input.role }).where(eq(t.users.id, input.userId)).returning();
+		await audit(tx, {
+			actorId: actor.id,
+			action: 'role-changed',
+			entity: 'user',
+			entityId: input.userId,
+			before: { email: before.email, role: before.role },
+			after: { email: row.email, role: row.role },
+			reason: input.reason
+		});
+		return row;
+	});
+}
+
+const SHOP_FIELDS = ['slug', 'name', 'region', 'currency', 'shipsTo', 'baseUrl', 'defaultFormat', 'feedConfig', 'maxConcurrency', 'minSpacingMs', 'active'] as const;
+
+function shopValues(input: z.infer<typeof shopSchema>) {
+	return {
+		name: input.name,
+		region: input.region,
+		currency: input.currency,
+		shipsTo: input.shipsTo,
+		baseUrl: new URL(input.baseUrl).origin,
+		defaultFormat: input.defaultFormat,
+		feedConfig: input.feedConfig ? JSON.parse(input.feedConfig) : {},
+		maxConcurrency: input.maxConcurrency,
+		minSpacingMs: input.minSpacingMs,
+		active: input.active
+	};
+}
+
+export async function listShops(db: Database) {
+	return db.select().from(t.shops).orderBy(asc(t.shops.name));
+}
+
+export async function createShop(db: Database, actor: Actor, input: z.infer<typeof shopSchema>) {
+	const slug = input.slug || slugify(input.name);
+	if (!slug) throw new FieldError('slug', 'Type a slug (letters and digits).');
+	try {
+		return await db.transaction(async (tx) => {
+			const [row] = await tx.insert(t.shops).values({ slug, ...shopValues(input) }).returning();
+			await audit(tx, { actorId: actor.id, action: 'created', entity: 'shop', entityId: row.id, after: pick(row, SHOP_FIELDS) });
+			return row;
+		});
+	} catch (err) {
+		if (isUniqueViolation(err)) throw new FieldError('slug', `The slug "${slug}" is taken by another shop.`, 409);
+		throw err;
+	}
+}
+
+/** Edit a shop (slug unchanged). */
+export async function updateShop(db: Database, actor: Actor, id: number, input: z.infer<typeof shopSchema>) {
+	return db.transaction(async (tx) => {
+		const [before] = await tx.select().from(t.shops).where(eq(t.shops.id, id)).for('update');
+		if (!before) throw new FieldError(null, 'That shop does not exist.', 404);
+		const [row] = await tx.update(t.shops).set({ ...shopValues(input), updatedAt: new Date() }).where(eq(t.shops.id, id)).returning();
+		await audit(tx, {
+			actorId: actor.id,
+			action: 'updated',
+			entity: 'shop',
+			entityId: id,
+			before: pick(before, SHOP_FIELDS),
+			after: pick(row, SHOP_FIELDS)
+		});
+		return row;
+	});
+}
+
+export async function listRates(db: Database, limit = 100) {
+	return db.select().from(t.exchangeRates).orderBy(desc(t.exchangeRates.day), asc(t.exchangeRates.base), asc(t.exchangeRates.quote)).limit(limit);
+}
+
+/** Add (or correct) the rate for one currency pair on one day. */
+export async function addRate(db: Database, actor: Actor, input: z.infer<typeof rateSchema>) {
+	return db.transaction(async (tx) => {
+		const [before] = await tx
+			.select()
+			.from(t.exchangeRates)
+			.where(sql`${t.exchangeRates.base} = ${input.base} and ${t.exchangeRates.quote} = ${input.quote} and ${t.exchangeRates.day} = ${input.day}`);
+		const [row] = await tx
+			.insert(t.exchangeRates)
+			.values({ base: input.base, quote: input.quote, day: input.day, rate: String(input.rate), source: 'manual' })
+			.onConflictDoUpdate({
+				target: [t.exchangeRates.base, t.exchangeRates.quote, t.exchangeRates.day],
+				set: { rate: String(input.rate), source: 'manual' }
+			})
+			.returning();
+		await audit(tx, {
+			actorId: actor.id,
+			action: before ? 'updated' : 'created',
+			entity: 'exchange_rate',
+			entityId: `${row.base}/${row.quote}/${row.day}`,
+			before: before ?? undefined,
+			after: row
+		});
+		return row;
+	});
+}

@@ -1,0 +1,167 @@
+/**
+ * Guides: curator-written pages in markdown, with picks from the catalogue. The public
+ * /guides/[slug] page belongs to the public guide; this module is the editor's side and
+ * the one markdown renderer both use (marked, then sanitize-html: guide text never
+ * carries scripts, styles or event handlers to a reader's browser).
+ */
+import { asc, desc, eq, sql } from 'drizzle-orm';
+import { marked } from 'marked';
+import sanitizeHtml from 'sanitize-html';
+import type { z } from 'zod';
+import { audit } from '../audit';
+import * as t from '../db/schema';
+import { FieldError, isUniqueViolation, pick, slugify, type Actor, type Database } from './common';
+import type { guidePickSchema, guideSchema } from './schemas';
+
+/** Markdown -> safe HTML: headings, lists, links (http/https/mailto), code, tables, images over https. */
+export function renderGuideMarkdown(markdown: string): string {
+	const raw = marked.parse(markdown, { async: false, gfm: true, breaks: false }) as string;
+	return sanitizeHtml(raw, {
+		allowedTags: [
+			'h2', 'h3', 'h4', 'p', 'ul', 'ol', 'li', 'a', 'strong', 'em', 'code', 'pre', 'blockquote', 'hr', 'br',
+			'table', 'thead', 'tbody', 'tr', 'th', 'td', 'img', 'del'
+		],
+		allowedAttributes: { a: ['href', 'title'], img: ['src', 'alt', 'title'], th: ['align'], td: ['align'] },
+		allowedSchemes: ['http', 'https', 'mailto'],
+		allowedSchemesByTag: { img: ['https'] },
+		// An h1 belongs to the page itself; demote any in the text.
+		transformTags: {
+			h1: 'h2',
+			a: (tagName, attribs) => ({ tagName, attribs: { ...attribs, rel: 'nofollow noopener' } })
+		}
+	});
+}
+
+const GUIDE_FIELDS = ['slug', 'title', 'summary', 'bodyMarkdown', 'status', 'publishedAt'] as const;
+
+export async function listGuides(db: Database) {
+	return db
+		.select({
+			id: t.guides.id,
+			slug: t.guides.slug,
+			title: t.guides.title,
+			status: t.guides.status,
+			publishedAt: t.guides.publishedAt,
+			updatedAt: t.guides.updatedAt,
+			picks: sql<number>`(select count(*)::int from ${t.guidePicks} where ${t.guidePicks.guideId} = ${t.guides.id})`
+		})
+		.from(t.guides)
+		.orderBy(desc(t.guides.updatedAt));
+}
+
+export async function getGuide(db: Database, id: number) {
+	const [guide] = await db.select().from(t.guides).where(eq(t.guides.id, id));
+	if (!guide) return null;
+	const picks = await db
+		.select({
+			converterId: t.guidePicks.converterId,
+			position: t.guidePicks.position,
+			note: t.guidePicks.note,
+			bandAtPick: t.guidePicks.bandAtPick,
+			label: sql<string>`${t.converters.brand} || ' ' || ${t.converters.model}`,
+			slug: t.converters.slug
+		})
+		.from(t.guidePicks)
+		.innerJoin(t.converters, eq(t.converters.id, t.guidePicks.converterId))
+		.where(eq(t.guidePicks.guideId, id))
+		.orderBy(asc(t.guidePicks.position), asc(t.converters.brand));
+	return { guide, picks };
+}
+
+export async function createGuide(db: Database, actor: Actor, input: z.infer<typeof guideSchema>) {
+	const slug = input.slug || slugify(input.title);
+	if (!slug) throw new FieldError('slug', 'Type a slug (letters and digits).');
+	try {
+		return await db.transaction(async (tx) => {
+			const [row] = await tx
+				.insert(t.guides)
+				.values({ slug, title: input.title, summary: input.summary, bodyMarkdown: input.bodyMarkdown, authorId: actor.id })
+				.returning();
+			await audit(tx, { actorId: actor.id, action: 'created', entity: 'guide', entityId: row.id, after: pick(row, GUIDE_FIELDS) });
+			return row;
+		});
+	} catch (err) {
+		if (isUniqueViolation(err)) throw new FieldError('slug', `The slug "${slug}" is taken by another guide.`, 409);
+		throw err;
+	}
+}
+
+/** Edit text; the slug may change only while the guide has never been published (links stay stable). */
+export async function updateGuide(db: Database, actor: Actor, id: number, input: z.infer<typeof guideSchema>) {
+	try {
+		return await db.transaction(async (tx) => {
+			const [before] = await tx.select().from(t.guides).where(eq(t.guides.id, id)).for('update');
+			if (!before) throw new FieldError(null, 'That guide does not exist.', 404);
+			const slug = input.slug && !before.publishedAt ? input.slug : before.slug;
+			const [row] = await tx
+				.update(t.guides)
+				.set({ slug, title: input.title, summary: input.summary, bodyMarkdown: input.bodyMarkdown, updatedAt: new Date() })
+				.where(eq(t.guides.id, id))
+				.returning();
+			await audit(tx, { actorId: actor.id, action: 'updated', entity: 'guide', entityId: id, before: pick(before, GUIDE_FIELDS), after: pick(row, GUIDE_FIELDS) });
+			return row;
+		});
+	} catch (err) {
+		if (isUniqueViolation(err)) throw new FieldError('slug', 'That slug is taken by another guide.', 409);
+		throw err;
+	}
+}
+
+/** Publish, unpublish (back to draft) or retire a guide. */
+export async function setGuideStatus(db: Database, actor: Actor, id: number, status: 'draft' | 'published' | 'retired') {
+	return db.transaction(async (tx) => {
+		const [before] = await tx.select().from(t.guides).where(eq(t.guides.id, id)).for('update');
+		if (!before) throw new FieldError(null, 'That guide does not exist.', 404);
+		if (status === 'published' && before.bodyMarkdown.trim().length === 0)
+			throw new FieldError('bodyMarkdown', 'Write the guide before publishing it.');
+		const now = new Date();
+		const [row] = await tx
+			.update(t.guides)
+			.set({ status, publishedAt: status === 'published' ? (before.publishedAt ?? now) : before.publishedAt, updatedAt: now })
+			.where(eq(t.guides.id, id))
+			.returning();
+		const action = status === 'published' ? 'published' : status === 'retired' ? 'retired' : 'unpublished';
+		await audit(tx, { actorId: actor.id, action, entity: 'guide', entityId: id, before: pick(before, GUIDE_FIELDS), after: pick(row, GUIDE_FIELDS) });
+		return row;
+	});
+}
+
+/** Add or update a pick; the converter's best current band is recorded as band_at_pick. */
+export async function savePick(db: Database, actor: Actor, guideId: number, input: z.infer<typeof guidePickSchema>) {
+	return db.transaction(async (tx) => {
+		const [guide] = await tx.select({ id: t.guides.id }).from(t.guides).where(eq(t.guides.id, guideId));
+		if (!guide) throw new FieldError(null, 'That guide does not exist.', 404);
+		const [conv] = await tx.select({ id: t.converters.id }).from(t.converters).where(eq(t.converters.id, input.converterId));
+		if (!conv) throw new FieldError('converterId', 'That converter does not exist.');
+		// Best band among the converter's live revisions (enum order is best first).
+		const [best] = await tx
+			.select({ band: t.revisions.band })
+			.from(t.revisions)
+			.where(sql`${t.revisions.converterId} = ${input.converterId} and ${t.revisions.band} is not null and ${t.revisions.retiredAt} is null`)
+			.orderBy(asc(t.revisions.band))
+			.limit(1);
+		const [before] = await tx
+			.select()
+			.from(t.guidePicks)
+			.where(sql`${t.guidePicks.guideId} = ${guideId} and ${t.guidePicks.converterId} = ${input.converterId}`);
+		const values = { guideId, converterId: input.converterId, position: input.position, note: input.note, bandAtPick: best?.band ?? null };
+		const [row] = await tx
+			.insert(t.guidePicks)
+			.values(values)
+			.onConflictDoUpdate({ target: [t.guidePicks.guideId, t.guidePicks.converterId], set: { position: values.position, note: values.note, bandAtPick: values.bandAtPick } })
+			.returning();
+		await audit(tx, { actorId: actor.id, action: before ? 'pick-updated' : 'pick-added', entity: 'guide', entityId: guideId, before: before ?? undefined, after: row });
+		return row;
+	});
+}
+
+export async function removePick(db: Database, actor: Actor, guideId: number, converterId: number) {
+	return db.transaction(async (tx) => {
+		const [before] = await tx
+			.delete(t.guidePicks)
+			.where(sql`${t.guidePicks.guideId} = ${guideId} and ${t.guidePicks.converterId} = ${converterId}`)
+			.returning();
+		if (!before) throw new FieldError(null, 'That pick is not on this guide.', 404);
+		await audit(tx, { actorId: actor.id, action: 'pick-removed', entity: 'guide', entityId: guideId, before });
+	});
+}

@@ -1,0 +1,216 @@
+/**
+ * One zod schema per form in the curator workspace and the admin pages. Routes validate
+ * with `superValidate(request, zod4(schema))`; the domain modules take the parsed values.
+ * Messages are written for the person at the form, so they say what to type.
+ */
+import { z } from 'zod';
+import { ALL_STEPS_IRE } from '../../levels/index';
+import { SLUG_RE } from './common';
+
+const text = (label: string, max = 200) =>
+	z.string().trim().min(1, `${label} is required.`).max(max, `${label} is at most ${max} characters.`);
+const optText = (max = 4000) => z.string().trim().max(max, `At most ${max} characters.`).default('');
+const isoDate = (label: string) => z.iso.date(`${label}: use a date like 2024-05-31.`);
+const optDate = (label: string) => isoDate(label).or(z.literal('')).default('');
+const slugField = z
+	.string()
+	.trim()
+	.max(80)
+	.refine((s) => s === '' || SLUG_RE.test(s), 'Lower-case letters, digits and single hyphens, like "beam-bridge-2".')
+	.default('');
+const id = (label: string) => z.number({ message: `Choose ${label}.` }).int().positive(`Choose ${label}.`);
+const optId = z.number().int().positive().optional();
+
+// ------------------------------------------------------------------ catalogue
+
+export const chipSchema = z.object({
+	name: text('Chip name', 80),
+	maker: text('Maker', 120),
+	slug: slugField,
+	notes: optText()
+});
+
+export const POWER_KINDS = ['usb-bus', 'usb-adapter', 'barrel'] as const;
+export const OUTPUT_KINDS = ['vga', 'component', 'scart', 'bnc'] as const;
+
+export const converterSchema = z.object({
+	brand: text('Brand', 80),
+	model: text('Model', 120),
+	slug: slugField,
+	summary: optText(600),
+	hasAudioOut: z.boolean().default(false),
+	power: z.enum(POWER_KINDS).default('usb-bus'),
+	outputs: z.array(z.enum(OUTPUT_KINDS)).min(1, 'Tick at least one analog output.').default(['vga'])
+});
+
+export const revisionSchema = z
+	.object({
+		converterId: id('a converter'),
+		code: text('Revision code', 40),
+		chipId: id('the chip'),
+		boardMarking: optText(120),
+		seenFrom: optDate('Seen from'),
+		seenTo: optDate('Seen until'),
+		notes: optText()
+	})
+	.refine((r) => !r.seenFrom || !r.seenTo || r.seenTo >= r.seenFrom, {
+		message: 'The last date seen cannot be before the first.',
+		path: ['seenTo']
+	});
+
+// ------------------------------------------------------------------ bench runs
+
+export const TERMINATIONS = ['75-ohm', 'unterminated', 'unknown'] as const;
+
+/** Flat reading fields r0, g0, b0 ... b100, so the grid posts as a plain form without JS. */
+export function readingKey(channel: 'r' | 'g' | 'b', ire: number) {
+	return `${channel}${ire}` as const;
+}
+const readingShape = Object.fromEntries(
+	ALL_STEPS_IRE.flatMap((ire) =>
+		(['r', 'g', 'b'] as const).map((c) => [
+			readingKey(c, ire),
+			z
+				.number({ message: 'A number in mV.' })
+				.min(0, 'Not below 0 mV.')
+				.max(2000, 'Not above 2000 mV.')
+				.optional()
+		])
+	)
+) as Record<`${'r' | 'g' | 'b'}${number}`, z.ZodOptional<z.ZodNumber>>;
+
+export const benchRunSchema = z.object({
+	revisionId: id('the revision'),
+	measuredBy: text('Who measured', 120),
+	measuredOn: isoDate('Measured on'),
+	testSource: text('Test source', 200),
+	pattern: text('Pattern', 200).default('11-step grey ramp, 0-100 IRE'),
+	instrument: text('Instrument', 200),
+	termination: z.enum(TERMINATIONS).default('75-ohm'),
+	fullScaleMv: z.number({ message: 'Full scale in mV, usually 700.' }).min(100, 'At least 100 mV.').max(2000, 'At most 2000 mV.').default(700),
+	notes: optText(),
+	traceFileId: z.uuid().or(z.literal('')).default(''),
+	...readingShape
+});
+export type ReadingKey = `${'r' | 'g' | 'b'}${number}`;
+export type BenchRunForm = z.infer<typeof benchRunSchema> & Partial<Record<ReadingKey, number>>;
+
+export const reviewSchema = z.object({
+	id: z.number().int().positive(),
+	decision: z.enum(['accept', 'reject']),
+	reason: z.string().trim().min(3, 'Give a short reason (it is kept in the audit log and shown to the submitter).').max(500)
+});
+
+export const supersedeSchema = z.object({
+	id: z.number().int().positive(),
+	supersededById: optId,
+	reason: z.string().trim().min(3, 'Say why this run no longer counts.').max(500)
+});
+
+// ------------------------------------------------------------------ teardowns
+
+export const teardownSchema = z
+	.object({
+		converterId: id('the converter you opened'),
+		revisionId: optId,
+		shopId: optId,
+		shopNameOther: optText(120),
+		purchaseMonth: z.string().regex(/^\d{4}-(0[1-9]|1[0-2])$/, 'Purchase month: use a month like 2024-05.'),
+		chipId: optId,
+		chipText: optText(120),
+		boardMarking: optText(120),
+		notes: optText(),
+		photoFileId: z.uuid().or(z.literal('')).default('')
+	})
+	.refine((t) => t.chipId !== undefined || t.chipText.length > 0, {
+		message: 'Pick the chip you found, or type what is printed on it.',
+		path: ['chipText']
+	})
+	.refine((t) => t.shopId !== undefined || t.shopNameOther.length > 0, {
+		message: 'Pick the shop, or type its name.',
+		path: ['shopNameOther']
+	});
+
+export const teardownReviewSchema = z.object({
+	id: z.number().int().positive(),
+	decision: z.enum(['verify', 'reject']),
+	reason: z.string().trim().min(3, 'Give a short reason (kept in the audit log).').max(500),
+	revisionId: optId,
+	chipId: optId
+});
+
+// ------------------------------------------------------------------ listings and shops
+
+export const FEED_FORMATS = ['jsonld', 'microdata', 'selectors', 'api'] as const;
+export const REGIONS = ['na', 'eu', 'uk', 'jp', 'au'] as const;
+
+/** Feed config as JSON text in a textarea; '' means "use the shop's". */
+const jsonText = z
+	.string()
+	.trim()
+	.max(8000)
+	.refine((s) => {
+		if (s === '') return true;
+		try {
+			const v = JSON.parse(s);
+			return typeof v === 'object' && v !== null && !Array.isArray(v);
+		} catch {
+			return false;
+		}
+	}, 'Feed config must be a JSON object, like {"selectors": {"price": ".price", "stock": ".stock"}}.')
+	.default('');
+
+export const listingSchema = z.object({
+	shopId: id('the shop'),
+	converterId: id('the converter'),
+	url: z.url({ message: 'A full page address, starting with http:// or https://.', protocol: /^https?$/ }),
+	format: z.enum(FEED_FORMATS),
+	pollIntervalMinutes: z.number().int().min(1, 'At least 1 minute.').max(10080, 'At most a week (10080 minutes).').default(60),
+	feedConfig: jsonText
+});
+
+export const listingIdSchema = z.object({ id: z.number().int().positive() });
+
+export const shopSchema = z.object({
+	name: text('Shop name', 120),
+	slug: slugField,
+	region: z.enum(REGIONS),
+	currency: z.string().trim().toUpperCase().regex(/^[A-Z]{3}$/, 'A three-letter ISO 4217 code, like EUR.'),
+	baseUrl: z.url({ message: 'The shop address, like https://shop.example/.', protocol: /^https?$/ }),
+	defaultFormat: z.enum(FEED_FORMATS),
+	maxConcurrency: z.number().int().min(1, 'At least 1.').max(16, 'At most 16.').default(2),
+	minSpacingMs: z.number().int().min(0, 'Not negative.').max(600000, 'At most 10 minutes.').default(1000),
+	feedConfig: jsonText,
+	shipsTo: z.array(z.enum(REGIONS)).default([]),
+	active: z.boolean().default(true)
+});
+
+export const rateSchema = z
+	.object({
+		base: z.string().trim().toUpperCase().regex(/^[A-Z]{3}$/, 'A three-letter code, like EUR.'),
+		quote: z.string().trim().toUpperCase().regex(/^[A-Z]{3}$/, 'A three-letter code, like JPY.'),
+		day: isoDate('Day'),
+		rate: z.number({ message: 'A positive number.' }).positive('A positive number.').max(1e9)
+	})
+	.refine((r) => r.base !== r.quote, { message: 'Base and quote must differ.', path: ['quote'] });
+
+export const roleChangeSchema = z.object({
+	userId: z.string().min(1),
+	role: z.enum(['member', 'curator', 'admin']),
+	reason: z.string().trim().min(3, 'Give a reason for the audit log.').max(500)
+});
+
+// ------------------------------------------------------------------ guides
+
+export const guideSchema = z.object({
+	title: text('Title', 160),
+	slug: slugField,
+	summary: optText(400),
+	bodyMarkdown: z.string().max(100_000, 'The guide is too long (100 000 characters at most).').default('')
+});
+
+export const guidePickSchema = z.object({
+	converterId: id('a converter'),
+	note: optText(300),
+	position: z.number().int().min(0).max(99).default(0)
+});
