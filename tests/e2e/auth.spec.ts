@@ -48,3 +48,13 @@ test('an address in ADMIN_EMAILS gets the admin role', async ({ page }) => {
 	const res = await page.goto('/admin');
 	expect(res?.status()).toBe(200);
 });
+
+test('a malformed address is refused with a clear message and sends nothing', async ({ page }) => {
+	await page.goto('/signin');
+	// Bypass the browser's own type=email check to reach the server-side validation.
+	await page.getByLabel('E-mail address').evaluate((el) => el.setAttribute('type', 'text'));
+	await page.getByLabel('E-mail address').fill('not-an-address');
+	await page.getByRole('button', { name: /sign-in link/i }).click();
+	await expect(page.getByText('Enter an e-mail address like name@example.com.')).toBeVisible();
+	await expect(page.getByLabel('E-mail address')).toHaveValue('not-an-address');
+});
