@@ -39,6 +39,8 @@ export interface SenderOptions {
 	backoffMaxMs?: number;
 	/** Parallel SMTP sends within a batch. */
 	concurrency?: number;
+	/** Pause after each message per parallel sender (a provider's rate limit). */
+	sendSpacingMs?: number;
 	/** Reuse a transport (tests, benchmarks); otherwise one pooled transport per call. */
 	transport?: Transporter;
 	/** Called after the SMTP server accepted a message and before the row is marked (tests). */
@@ -77,7 +79,9 @@ export function senderOptionsFromEnv(env: Record<string, string | undefined>, sm
 		batchSize: num('ALERT_BATCH_SIZE', 50, 1, 1000),
 		maxAttempts: num('ALERT_MAX_ATTEMPTS', DEFAULT_MAX_ATTEMPTS, 1, 50),
 		backoffBaseMs: num('ALERT_BACKOFF_BASE_SECONDS', 120, 0, 86_400) * 1000,
-		leaseMs: num('ALERT_LEASE_SECONDS', 300, 5, 3600) * 1000
+		leaseMs: num('ALERT_LEASE_SECONDS', 300, 1, 3600) * 1000,
+		concurrency: num('ALERT_CONCURRENCY', 4, 1, 64),
+		sendSpacingMs: num('ALERT_SEND_SPACING_MS', 0, 0, 60_000)
 	};
 }
 
@@ -203,7 +207,7 @@ export async function sendDue(db: Db, options: SenderOptions): Promise<SendRepor
 	const contexts = await loadOutboxContexts(db, ids, { baseUrl: options.baseUrl, rates });
 	const ownTransport = !options.transport;
 	const transport = options.transport ?? createTransport(options.smtp);
-	let unreachable: string | null = null;
+	let unreachable: { error: string; delayMs: number } | null = null;
 	const now = new Date();
 
 	async function handle(ctx: OutboxContext) {
@@ -226,7 +230,7 @@ export async function sendDue(db: Db, options: SenderOptions): Promise<SendRepor
 			return;
 		}
 		if (unreachable) {
-			if (await settle(db, ctx.outboxId, owner, { kind: 'release', delayMs: backoffMs(1, baseMs, maxMs), error: unreachable })) report.released++;
+			if (await settle(db, ctx.outboxId, owner, { kind: 'release', ...unreachable })) report.released++;
 			return;
 		}
 		try {
@@ -234,10 +238,12 @@ export async function sendDue(db: Db, options: SenderOptions): Promise<SendRepor
 			if (info.rejected?.length) throw Object.assign(new Error(`recipient rejected: ${info.rejected.join(', ')}`), { responseCode: 550 });
 		} catch (err) {
 			const error = errorText(err);
-			if (isConnectionError(err)) unreachable = `SMTP server unreachable: ${error}`;
+			const delayMs = backoffMs(ctx.attempts, baseMs, maxMs);
+			// The rest of the batch waits as long as this row, without spending an attempt.
+			if (isConnectionError(err)) unreachable = { error: `SMTP server unreachable: ${error}`, delayMs };
 			if (isPermanent(err) || ctx.attempts >= maxAttempts) {
 				if (await settle(db, ctx.outboxId, owner, { kind: 'dead', error: `after ${ctx.attempts} attempt(s): ${error}` })) report.dead++;
-			} else if (await settle(db, ctx.outboxId, owner, { kind: 'retry', error, delayMs: backoffMs(ctx.attempts, baseMs, maxMs) })) {
+			} else if (await settle(db, ctx.outboxId, owner, { kind: 'retry', error, delayMs })) {
 				report.retried++;
 			}
 			log(`alert ${ctx.outboxId}: ${error}`);
@@ -246,6 +252,7 @@ export async function sendDue(db: Db, options: SenderOptions): Promise<SendRepor
 		await options.afterSend?.(ctx.outboxId);
 		if (await settle(db, ctx.outboxId, owner, { kind: 'sent' })) report.sent++;
 		else log(`alert ${ctx.outboxId}: sent, but the lease had passed to another sender`);
+		if (options.sendSpacingMs) await new Promise((r) => setTimeout(r, options.sendSpacingMs));
 	}
 
 	try {
