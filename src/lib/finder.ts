@@ -218,3 +218,35 @@ export function orderable(offers: CatalogueOffer[]): CatalogueOffer[] {
 }
 
 export { BANDS, REGION_CODES };
+
+/** One finder result as the page and GET /api/v1/finder show it. */
+export interface FinderItem {
+	rank: number;
+	slug: string;
+	brand: string;
+	model: string;
+	band: Band | null;
+	score: number | null;
+	hasAudioOut: boolean;
+	inStockShops: number;
+	best: { shop: string; stock: StockState; priceMinor: number | null; currency: string; url: string } | null;
+	explanation: string;
+	notes: string[];
+}
+
+export function finderItem(r: FinderResult): FinderItem {
+	const e = r.entry;
+	return {
+		rank: r.rank,
+		slug: e.slug,
+		brand: e.brand,
+		model: e.model,
+		band: e.bestBand,
+		score: e.bestScore,
+		hasAudioOut: e.hasAudioOut,
+		inStockShops: e.inStockShops,
+		best: e.best ? { shop: e.best.shopName, stock: e.best.stock, priceMinor: e.best.displayMinor, currency: e.best.displayCurrency, url: e.best.url } : null,
+		explanation: r.explanation,
+		notes: r.notes
+	};
+}
