@@ -24,6 +24,9 @@ export async function drainOutbox(db: Database, options: SenderOptions, maxBatch
 	return total;
 }
 
+/** Every 20 seconds (node-cron's optional seconds field); SENDER_CRON overrides. */
+export const DEFAULT_SENDER_CRON = '*/20 * * * * *';
+
 /** One sender pass for the jobs process, configured from the environment. */
 export function senderTask(db: Database, env: Record<string, string | undefined> = process.env) {
 	const options = senderOptionsFromEnv(env, smtpConfigFrom(env));

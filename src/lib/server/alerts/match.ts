@@ -67,6 +67,7 @@ interface EventContext {
 	price_minor: string | number | null;
 	currency: string | null;
 	quiet: boolean;
+	observation_id: number;
 	obs_stock: StockState;
 	converter_id: number;
 	has_audio_out: boolean;
@@ -113,7 +114,7 @@ export async function matchStockEvents(tx: Db, events: StockEventInput[], option
 		}
 		const [ctx] = rowsOf<EventContext>(
 			await tx.execute(sql`
-				select e.id, e.listing_id, e.kind, e.at, e.price_minor, e.currency, e.quiet,
+				select e.id, e.listing_id, e.kind, e.at, e.price_minor, e.currency, e.quiet, e.observation_id,
 					o.stock as obs_stock, l.converter_id, c.has_audio_out, s.id as shop_id, s.region as shop_region,
 					s.ships_to, (l.active and s.active) as listing_active, l.delisted_at
 				from stock_event e
@@ -183,6 +184,10 @@ export async function matchStockEvents(tx: Db, events: StockEventInput[], option
 					and (not w.needs_audio or ${ctx.has_audio_out})
 					and (w.shop_ids is null or cardinality(w.shop_ids) = 0 or ${ctx.shop_id} = any(w.shop_ids))
 					and (${!priceDrop} or w.also_price_drops)
+					-- A restock at a lower price writes two events for one observation: alert once.
+					and not exists (
+						select 1 from alert_outbox o2 join stock_event e2 on e2.id = o2.stock_event_id
+						where o2.watch_id = w.id and e2.observation_id = ${ctx.observation_id} and e2.id <> ${ctx.id})
 				on conflict (watch_id, stock_event_id) do nothing
 				returning id`)
 		);

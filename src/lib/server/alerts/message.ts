@@ -25,6 +25,8 @@ export interface AlertView {
 	previousRunMs: number | null;
 	buyUrl: string;
 	converterUrl: string;
+	/** Digests only: the listing sold out again after this event. */
+	soldOutAt?: Date | null;
 }
 
 export interface MessageLinks {
@@ -113,6 +115,7 @@ ${readoutRow('Price', html`<span style="font-variant-numeric:tabular-nums">${pri
 ${readoutRow('Level grade', html`${meterHtml(v.band)}<strong>${bandText(v)}</strong>`)}
 ${v.finding ? readoutRow('On the bench', v.finding) : ''}
 ${readoutRow('Stock history', lastRunText(v))}
+${v.soldOutAt ? readoutRow('Now', html`<strong>Sold out again</strong> ${formatDuration(v.soldOutAt.getTime() - v.at.getTime())} later`) : ''}
 </table>
 <p style="margin:0 0 8px"><a href="${v.buyUrl}" style="display:inline-block;background:${ACCENT};color:#ffffff;text-decoration:none;padding:10px 18px;border-radius:6px;font-weight:600">Open the shop page</a>
 &nbsp; <a href="${v.converterUrl}" style="color:${ACCENT};font-weight:600">Grade and prices on Scopegrade</a></p>`;
@@ -140,6 +143,7 @@ function alertText(v: AlertView): string[] {
 		`Level grade:   ${bandText(v)}`,
 		...(v.finding ? [`On the bench:  ${v.finding}`] : []),
 		`Stock history: ${lastRunText(v)}`,
+		...(v.soldOutAt ? [`Now:           Sold out again ${formatDuration(v.soldOutAt.getTime() - v.at.getTime())} later`] : []),
 		'',
 		`Shop page:  ${v.buyUrl}`,
 		`Scopegrade: ${v.converterUrl}`
