@@ -1,0 +1,39 @@
+import { z } from 'zod';
+import { db } from '$lib/server/db';
+import { loadListings } from '$lib/server/queries/public';
+import { currencySchema, regionSchema, searchObject, viewpoint } from '$lib/server/queries/public-params';
+import { badRequest, cachedJson, notFound } from '$lib/server/queries/public-http';
+import type { RequestHandler } from './$types';
+
+const params = z
+	.object({
+		converter: z.string({ error: 'converter (a converter slug) is required' }).regex(/^[a-z0-9]+(-[a-z0-9]+)*$/, 'must be a converter slug'),
+		region: regionSchema.optional(),
+		currency: currencySchema.optional()
+	})
+	.strict();
+
+/** Current state of every listing of one converter (all regions). */
+export const GET: RequestHandler = async ({ url, request }) => {
+	const parsed = params.safeParse(searchObject(url));
+	if (!parsed.success) return badRequest(parsed.error);
+	const view = viewpoint(parsed.data, null, request.headers.get('accept-language'));
+	const listings = await loadListings(db, parsed.data.converter, view);
+	if (!listings) return notFound('converter');
+	return cachedJson(request, {
+		converter: parsed.data.converter,
+		region: view.region,
+		currency: view.currency,
+		listings: listings.map((l) => ({
+			id: l.listingId,
+			shop: { slug: l.shopSlug, name: l.shopName, region: l.shopRegion, shipsTo: l.shipsTo },
+			url: l.url,
+			stock: l.stock,
+			price: l.priceMinor != null && l.currency ? { minor: l.priceMinor, currency: l.currency } : null,
+			displayPrice: l.displayMinor != null ? { minor: l.displayMinor, currency: l.displayCurrency } : null,
+			servesRegion: l.servesViewer,
+			lastCheckedAt: l.lastCheckedAt,
+			history: `/api/v1/listings/${l.listingId}/history`
+		}))
+	});
+};

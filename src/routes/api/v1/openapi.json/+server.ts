@@ -1,0 +1,5 @@
+import { openApiDocument } from '$lib/server/queries/public-openapi';
+import { cachedJson } from '$lib/server/queries/public-http';
+import type { RequestHandler } from './$types';
+
+export const GET: RequestHandler = ({ request, url }) => cachedJson(request, openApiDocument(url.origin));
