@@ -4,7 +4,7 @@
  * on the right field, keeping everything that was typed. Free of `$app`/`$env`, so the
  * integration tests run whole actions without the HTTP layer.
  */
-import { fail, type ActionFailure } from '@sveltejs/kit';
+import { error, fail, type ActionFailure } from '@sveltejs/kit';
 import { setError, superValidate, type SuperValidated } from 'sveltekit-superforms/server';
 import { zod4 } from 'sveltekit-superforms/adapters';
 import type { z } from 'zod';
@@ -71,4 +71,11 @@ export async function fileFrom(data: FormData, field: string): Promise<{ name: s
 	const v = data.get(field);
 	if (!v || typeof v === 'string' || v.size === 0) return null;
 	return { name: v.name || field, bytes: new Uint8Array(await v.arrayBuffer()) };
+}
+
+/** A numeric route id, or 404 (before any query runs). */
+export function idParam(raw: string | undefined): number {
+	const n = Number(raw);
+	if (!raw || !/^\d{1,9}$/.test(raw) || !Number.isSafeInteger(n) || n <= 0) error(404, 'Not found.');
+	return n;
 }

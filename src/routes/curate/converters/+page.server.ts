@@ -1,0 +1,23 @@
+import { redirect } from '@sveltejs/kit';
+import { requireRole } from '$lib/server/auth/guard';
+import { db } from '$lib/server/db';
+import { createConverter, listConvertersForCurators } from '$lib/server/curate/catalogue';
+import { attempt, emptyForm, invalid, validate } from '$lib/server/curate/forms';
+import { converterSchema } from '$lib/server/curate/schemas';
+import type { Actions, PageServerLoad } from './$types';
+
+export const load: PageServerLoad = async (event) => {
+	requireRole(event, 'curator');
+	return { converters: await listConvertersForCurators(db), form: await emptyForm(converterSchema) };
+};
+
+export const actions: Actions = {
+	create: async (event) => {
+		const user = requireRole(event, 'curator');
+		const form = await validate(event.request, converterSchema);
+		if (!form.valid) return invalid(form);
+		const res = await attempt(form, () => createConverter(db, user, form.data));
+		if (!res.ok) return res.failure;
+		redirect(303, `/curate/converters/${res.value.id}`);
+	}
+};

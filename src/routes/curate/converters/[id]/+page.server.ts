@@ -1,0 +1,76 @@
+import { error, fail, redirect } from '@sveltejs/kit';
+import { z } from 'zod';
+import { requireRole } from '$lib/server/auth/guard';
+import { db } from '$lib/server/db';
+import {
+	createRevision,
+	getConverter,
+	listChips,
+	listRevisions,
+	setConverterRetired,
+	updateConverter
+} from '$lib/server/curate/catalogue';
+import { attempt, emptyForm, idParam, invalid, validate } from '$lib/server/curate/forms';
+import { converterSchema, revisionSchema } from '$lib/server/curate/schemas';
+import type { Actions, PageServerLoad } from './$types';
+
+const retireSchema = z.object({ reason: z.string().trim().max(500).default('') });
+
+export const load: PageServerLoad = async (event) => {
+	requireRole(event, 'curator');
+	const id = idParam(event.params.id);
+	const converter = await getConverter(db, id);
+	if (!converter) error(404, 'No such converter.');
+	const [revisions, chips] = await Promise.all([listRevisions(db, id), listChips(db)]);
+	return {
+		converter,
+		revisions,
+		chips: chips.filter((c) => !c.retiredAt).map((c) => ({ value: c.id, label: `${c.name} (${c.maker})` })),
+		form: await emptyForm(converterSchema, {
+			brand: converter.brand,
+			model: converter.model,
+			slug: converter.slug,
+			summary: converter.summary,
+			hasAudioOut: converter.hasAudioOut,
+			power: converter.power,
+			outputs: converter.outputs as never
+		}, 'converter'),
+		revisionForm: await emptyForm(revisionSchema, { converterId: id }, 'revision')
+	};
+};
+
+export const actions: Actions = {
+	update: async (event) => {
+		const user = requireRole(event, 'curator');
+		const id = idParam(event.params.id);
+		const form = await validate(event.request, converterSchema);
+		if (!form.valid) return invalid(form);
+		const res = await attempt(form, () => updateConverter(db, user, id, form.data));
+		if (!res.ok) return res.failure;
+		redirect(303, `/curate/converters/${id}?saved=1`);
+	},
+	addRevision: async (event) => {
+		const user = requireRole(event, 'curator');
+		const id = idParam(event.params.id);
+		const data = await event.request.formData();
+		data.set('converterId', String(id));
+		const revisionForm = await validate(data, revisionSchema);
+		if (!revisionForm.valid) return fail(400, { revisionForm });
+		const res = await attempt(revisionForm, () => createRevision(db, user, revisionForm.data));
+		if (!res.ok) return fail(res.failure.status, { revisionForm: res.failure.data.form });
+		redirect(303, `/curate/revisions/${res.value.id}`);
+	},
+	retire: async (event) => {
+		const user = requireRole(event, 'curator');
+		const id = idParam(event.params.id);
+		const { reason } = retireSchema.parse(Object.fromEntries(await event.request.formData()));
+		await setConverterRetired(db, user, id, true, reason || undefined);
+		redirect(303, `/curate/converters/${id}`);
+	},
+	restore: async (event) => {
+		const user = requireRole(event, 'curator');
+		const id = idParam(event.params.id);
+		await setConverterRetired(db, user, id, false);
+		redirect(303, `/curate/converters/${id}`);
+	}
+};

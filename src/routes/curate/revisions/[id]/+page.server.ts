@@ -1,0 +1,67 @@
+import { error, fail, redirect } from '@sveltejs/kit';
+import { requireRole } from '$lib/server/auth/guard';
+import { db } from '$lib/server/db';
+import { runsOfRevision, supersedeBenchRun } from '$lib/server/curate/bench';
+import { getRevision, listChips, setRevisionRetired, updateRevision } from '$lib/server/curate/catalogue';
+import { attempt, emptyForm, idParam, invalid, validate } from '$lib/server/curate/forms';
+import { revisionSchema, supersedeSchema } from '$lib/server/curate/schemas';
+import type { Actions, PageServerLoad } from './$types';
+
+export const load: PageServerLoad = async (event) => {
+	requireRole(event, 'curator');
+	const id = idParam(event.params.id);
+	const found = await getRevision(db, id);
+	if (!found) error(404, 'No such revision.');
+	const { revision } = found;
+	const [runs, chips] = await Promise.all([runsOfRevision(db, id), listChips(db)]);
+	return {
+		...found,
+		runs,
+		chips: chips.map((c) => ({ value: c.id, label: `${c.name} (${c.maker})${c.retiredAt ? ', retired' : ''}` })),
+		form: await emptyForm(revisionSchema, {
+			converterId: revision.converterId,
+			code: revision.code,
+			chipId: revision.chipId,
+			boardMarking: revision.boardMarking,
+			seenFrom: revision.seenFrom ?? '',
+			seenTo: revision.seenTo ?? '',
+			notes: revision.notes
+		})
+	};
+};
+
+export const actions: Actions = {
+	update: async (event) => {
+		const user = requireRole(event, 'curator');
+		const id = idParam(event.params.id);
+		const form = await validate(event.request, revisionSchema);
+		if (!form.valid) return invalid(form);
+		const res = await attempt(form, () => updateRevision(db, user, id, form.data));
+		if (!res.ok) return res.failure;
+		redirect(303, `/curate/revisions/${id}`);
+	},
+	supersede: async (event) => {
+		const user = requireRole(event, 'curator');
+		const id = idParam(event.params.id);
+		const form = await validate(event.request, supersedeSchema);
+		if (!form.valid) return fail(400, { supersede: { id: form.data.id, error: Object.values(form.errors).flat()[0] as string } });
+		const res = await attempt(form, () => supersedeBenchRun(db, user, form.data));
+		if (!res.ok) {
+			const m = res.failure.data.form.message as { text?: string } | undefined;
+			return fail(res.failure.status, { supersede: { id: form.data.id, error: m?.text ?? 'Could not supersede the run.' } });
+		}
+		redirect(303, `/curate/revisions/${id}`);
+	},
+	retire: async (event) => {
+		const user = requireRole(event, 'curator');
+		const id = idParam(event.params.id);
+		await setRevisionRetired(db, user, id, true);
+		redirect(303, `/curate/revisions/${id}`);
+	},
+	restore: async (event) => {
+		const user = requireRole(event, 'curator');
+		const id = idParam(event.params.id);
+		await setRevisionRetired(db, user, id, false);
+		redirect(303, `/curate/revisions/${id}`);
+	}
+};
