@@ -39,6 +39,9 @@ export function parseRetryAfter(value: string | null | undefined, now: Date, ser
 	if (/^\d+$/.test(v)) {
 		waitMs = Number(v) * 1000;
 	} else {
+		// An HTTP-date always names its month ("Wed, 21 Oct 2015 07:28:00 GMT"); Date.parse alone
+		// would also accept things like "-5" as a year.
+		if (!/[A-Za-z]{3}/.test(v)) return null;
 		const at = Date.parse(v);
 		if (Number.isNaN(at)) return null;
 		const ref = serverDate ? Date.parse(serverDate) : NaN;

@@ -1,0 +1,388 @@
+/**
+ * Price and stock history of listings, read from change points (observation rows: one per change of
+ * price, currency or stock state), and the poller's health per shop.
+ *
+ * Definitions used by every figure (documented for the public pages):
+ * - Between two change points the listing is taken to have kept the earlier point's values; the last
+ *   point holds until `to` (now, or the delisting time). Time before the first point is not counted.
+ * - Lowest and median price are over time with a known price in the window, whatever the stock state,
+ *   in the currency of the latest priced point (a shop that switched currency is not mixed). The
+ *   median is TIME-WEIGHTED: the price the listing showed for half of that time or more.
+ * - Share of time in stock is buyable time (in stock or pre-order, as isBuyable) over time with a
+ *   known stock state; 'unknown' spans count in neither.
+ * - A restock is a change point going from a known not-buyable state to buyable ('unknown' readings in
+ *   between are skipped, as the poller does). A restock's duration is the span from a restock to the
+ *   next sell-out; the typical duration is the median of spells that ENDED in the window (open ones
+ *   are not yet measurable).
+ */
+import { and, asc, desc, eq, gte, inArray, isNull, lte, sql } from 'drizzle-orm';
+import type { Database } from '../db/client';
+import { listingStates, listings, observations, pollCounts, shopPollStates, shops, type PollOutcome, type StockState } from '../db/schema';
+import { bestOfferByConverter, isBuyable, REGION_CODES, REGION_CURRENCY, type PricedOffer, type Region } from '../../pricing';
+import { currentOffers, loadRates } from './offers';
+
+const DAY = 86_400_000;
+
+export interface ChangePoint {
+	at: Date;
+	priceMinor: number | null;
+	currency: string | null;
+	stock: StockState;
+}
+
+export interface WindowFigures {
+	from: Date;
+	to: Date;
+	/** Currency of lowest/median (ISO 4217), null when no price was known in the window. */
+	currency: string | null;
+	lowestMinor: number | null;
+	/** Time-weighted median price. */
+	medianMinor: number | null;
+	/** 0..1, or null when no stock state was known in the window. */
+	buyableShare: number | null;
+	restocks: number;
+	/** Median hours a restock lasted before selling out (completed spells ending in the window). */
+	typicalRestockHours: number | null;
+	completedSpells: number;
+	/** Hours of the window covered by history. */
+	coveredHours: number;
+}
+
+interface Segment {
+	start: number;
+	end: number;
+	point: ChangePoint;
+}
+
+/** Segments of `points` (sorted by time) clipped to [from, to]; zero-length ones dropped. */
+function segments(points: ChangePoint[], from: number, to: number): Segment[] {
+	const out: Segment[] = [];
+	for (let i = 0; i < points.length; i++) {
+		const start = Math.max(points[i].at.getTime(), from);
+		const end = Math.min(i + 1 < points.length ? points[i + 1].at.getTime() : to, to);
+		if (end > start) out.push({ start, end, point: points[i] });
+	}
+	return out;
+}
+
+/** Median of numbers (mean of the middle two for an even count); null when empty. */
+function median(xs: number[]): number | null {
+	if (!xs.length) return null;
+	const s = [...xs].sort((a, b) => a - b);
+	const m = s.length >> 1;
+	return s.length % 2 ? s[m] : (s[m - 1] + s[m]) / 2;
+}
+
+/** Restocks and completed buyable spells over the whole history, judged against the last known state. */
+function transitions(points: ChangePoint[]): { restocks: number[]; spells: Array<{ start: number; end: number }> } {
+	const restocks: number[] = [];
+	const spells: Array<{ start: number; end: number }> = [];
+	let known: StockState | null = null;
+	let spellStart: number | null = null;
+	for (const p of points) {
+		if (p.stock === 'unknown') continue;
+		const t = p.at.getTime();
+		if (known && !isBuyable(known) && isBuyable(p.stock)) {
+			restocks.push(t);
+			spellStart = t;
+		} else if (known && isBuyable(known) && !isBuyable(p.stock)) {
+			if (spellStart !== null) spells.push({ start: spellStart, end: t });
+			spellStart = null;
+		}
+		known = p.stock;
+	}
+	return { restocks, spells };
+}
+
+/**
+ * Figures for one window [from, to] from a listing's change points (sorted by time, any span; points
+ * after `to` are ignored). Pure: the definitions are in this module's header.
+ */
+export function windowFigures(allPoints: ChangePoint[], from: Date, to: Date): WindowFigures {
+	const f = from.getTime();
+	const t = to.getTime();
+	const points = allPoints.filter((p) => p.at.getTime() <= t);
+	const segs = segments(points, f, t);
+	const priced = segs.filter((s) => s.point.priceMinor != null && s.point.currency);
+	const currency = priced.length ? priced[priced.length - 1].point.currency : null;
+	const inCurrency = priced.filter((s) => s.point.currency === currency);
+	let lowestMinor: number | null = null;
+	let medianMinor: number | null = null;
+	if (inCurrency.length) {
+		lowestMinor = Math.min(...inCurrency.map((s) => s.point.priceMinor!));
+		const byPrice = [...inCurrency].sort((a, b) => a.point.priceMinor! - b.point.priceMinor!);
+		const total = byPrice.reduce((n, s) => n + (s.end - s.start), 0);
+		let acc = 0;
+		for (const s of byPrice) {
+			acc += s.end - s.start;
+			if (acc * 2 >= total) {
+				medianMinor = s.point.priceMinor;
+				break;
+			}
+		}
+	}
+	const knownStock = segs.filter((s) => s.point.stock !== 'unknown');
+	const knownMs = knownStock.reduce((n, s) => n + (s.end - s.start), 0);
+	const buyableMs = knownStock.filter((s) => isBuyable(s.point.stock)).reduce((n, s) => n + (s.end - s.start), 0);
+	const { restocks, spells } = transitions(points);
+	const ended = spells.filter((s) => s.end >= f && s.end <= t);
+	const typical = median(ended.map((s) => s.end - s.start));
+	return {
+		from,
+		to,
+		currency,
+		lowestMinor,
+		medianMinor,
+		buyableShare: knownMs > 0 ? buyableMs / knownMs : null,
+		restocks: restocks.filter((r) => r >= f && r <= t).length,
+		typicalRestockHours: typical === null ? null : typical / 3_600_000,
+		completedSpells: ended.length,
+		coveredHours: segs.reduce((n, s) => n + (s.end - s.start), 0) / 3_600_000
+	};
+}
+
+/**
+ * At most `maxPoints` change points for a chart of [from, to], step-preserving: the window is cut into
+ * equal time buckets and each keeps its first, cheapest, dearest and last point. Every point kept is a
+ * real change point, so a step chart through them shows true levels, every price extreme and the
+ * state at each bucket's end; only short-lived states inside a busy bucket can drop out.
+ */
+export function downsampleSteps(points: ChangePoint[], from: Date, to: Date, maxPoints: number): ChangePoint[] {
+	if (points.length <= maxPoints) return points;
+	const buckets = Math.max(1, Math.floor(maxPoints / 4));
+	const f = from.getTime();
+	const width = Math.max(1, (to.getTime() - f) / buckets);
+	const keep = new Set<number>();
+	let i = 0;
+	for (let b = 0; b < buckets && i < points.length; b++) {
+		const end = b === buckets - 1 ? Infinity : f + (b + 1) * width;
+		const first = i;
+		let lo = -1;
+		let hi = -1;
+		while (i < points.length && points[i].at.getTime() < end) {
+			const p = points[i].priceMinor;
+			if (p != null && (lo < 0 || p < points[lo].priceMinor!)) lo = i;
+			if (p != null && (hi < 0 || p > points[hi].priceMinor!)) hi = i;
+			i++;
+		}
+		if (i === first) continue;
+		keep.add(first).add(i - 1);
+		if (lo >= 0) keep.add(lo);
+		if (hi >= 0) keep.add(hi);
+	}
+	return [...keep].sort((a, b) => a - b).map((k) => points[k]);
+}
+
+export const HISTORY_RANGES = ['30d', '90d', '1y', 'all'] as const;
+export type HistoryRange = (typeof HISTORY_RANGES)[number];
+const RANGE_DAYS: Record<Exclude<HistoryRange, 'all'>, number> = { '30d': 30, '90d': 90, '1y': 365 };
+
+export interface ListingHistory {
+	listing: { id: number; converterId: number; url: string; currency: string; delistedAt: Date | null; shop: { slug: string; name: string; region: Region } };
+	current: {
+		priceMinor: number | null;
+		currency: string | null;
+		stock: StockState;
+		since: Date | null;
+		lastCheckedAt: Date | null;
+		lastSuccessAt: Date | null;
+		lastOutcome: PollOutcome | null;
+		consecutiveFailures: number;
+	};
+	range: { key: HistoryRange; from: Date; to: Date };
+	/** Change points for the chart; the first is the state carried in at `from` (carried: true). */
+	points: Array<ChangePoint & { carried?: boolean }>;
+	/** Change points in the range before downsampling. */
+	totalPoints: number;
+	downsampled: boolean;
+	figures: { d30: WindowFigures; d90: WindowFigures };
+}
+
+/** A listing's change points (all of them, oldest first). */
+async function loadPoints(db: Database, listingIds: number[]): Promise<Map<number, ChangePoint[]>> {
+	const rows = listingIds.length
+		? await db
+				.select({ listingId: observations.listingId, at: observations.observedAt, priceMinor: observations.priceMinor, currency: observations.currency, stock: observations.stock })
+				.from(observations)
+				.where(inArray(observations.listingId, listingIds))
+				.orderBy(asc(observations.listingId), asc(observations.observedAt), asc(observations.id))
+		: [];
+	const out = new Map<number, ChangePoint[]>(listingIds.map((id) => [id, []]));
+	for (const { listingId, ...p } of rows) out.get(listingId)!.push(p);
+	return out;
+}
+
+/**
+ * One listing's history for a chart plus its 30- and 90-day figures; null when there is no such
+ * listing. `points` caps the chart's points (downsampleSteps).
+ */
+export async function listingHistory(
+	db: Database,
+	listingId: number,
+	opts: { range?: HistoryRange; points?: number; now?: Date } = {}
+): Promise<ListingHistory | null> {
+	const now = opts.now ?? new Date();
+	const range = opts.range ?? '90d';
+	const [row] = await db
+		.select({ listing: listings, shop: { slug: shops.slug, name: shops.name, region: shops.region, currency: shops.currency }, state: listingStates })
+		.from(listings)
+		.innerJoin(shops, eq(shops.id, listings.shopId))
+		.leftJoin(listingStates, eq(listingStates.listingId, listings.id))
+		.where(eq(listings.id, listingId));
+	if (!row) return null;
+	const all = (await loadPoints(db, [listingId])).get(listingId)!;
+	// A delisted page's history ends when it went away: no figure runs on past that.
+	const to = row.listing.delistedAt && row.listing.delistedAt < now ? row.listing.delistedAt : now;
+	const from = range === 'all' ? (all[0]?.at ?? to) : new Date(to.getTime() - RANGE_DAYS[range] * DAY);
+	const upto = all.filter((p) => p.at <= to);
+	const inRange = upto.filter((p) => p.at >= from);
+	const before = upto.filter((p) => p.at < from).pop();
+	const chart: Array<ChangePoint & { carried?: boolean }> = before ? [{ ...before, at: from, carried: true }, ...inRange] : inRange;
+	const maxPoints = Math.min(Math.max(opts.points ?? 300, 10), 1000);
+	const sampled = downsampleSteps(chart, from, to, maxPoints);
+	const st = row.state;
+	return {
+		listing: {
+			id: row.listing.id,
+			converterId: row.listing.converterId,
+			url: row.listing.url,
+			currency: row.shop.currency,
+			delistedAt: row.listing.delistedAt,
+			shop: { slug: row.shop.slug, name: row.shop.name, region: row.shop.region }
+		},
+		current: {
+			priceMinor: st?.currentPriceMinor ?? null,
+			currency: st?.currentCurrency ?? null,
+			stock: st?.currentStock ?? 'unknown',
+			since: st?.currentSince ?? null,
+			lastCheckedAt: st?.lastCheckedAt ?? null,
+			lastSuccessAt: st?.lastSuccessAt ?? null,
+			lastOutcome: st?.lastOutcome ?? null,
+			consecutiveFailures: st?.consecutiveFailures ?? 0
+		},
+		range: { key: range, from, to },
+		points: sampled,
+		totalPoints: inRange.length,
+		downsampled: sampled.length < chart.length,
+		figures: {
+			d30: windowFigures(upto, new Date(to.getTime() - 30 * DAY), to),
+			d90: windowFigures(upto, new Date(to.getTime() - 90 * DAY), to)
+		}
+	};
+}
+
+/** 30- and 90-day figures for many listings at once (converter and guide pages). */
+export async function listingFigures(db: Database, listingIds: number[], now = new Date()): Promise<Map<number, { d30: WindowFigures; d90: WindowFigures }>> {
+	const points = await loadPoints(db, listingIds);
+	const delisted = listingIds.length
+		? await db.select({ id: listings.id, delistedAt: listings.delistedAt }).from(listings).where(inArray(listings.id, listingIds))
+		: [];
+	const ends = new Map(delisted.map((d) => [d.id, d.delistedAt && d.delistedAt < now ? d.delistedAt : now]));
+	const out = new Map<number, { d30: WindowFigures; d90: WindowFigures }>();
+	for (const [id, pts] of points) {
+		const to = ends.get(id) ?? now;
+		out.set(id, { d30: windowFigures(pts, new Date(to.getTime() - 30 * DAY), to), d90: windowFigures(pts, new Date(to.getTime() - 90 * DAY), to) });
+	}
+	return out;
+}
+
+/**
+ * Per converter, the best buyable offer in every region, priced in the region's currency through the
+ * latest exchange rates (bestOfferByConverter over currentOffers). A region without one maps to null.
+ */
+export async function bestOffersByRegion(db: Database, converterIds?: number[], now = new Date()): Promise<Map<number, Record<Region, PricedOffer | null>>> {
+	const [offers, rates] = await Promise.all([currentOffers(db, converterIds), loadRates(db, now.toISOString().slice(0, 10))]);
+	const ids = converterIds ?? [...new Set(offers.map((o) => o.converterId))];
+	const out = new Map<number, Record<Region, PricedOffer | null>>(
+		ids.map((id) => [id, Object.fromEntries(REGION_CODES.map((r) => [r, null])) as Record<Region, PricedOffer | null>])
+	);
+	for (const region of REGION_CODES) {
+		for (const [converterId, offer] of bestOfferByConverter(offers, region, REGION_CURRENCY[region], rates)) {
+			out.get(converterId)![region] = offer;
+		}
+	}
+	return out;
+}
+
+const FAILURE_OUTCOMES = new Set<PollOutcome>(['timeout', 'network', 'http_4xx', 'http_5xx', 'rate_limited', 'robots_disallowed', 'gone', 'unreadable', 'wrong_currency', 'too_large']);
+
+export interface ShopHealth {
+	shop: { id: number; slug: string; name: string; active: boolean };
+	/** Poll outcomes counted per outcome over the window (poll_count days). */
+	counts: Partial<Record<PollOutcome, number>>;
+	polls: number;
+	failures: number;
+	/** failures / polls, null with no polls. */
+	failureShare: number | null;
+	lastPollAt: Date | null;
+	lastError: { outcome: PollOutcome; at: Date; detail: string | null } | null;
+	pausedUntil: Date | null;
+	pauseReason: string | null;
+	/** Active listings whose latest poll failed, worst first. */
+	failingNow: Array<{
+		listingId: number;
+		url: string;
+		lastOutcome: PollOutcome | null;
+		lastError: string | null;
+		lastErrorAt: Date | null;
+		consecutiveFailures: number;
+		nextPollAt: Date;
+	}>;
+}
+
+/** The poller's health per shop over the last `days` days (UTC, today included), for curators. */
+export async function shopHealth(db: Database, opts: { now?: Date; days?: number } = {}): Promise<{ from: string; to: string; shops: ShopHealth[] }> {
+	const now = opts.now ?? new Date();
+	const days = opts.days ?? 7;
+	const to = now.toISOString().slice(0, 10);
+	const from = new Date(now.getTime() - (days - 1) * DAY).toISOString().slice(0, 10);
+	const [shopRows, counts, failing, pauses] = await Promise.all([
+		db.select({ id: shops.id, slug: shops.slug, name: shops.name, active: shops.active }).from(shops).orderBy(asc(shops.slug)),
+		db
+			.select({ shopId: pollCounts.shopId, outcome: pollCounts.outcome, count: pollCounts.count, lastAt: pollCounts.lastAt, lastDetail: pollCounts.lastDetail })
+			.from(pollCounts)
+			.where(and(gte(pollCounts.day, from), lte(pollCounts.day, to))),
+		db
+			.select({
+				shopId: listings.shopId,
+				listingId: listings.id,
+				url: listings.url,
+				lastOutcome: listingStates.lastOutcome,
+				lastError: listingStates.lastError,
+				lastErrorAt: listingStates.lastErrorAt,
+				consecutiveFailures: listingStates.consecutiveFailures,
+				nextPollAt: listingStates.nextPollAt
+			})
+			.from(listingStates)
+			.innerJoin(listings, eq(listings.id, listingStates.listingId))
+			.where(and(sql`${listingStates.consecutiveFailures} > 0`, eq(listings.active, true), isNull(listings.delistedAt)))
+			.orderBy(desc(listingStates.consecutiveFailures), asc(listings.id)),
+		db.select().from(shopPollStates)
+	]);
+	return {
+		from,
+		to,
+		shops: shopRows.map((shop) => {
+			const mine = counts.filter((c) => c.shopId === shop.id);
+			const byOutcome: Partial<Record<PollOutcome, number>> = {};
+			for (const c of mine) byOutcome[c.outcome] = (byOutcome[c.outcome] ?? 0) + c.count;
+			const polls = mine.reduce((n, c) => n + c.count, 0);
+			const failures = mine.filter((c) => FAILURE_OUTCOMES.has(c.outcome)).reduce((n, c) => n + c.count, 0);
+			const lastFailure = mine.filter((c) => FAILURE_OUTCOMES.has(c.outcome)).sort((a, b) => +b.lastAt - +a.lastAt)[0];
+			const pause = pauses.find((p) => p.shopId === shop.id);
+			const lastPollAt = mine.length ? new Date(Math.max(...mine.map((c) => +c.lastAt))) : null;
+			return {
+				shop,
+				counts: byOutcome,
+				polls,
+				failures,
+				failureShare: polls ? failures / polls : null,
+				lastPollAt,
+				lastError: lastFailure ? { outcome: lastFailure.outcome, at: lastFailure.lastAt, detail: lastFailure.lastDetail } : null,
+				pausedUntil: pause?.pausedUntil && pause.pausedUntil > now ? pause.pausedUntil : null,
+				pauseReason: pause?.pausedUntil && pause.pausedUntil > now ? pause.pauseReason : null,
+				failingNow: failing.filter((f) => f.shopId === shop.id).map(({ shopId: _s, ...f }) => f)
+			};
+		})
+	};
+}

@@ -1,0 +1,21 @@
+/**
+ * GET /api/v1/curate/shops/health?days=7 (curators): per shop, poll outcomes counted over the last
+ * `days` days, the last error, a Retry-After pause, and the listings failing now.
+ */
+import { json } from '@sveltejs/kit';
+import { z } from 'zod';
+import { requireApiRole } from '$lib/server/auth/guard';
+import { db } from '$lib/server/db';
+import { shopHealth } from '$lib/server/queries/history';
+import type { RequestHandler } from './$types';
+
+const query = z.object({ days: z.coerce.number().int().min(1).max(90).default(7) });
+
+export const GET: RequestHandler = async (event) => {
+	requireApiRole(event, 'curator');
+	const q = query.safeParse(Object.fromEntries(event.url.searchParams));
+	if (!q.success) {
+		return json({ error: 'invalid query parameters: days is 1-90', issues: q.error.issues.map((i) => ({ path: i.path.join('.'), message: i.message })) }, { status: 400 });
+	}
+	return json(await shopHealth(db, { days: q.data.days }), { headers: { 'Cache-Control': 'private, no-store' } });
+};
