@@ -76,34 +76,36 @@ export async function claimDue(db: Database, o: ClaimOptions): Promise<ClaimedLi
 				where ls.lease_until > ${now}::timestamptz
 				group by l.shop_id
 			),
-			candidates as (
-				select ls.listing_id, l.shop_id, ls.next_poll_at, ls.poll_requested_at
-				from listing_state ls
-				join listing l on l.id = ls.listing_id
-				join shop s on s.id = l.shop_id
-				left join shop_poll_state sp on sp.shop_id = s.id
-				where l.active and l.delisted_at is null and s.active
-					and (ls.next_poll_at <= ${now}::timestamptz or ls.poll_requested_at is not null)
-					and (ls.lease_until is null or ls.lease_until <= ${now}::timestamptz)
-					and (sp.paused_until is null or sp.paused_until <= ${now}::timestamptz)
-					and not exists (select 1 from busy b where b.shop_id = l.shop_id and b.theirs > 0)
-					${only ? sql`and ls.listing_id in (${sql.join(only.length ? only.map((id) => sql`${id}`) : [sql`-1`], sql`, `)})` : sql``}
-				for update of ls skip locked
-			),
-			ranked as (
-				select c.*, row_number() over (
-					partition by c.shop_id
-					order by (c.poll_requested_at is null), c.next_poll_at, c.listing_id
-				) as rn
-				from candidates c
-			),
+			-- Per shop, only its next few due listings are looked at and locked (a LATERAL subquery with
+			-- LIMIT and SKIP LOCKED), so a claim costs the same with ten or ten thousand due listings
+			-- and no shop's backlog can starve the others.
 			chosen as (
-				select r.listing_id, r.rn, s.min_spacing_ms, s.max_concurrency
-				from ranked r
-				join shop s on s.id = r.shop_id
-				left join busy b on b.shop_id = r.shop_id
-				where r.rn <= s.max_concurrency * ${o.depth} - coalesce(b.mine, 0)
-				order by r.rn, (r.poll_requested_at is null), r.next_poll_at
+				select c.listing_id, c.rn, s.min_spacing_ms, s.max_concurrency
+				from shop s
+				left join busy b on b.shop_id = s.id
+				left join shop_poll_state sp on sp.shop_id = s.id
+				cross join lateral (
+					select x.listing_id, x.next_poll_at, x.poll_requested_at,
+						row_number() over (order by (x.poll_requested_at is null), x.next_poll_at, x.listing_id) as rn
+					from (
+						select ls.listing_id, ls.next_poll_at, ls.poll_requested_at
+						from listing_state ls
+						join listing l on l.id = ls.listing_id
+						where l.shop_id = s.id and l.active and l.delisted_at is null
+							-- Shop conditions again here, so paused or busy shops lock nothing.
+							and s.active and (sp.paused_until is null or sp.paused_until <= ${now}::timestamptz) and coalesce(b.theirs, 0) = 0
+							and (ls.next_poll_at <= ${now}::timestamptz or ls.poll_requested_at is not null)
+							and (ls.lease_until is null or ls.lease_until <= ${now}::timestamptz)
+							${only ? sql`and ls.listing_id in (${sql.join(only.length ? only.map((id) => sql`${id}`) : [sql`-1`], sql`, `)})` : sql``}
+						order by (ls.poll_requested_at is null), ls.next_poll_at, ls.listing_id
+						limit greatest(s.max_concurrency * ${o.depth} - coalesce(b.mine, 0), 0)
+						for update of ls skip locked
+					) x
+				) c
+				where s.active
+					and (sp.paused_until is null or sp.paused_until <= ${now}::timestamptz)
+					and coalesce(b.theirs, 0) = 0
+				order by c.rn, (c.poll_requested_at is null), c.next_poll_at
 				limit ${o.limit}
 			)
 			update listing_state ls
