@@ -1,0 +1,221 @@
+/**
+ * Public guide journeys against the seeded demo (src/lib/demo/scenario.ts). Which demo
+ * converters match a filter is worked out from the scenario in the comments beside each check.
+ */
+import { expect, test } from '@playwright/test';
+import { distinctColours, expectAccessible, expectNoSidewaysScroll, paintedPixels, screenshot } from './support/guide-pages';
+
+const slugsOn = async (page: import('@playwright/test').Page, list: string) =>
+	page.locator(`[data-testid=${list}] > li`).evaluateAll((els) => els.map((e) => e.getAttribute('data-slug')));
+
+test.describe('catalogue', () => {
+	test('filtering to in stock, Close or better, EU, with audio gives exactly Beam Bridge and Scanlet', async ({ page }) => {
+		// EU is served by Kanalhaus (EU) and Thamesbit (UK, ships to the EU). In stock there with
+		// audio out: Beam Bridge (Exact), Scanlet (rev A Close, rev B Failing), Loop RGB (Poor) and
+		// Beam Bridge Pro (Fair). Close or better on any current revision: Beam Bridge and Scanlet.
+		await page.goto('/converters');
+		await expect(page.getByTestId('result-count')).toHaveText('6 of 6 converters');
+		const form = page.getByRole('form', { name: 'Filter converters' });
+		await form.getByLabel('Region').selectOption('eu');
+		await expect(page).toHaveURL(/region=eu/);
+		await form.getByLabel('Currency').selectOption('EUR');
+		await form.getByLabel('Band').selectOption('close');
+		await expect(page).toHaveURL(/band=close/);
+		await form.getByLabel('In stock now in my region').check();
+		await expect(page).toHaveURL(/stock=1/);
+		await form.getByLabel('Audio out').check();
+		await expect(page).toHaveURL(/audio=1/);
+		await expect(page.getByTestId('result-count')).toHaveText('2 of 6 converters');
+		expect(await slugsOn(page, 'catalogue')).toEqual(['vantacove-beam-bridge', 'brisling-scanlet']);
+		// Every revision's band stays visible, so the Scanlet's chip change shows.
+		const scanlet = page.locator('[data-slug=brisling-scanlet]');
+		await expect(scanlet.locator('[data-band=close]')).toHaveCount(1);
+		await expect(scanlet.locator('[data-band=failing]')).toHaveCount(1);
+		// Kanalhaus sells the Scanlet for 11.90 EUR (scenario LISTINGS).
+		await expect(scanlet.getByTestId('best-price')).toHaveText('11.90 EUR');
+
+		// The view is in the URL: shared, it shows the same list.
+		const shared = page.url();
+		const other = await page.context().newPage();
+		await other.goto(shared);
+		expect(await slugsOn(other, 'catalogue')).toEqual(['vantacove-beam-bridge', 'brisling-scanlet']);
+		await other.close();
+	});
+
+	test('works without JavaScript, sorts by price, and remembers the region in a cookie', async ({ browser }) => {
+		const ctx = await browser.newContext({ javaScriptEnabled: false, locale: 'en-US', extraHTTPHeaders: { 'Accept-Language': 'en-US' } });
+		const page = await ctx.newPage();
+		await page.goto('/converters');
+		// Accept-Language en-US -> North America, USD.
+		await expect(page.getByText('Prices for North America, in USD')).toBeVisible();
+		await page.getByLabel('Region').selectOption('jp');
+		await page.getByLabel('Currency').selectOption('JPY');
+		await page.getByLabel('Sort by').selectOption('price');
+		await page.getByRole('button', { name: 'Show converters' }).click();
+		await expect(page).toHaveURL(/sort=price/);
+		// Kumo Parts (JP): Q-Cast Mini 1,280 JPY, Beam Bridge 3,480 JPY in stock; Phosphor One on backorder.
+		const first = page.locator('[data-testid=catalogue] > li').first();
+		await expect(first).toHaveAttribute('data-slug', 'quillfen-q-cast-mini');
+		await expect(first.getByTestId('best-price')).toHaveText('1,280 JPY');
+		await page.goto('/converters');
+		await expect(page.getByText('Prices for Japan, in JPY')).toBeVisible();
+		await ctx.close();
+	});
+});
+
+test.describe('converter page', () => {
+	test('draws the level chart, shows findings, what-if, preview, listings and switches history range', async ({ page }) => {
+		await page.goto('/converters/brisling-scanlet');
+		await expect(page.getByRole('heading', { level: 1, name: 'Scanlet' })).toBeVisible();
+		await expect(page.getByTestId('last-reviewed')).not.toHaveText('never');
+		const revB = page.locator('[data-testid=revision][data-revision=B]');
+		await expect(revB.getByTestId('findings')).toContainText('Shadows too dark');
+		await expect(revB.getByTestId('run-count')).toContainText('Graded from 2 bench runs');
+
+		const chart = revB.locator('[data-testid=level-chart]');
+		await expect(chart).toHaveAttribute('data-ready', 'true');
+		const canvas = chart.locator('canvas');
+		expect(await paintedPixels(canvas)).toBeGreaterThan(2000);
+		expect(await distinctColours(canvas)).toBeGreaterThan(4);
+		await revB.getByRole('button', { name: 'Deviation' }).click();
+		await expect(revB.getByRole('button', { name: 'Deviation' })).toHaveAttribute('aria-pressed', 'true');
+
+		// Step table: 11 steps with mV, deviation and dE00.
+		await revB.getByText('Step table').click();
+		await expect(revB.getByTestId('step-table').locator('tbody tr')).toHaveCount(11);
+
+		// What-if re-analyses in the browser: a +5 IRE lift changes the predicted readings.
+		await revB.getByText('What if the source changed its levels?').click();
+		const whatIf = revB.getByTestId('whatif');
+		const before = await whatIf.getByTestId('whatif-band').innerText();
+		await whatIf.getByLabel(/Black lift/).fill('5');
+		await expect(whatIf.getByText('+5.0 IRE')).toBeVisible();
+		await expect(whatIf.getByText('Best per-channel correction')).toBeVisible();
+		expect(typeof before).toBe('string');
+
+		const preview = revB.getByTestId('preview-output');
+		expect(await distinctColours(preview)).toBeGreaterThan(8);
+
+		// Every listing with a nofollow link out.
+		const links = page.getByTestId('listings').getByRole('link', { name: /Go to shop/ });
+		await expect(links).toHaveCount(3);
+		await expect(links.first()).toHaveAttribute('rel', 'nofollow noopener');
+
+		// History: fetched in the browser; switching range fetches again.
+		const history = page.getByTestId('history');
+		await expect(history).toHaveAttribute('data-status', 'ready');
+		await history.getByRole('button', { name: '1 year' }).click();
+		await expect(history).toHaveAttribute('data-range', '1y');
+		await expect(history).toHaveAttribute('data-status', 'ready');
+		await history.getByRole('button', { name: '30 days' }).click();
+		await expect(history).toHaveAttribute('data-range', '30d');
+		await expect(history).toHaveAttribute('data-status', 'ready');
+
+		// Signed out: the watch button is a sign-in link that comes back here.
+		const watch = page.locator('[data-converter-slug=brisling-scanlet]');
+		await expect(watch).toHaveAttribute('href', '/signin?next=%2Fconverters%2Fbrisling-scanlet');
+	});
+
+	test('an unknown or malformed slug is a 404', async ({ page }) => {
+		expect((await page.goto('/converters/no-such-box'))?.status()).toBe(404);
+		expect((await page.goto('/converters/Bad_Slug'))?.status()).toBe(404);
+	});
+});
+
+test('finder ranks and explains as the visitor changes inputs', async ({ page }) => {
+	await page.goto('/finder');
+	const form = page.getByRole('form', { name: 'Your needs' });
+	await form.getByLabel('Region').selectOption('eu');
+	await form.getByLabel('Currency').selectOption('EUR');
+	await form.getByLabel('Audio out').check();
+	await form.getByLabel('In stock now').check();
+	await form.getByLabel('Lowest acceptable band').selectOption('close');
+	// In stock in the EU with audio, Close or better: Beam Bridge 22.90 EUR, Scanlet 11.90 EUR.
+	await expect(page.getByTestId('finder-count')).toHaveText('2 matches');
+	expect(await slugsOn(page, 'finder-results')).toEqual(['vantacove-beam-bridge', 'brisling-scanlet']);
+	await form.getByLabel('Budget').fill('20');
+	await expect(page.getByTestId('finder-count')).toHaveText('1 match');
+	await expect(page.getByTestId('explanation')).toHaveText('Close band; in stock at 1 shop in your region; lowest 11.90 EUR.');
+	await expect(page).toHaveURL(/budget=20/);
+	await page.reload();
+	await expect(page.getByTestId('finder-count')).toHaveText('1 match');
+});
+
+test('compare two converters side by side with overlaid curves', async ({ page }) => {
+	await page.goto('/compare?c=vantacove-beam-bridge');
+	await page.getByLabel('Add a converter').selectOption('brisling-scanlet');
+	await page.getByRole('button', { name: 'Add' }).click();
+	await expect(page).toHaveURL(/\/compare\?c=vantacove-beam-bridge,brisling-scanlet$/);
+	const chart = page.getByTestId('compare-chart');
+	await expect(chart).toHaveAttribute('data-ready', 'true');
+	expect(await paintedPixels(chart.locator('canvas'))).toBeGreaterThan(2000);
+	const head = page.getByTestId('compare-table').locator('thead th');
+	await expect(head).toHaveCount(3);
+	await page.getByRole('link', { name: 'Remove Vantacove Beam Bridge' }).click();
+	await expect(page).toHaveURL(/\/compare\?c=brisling-scanlet$/);
+});
+
+test('restocks list and Atom feed', async ({ page, request }) => {
+	await page.goto('/restocks');
+	await expect(page.getByTestId('restocks').locator('li').first()).toBeVisible();
+	const res = await request.get('/restocks/feed.atom');
+	expect(res.status()).toBe(200);
+	expect(res.headers()['content-type']).toContain('application/atom+xml');
+	const xml = await res.text();
+	expect(xml).toContain('<feed xmlns="http://www.w3.org/2005/Atom">');
+	expect(xml).toMatch(/<entry>\s*<id>tag:scopegrade\.test,2026:restock:\d+<\/id>/);
+	expect(xml).toContain('Wattle &amp; Wire');
+});
+
+test('guides say so when none is published; learn shows the rubric and the cautions', async ({ page }) => {
+	await page.goto('/guides');
+	await expect(page.getByTestId('no-guides')).toBeVisible();
+	await page.goto('/learn');
+	await expect(page.getByTestId('rubric').locator('tbody tr')).toHaveCount(5);
+	await expect(page.locator('#polling')).toBeVisible();
+	await expect(page.getByText('ScopegradeBot')).toBeVisible();
+	await expect(page.locator('#safety')).toBeVisible();
+	await expect(page.getByText(/lethal voltages even when it is unplugged/)).toBeVisible();
+});
+
+const PAGES = [
+	['converters', '/converters'],
+	['converter', '/converters/brisling-scanlet'],
+	['compare', '/compare?c=vantacove-beam-bridge,brisling-scanlet'],
+	['finder', '/finder?region=eu&audio=1'],
+	['guides', '/guides'],
+	['restocks', '/restocks'],
+	['learn', '/learn'],
+	['about-data', '/about/data']
+] as const;
+
+test.describe('every public page', () => {
+	for (const [name, path] of PAGES) {
+		test(`${name}: accessible, fits a phone, screenshots in both themes`, async ({ browser }) => {
+			for (const scheme of ['light', 'dark'] as const) {
+				for (const [label, width] of [['desktop', 1280], ['phone', 360]] as const) {
+					const ctx = await browser.newContext({ viewport: { width, height: 900 }, colorScheme: scheme });
+					const page = await ctx.newPage();
+					const res = await page.goto(path);
+					expect(res?.status()).toBe(200);
+					await page.waitForLoadState('networkidle');
+					if (label === 'phone') await expectNoSidewaysScroll(page, `${name} at ${width}px`);
+					if (label === 'desktop' || scheme === 'light') await expectAccessible(page, `${name} (${scheme}, ${label})`);
+					if (scheme === 'light' || label === 'desktop') await screenshot(page, `${name}-${label}${scheme === 'dark' ? '-dark' : ''}`);
+					await ctx.close();
+				}
+			}
+		});
+	}
+});
+
+test('chart code loads only on pages that draw charts', async ({ page }) => {
+	const scripts: string[] = [];
+	page.on('response', (r) => {
+		if (r.request().resourceType() === 'script') scripts.push(r.url());
+	});
+	await page.goto('/converters');
+	await page.waitForLoadState('networkidle');
+	const catalogueJs = await Promise.all(scripts.map(async (u) => (await page.request.get(u)).text()));
+	expect(catalogueJs.some((t) => t.includes('Chart.js v4') || t.includes('chart.js'))).toBe(false);
+});

@@ -1,0 +1,78 @@
+import { describe, expect, it } from 'vitest';
+import { explainEntry, filterCatalogue, leadGrade, meetsBand, rankFinder, sortCatalogue, type CatalogueEntry, type CatalogueRevision } from '../../src/lib/finder';
+
+let nextId = 1;
+const rev = (code: string, band: CatalogueRevision['band'], score: number | null, retired = false): CatalogueRevision => ({
+	id: nextId++, code, chip: `C-${code}`, chipSlug: `c-${code}`, boardMarking: '', band, score, runs: 2, retired, seenFrom: null, seenTo: null
+});
+function entry(slug: string, revisions: CatalogueRevision[], o: Partial<CatalogueEntry> & { price?: number | null; inStock?: number } = {}): CatalogueEntry {
+	const lead = leadGrade(revisions);
+	const price = o.price === undefined ? 1500 : o.price;
+	const best = price === null ? null : { listingId: nextId++, shopSlug: 's', shopName: 'Shop S', shopRegion: 'eu' as const, url: 'http://shop.test/x', priceMinor: price, currency: 'EUR', displayMinor: price, displayCurrency: 'EUR', stock: (o.inStock ?? 1) > 0 ? ('in_stock' as const) : ('preorder' as const), lastCheckedAt: null };
+	return {
+		id: nextId++, slug, brand: o.brand ?? slug, model: 'M', summary: '', hasAudioOut: o.hasAudioOut ?? true, power: o.power ?? 'usb-bus', outputs: ['vga'], lastReviewedAt: null,
+		revisions, bestBand: lead.band, bestScore: lead.score, offers: best ? [best] : [], best, inStockShops: price === null ? 0 : (o.inStock ?? 1)
+	};
+}
+
+describe('band filter semantics', () => {
+	it('matches when any current revision reaches the band, and ignores retired ones', () => {
+		const changed = entry('changed', [rev('A', 'close', 85), rev('B', 'failing', 30)]);
+		const retiredGood = entry('retired-good', [rev('A', 'exact', 98, true), rev('B', 'poor', 60)]);
+		expect(meetsBand(changed, 'close')).toBe(true);
+		expect(meetsBand(changed, 'exact')).toBe(false);
+		expect(meetsBand(retiredGood, 'close')).toBe(false);
+		expect(leadGrade(retiredGood.revisions)).toEqual({ band: 'poor', score: 60 });
+	});
+
+	it('keeps every revision on the matching entry so the chip change stays visible', () => {
+		const changed = entry('changed', [rev('A', 'close', 85), rev('B', 'failing', 30)]);
+		const [hit] = filterCatalogue([changed], { minBand: 'close' });
+		expect(hit.revisions.map((r) => r.band)).toEqual(['close', 'failing']);
+	});
+});
+
+describe('filterCatalogue', () => {
+	const a = entry('a-exact', [rev('A', 'exact', 97)], { price: 2500, hasAudioOut: false, power: 'barrel' });
+	const b = entry('b-close', [rev('A', 'close', 88)], { price: 1200 });
+	const c = entry('c-fair', [rev('A', 'fair', 70)], { price: null });
+	const d = entry('d-poor', [rev('A', 'poor', 60)], { price: 900, inStock: 0 });
+	const all = [d, c, b, a];
+
+	it('filters by price range in the display currency, leaving unpriced entries out', () => {
+		expect(filterCatalogue(all, { priceMin: 1000, priceMax: 2000 }).map((e) => e.slug)).toEqual(['b-close']);
+		expect(filterCatalogue(all, { priceMax: 1000 }).map((e) => e.slug)).toEqual(['d-poor']);
+	});
+	it('filters by audio, power and stock', () => {
+		expect(filterCatalogue(all, { audio: true }).map((e) => e.slug)).toEqual(['b-close', 'c-fair', 'd-poor']);
+		expect(filterCatalogue(all, { power: 'barrel' }).map((e) => e.slug)).toEqual(['a-exact']);
+		expect(filterCatalogue(all, { inStock: true }).map((e) => e.slug)).toEqual(['a-exact', 'b-close']);
+	});
+	it('sorts by band, by price (unpriced last) and by name', () => {
+		expect(sortCatalogue(all, 'band').map((e) => e.slug)).toEqual(['a-exact', 'b-close', 'c-fair', 'd-poor']);
+		expect(sortCatalogue(all, 'price').map((e) => e.slug)).toEqual(['d-poor', 'b-close', 'a-exact', 'c-fair']);
+		expect(sortCatalogue([b, a, d], 'name').map((e) => e.slug)).toEqual(['a-exact', 'b-close', 'd-poor']);
+	});
+});
+
+describe('rankFinder', () => {
+	it('keeps what meets every need and ranks by band, then buyable now, then score, then price', () => {
+		const closeCheap = entry('close-cheap', [rev('A', 'close', 80)], { price: 1000 });
+		const closeBetter = entry('close-better', [rev('A', 'close', 90)], { price: 1800 });
+		const closePreorder = entry('close-preorder', [rev('A', 'close', 95)], { price: 1100, inStock: 0 });
+		const exactDear = entry('exact-dear', [rev('A', 'exact', 97)], { price: 3000 });
+		const noAudio = entry('no-audio', [rev('A', 'exact', 99)], { price: 1000, hasAudioOut: false });
+		const ranked = rankFinder([closeCheap, closeBetter, closePreorder, exactDear, noAudio], { region: 'eu', budgetMinor: 2000, needsAudio: true, minBand: 'close' });
+		expect(ranked.map((r) => r.entry.slug)).toEqual(['close-better', 'close-cheap', 'close-preorder']);
+		expect(ranked.map((r) => r.rank)).toEqual([1, 2, 3]);
+		expect(rankFinder([closePreorder], { region: 'eu', inStockNow: true })).toEqual([]);
+	});
+
+	it('explains each result in words and warns about worse revisions', () => {
+		const e = entry('two-revs', [rev('A', 'close', 85), rev('B', 'failing', 30)], { price: 1290, inStock: 2 });
+		expect(explainEntry(e, 'eu')).toBe('Close band; in stock at 2 shops in your region; lowest 12.90 EUR');
+		const [r] = rankFinder([e], { region: 'eu', minBand: 'close' });
+		expect(r.notes.join(' ')).toMatch(/Revision B \(chip C-B\) grades Failing/);
+		expect(explainEntry(entry('gone', [rev('A', 'fair', 70)], { price: null }), 'jp')).toBe('Fair band; not buyable in Japan right now');
+	});
+});

@@ -1,0 +1,80 @@
+import { describe, expect, it } from 'vitest';
+import { historyFigures, thinPoints } from '../../src/lib/server/queries/public-history';
+import { etagOf, matchesEtag, toCsv } from '../../src/lib/server/queries/public-http';
+import { restocksAtom, xmlEscape } from '../../src/lib/server/queries/public-feed';
+import { renderMarkdown } from '../../src/lib/server/markdown';
+
+const day = 86_400_000;
+const t0 = Date.parse('2026-01-01T00:00:00Z');
+const at = (d: number) => new Date(t0 + d * day).toISOString();
+
+describe('historyFigures', () => {
+	it('weights stock by time held and measures finished in-stock spells', () => {
+		const points = [
+			{ at: at(0), priceMinor: 1500, currency: 'EUR', stock: 'in_stock' as const },
+			{ at: at(4), priceMinor: 1500, currency: 'EUR', stock: 'out_of_stock' as const },
+			{ at: at(6), priceMinor: 1290, currency: 'EUR', stock: 'in_stock' as const },
+			{ at: at(8), priceMinor: 1290, currency: 'EUR', stock: 'out_of_stock' as const }
+		];
+		const f = historyFigures(points, new Date(t0), new Date(t0 + 10 * day));
+		expect(f.inStockShare).toBeCloseTo(0.6, 12); // 4 + 2 of 10 days
+		expect(f.restocks).toBe(1);
+		expect(f.typicalStockDays).toBe(3); // median of 4 and 2
+		expect(f.lowestMinor).toBe(1290);
+	});
+	it('carries the state from before the window into it', () => {
+		const before = { at: at(-5), priceMinor: 999, currency: 'EUR', stock: 'in_stock' as const };
+		const f = historyFigures([], new Date(t0), new Date(t0 + 10 * day), before);
+		expect(f.inStockShare).toBe(1);
+		expect(f.restocks).toBe(0);
+	});
+	it('thins long series but keeps both ends', () => {
+		const xs = Array.from({ length: 100 }, (_, i) => i);
+		const t = thinPoints(xs, 10);
+		expect(t).toHaveLength(10);
+		expect(t[0]).toBe(0);
+		expect(t.at(-1)).toBe(99);
+	});
+});
+
+describe('HTTP helpers', () => {
+	it('compares ETags as RFC 9110 section 13.1.2 says (weak comparison, lists, *)', () => {
+		const e = etagOf('{"a":1}');
+		expect(matchesEtag(e, e)).toBe(true);
+		expect(matchesEtag(`W/${e}`, e)).toBe(true);
+		expect(matchesEtag(`"other", ${e}`, e)).toBe(true);
+		expect(matchesEtag('*', e)).toBe(true);
+		expect(matchesEtag('"other"', e)).toBe(false);
+		expect(etagOf('{"a":2}')).not.toBe(e);
+	});
+	it('writes CSV per RFC 4180: CRLF, quoted fields with doubled quotes', () => {
+		const csv = toCsv([{ a: 'plain', b: 'has, comma', c: 'say "hi"', d: null }], ['a', 'b', 'c', 'd']);
+		expect(csv).toBe('a,b,c,d\r\nplain,"has, comma","say ""hi""",\r\n');
+	});
+});
+
+describe('Atom feed (RFC 4287)', () => {
+	it('escapes text and gives every entry an id, updated and an alternate link', () => {
+		expect(xmlEscape(`<a & "b">`)).toBe('&lt;a &amp; &quot;b&quot;&gt;');
+		const xml = restocksAtom(
+			[{ id: 7, at: '2026-02-01T10:00:00.000Z', converterSlug: 'x-box', converterName: 'X <Box> & Co', shopSlug: 's', shopName: 'Shop "S"', shopRegion: 'eu', priceMinor: 1290, currency: 'EUR', previousStock: 'out_of_stock', url: 'http://shop.test/p?a=1&b=2', band: 'close' }],
+			'http://example.test'
+		);
+		expect(xml).toContain('<feed xmlns="http://www.w3.org/2005/Atom">');
+		expect(xml).toContain('<id>tag:scopegrade.test,2026:restock:7</id>');
+		expect(xml).toContain('<updated>2026-02-01T10:00:00.000Z</updated>');
+		expect(xml).toContain('X &lt;Box&gt; &amp; Co');
+		expect(xml).toContain('href="http://shop.test/p?a=1&amp;b=2"');
+		expect(xml).toContain('<link rel="alternate" type="text/html" href="http://example.test/converters/x-box"/>');
+		expect(xml).not.toMatch(/<Box>/);
+	});
+});
+
+describe('renderMarkdown', () => {
+	it('renders markdown and strips scripts, handlers and javascript: links', () => {
+		const html = renderMarkdown('# Title\n\nSee [shop](https://shop.test) and [bad](javascript:alert(1)).\n\n<script>alert(1)</script><img src=x onerror=alert(1)>');
+		expect(html).toContain('<h2>Title</h2>');
+		expect(html).toContain('<a href="https://shop.test" rel="nofollow noopener">shop</a>');
+		expect(html).not.toMatch(/script|onerror|javascript:/i);
+	});
+});
