@@ -1,41 +1,9 @@
 import { describe, expect, it } from 'vitest';
-import { historyFigures, thinPoints } from '../../src/lib/server/queries/public-history';
+import { normaliseHistory } from '../../src/lib/components/history-data';
 import { etagOf, matchesEtag, toCsv } from '../../src/lib/server/queries/public-http';
 import { restocksAtom, xmlEscape } from '../../src/lib/server/queries/public-feed';
 import { renderMarkdown } from '../../src/lib/server/markdown';
 
-const day = 86_400_000;
-const t0 = Date.parse('2026-01-01T00:00:00Z');
-const at = (d: number) => new Date(t0 + d * day).toISOString();
-
-describe('historyFigures', () => {
-	it('weights stock by time held and measures finished in-stock spells', () => {
-		const points = [
-			{ at: at(0), priceMinor: 1500, currency: 'EUR', stock: 'in_stock' as const },
-			{ at: at(4), priceMinor: 1500, currency: 'EUR', stock: 'out_of_stock' as const },
-			{ at: at(6), priceMinor: 1290, currency: 'EUR', stock: 'in_stock' as const },
-			{ at: at(8), priceMinor: 1290, currency: 'EUR', stock: 'out_of_stock' as const }
-		];
-		const f = historyFigures(points, new Date(t0), new Date(t0 + 10 * day));
-		expect(f.inStockShare).toBeCloseTo(0.6, 12); // 4 + 2 of 10 days
-		expect(f.restocks).toBe(1);
-		expect(f.typicalStockDays).toBe(3); // median of 4 and 2
-		expect(f.lowestMinor).toBe(1290);
-	});
-	it('carries the state from before the window into it', () => {
-		const before = { at: at(-5), priceMinor: 999, currency: 'EUR', stock: 'in_stock' as const };
-		const f = historyFigures([], new Date(t0), new Date(t0 + 10 * day), before);
-		expect(f.inStockShare).toBe(1);
-		expect(f.restocks).toBe(0);
-	});
-	it('thins long series but keeps both ends', () => {
-		const xs = Array.from({ length: 100 }, (_, i) => i);
-		const t = thinPoints(xs, 10);
-		expect(t).toHaveLength(10);
-		expect(t[0]).toBe(0);
-		expect(t.at(-1)).toBe(99);
-	});
-});
 
 describe('HTTP helpers', () => {
 	it('compares ETags as RFC 9110 section 13.1.2 says (weak comparison, lists, *)', () => {
@@ -76,5 +44,22 @@ describe('renderMarkdown', () => {
 		expect(html).toContain('<h2>Title</h2>');
 		expect(html).toContain('<a href="https://shop.test" rel="nofollow noopener">shop</a>');
 		expect(html).not.toMatch(/script|onerror|javascript:/i);
+	});
+});
+
+describe('normaliseHistory', () => {
+	it('reads the history route\'s points in time order and skips undated ones', () => {
+		const pts = normaliseHistory({
+			points: [
+				{ at: '2026-01-02T00:00:00.000Z', priceMinor: 1290, currency: 'EUR', stock: 'in_stock' },
+				{ at: '2026-01-01T00:00:00.000Z', priceMinor: null, currency: null, stock: 'out_of_stock', carried: true },
+				{ at: 'not a date', priceMinor: 1, currency: 'EUR', stock: 'in_stock' }
+			]
+		});
+		expect(pts.map((p) => [p.t, p.priceMinor, p.stock])).toEqual([
+			[Date.parse('2026-01-01T00:00:00Z'), null, 'out_of_stock'],
+			[Date.parse('2026-01-02T00:00:00Z'), 1290, 'in_stock']
+		]);
+		expect(normaliseHistory(null)).toEqual([]);
 	});
 });

@@ -1,8 +1,7 @@
 /**
- * Normalises a listing-history answer into one shape for the chart. The poller's
- * /api/v1/listings/[id]/history and the guide's own fallback route may name fields
- * differently; this accepts both (points as { at | observedAt | t, priceMinor | price_minor,
- * currency, stock | state }).
+ * Normalises a GET /api/v1/listings/[id]/history answer ({ points: [{ at, priceMinor,
+ * currency, stock }] }) into the chart's shape, tolerating a bare array and a few field
+ * spellings so the chart does not break if the route's shape grows.
  */
 export interface ChartPoint {
 	t: number;

@@ -1,7 +1,8 @@
 import { error } from '@sveltejs/kit';
 import { db } from '$lib/server/db';
+import { listWatches } from '$lib/server/alerts/watches';
 import { loadConverterDetail } from '$lib/server/queries/public';
-import { figuresForListings } from '$lib/server/queries/public-history';
+import { listingFigures } from '$lib/server/queries/history';
 import { catalogueParams, parseLenient, searchObject, viewpoint } from '$lib/server/queries/public-params';
 import type { PageServerLoad } from './$types';
 
@@ -10,11 +11,21 @@ export const load: PageServerLoad = async ({ params, url, cookies, request, loca
 	const view = viewpoint(p, cookies, request.headers.get('accept-language'));
 	const detail = await loadConverterDetail(db, params.slug, view);
 	if (!detail) error(404, 'No converter by that name in the catalogue.');
-	const figures = await figuresForListings(db, detail.listings.map((l) => l.listingId));
+	const [figures, watches] = await Promise.all([
+		listingFigures(db, detail.listings.map((l) => l.listingId)),
+		locals.user ? listWatches(db, locals.user.id) : Promise.resolve([])
+	]);
+	const d90 = Object.fromEntries(
+		[...figures].map(([id, f]) => [
+			id,
+			{ lowestMinor: f.d90.lowestMinor, currency: f.d90.currency, buyableShare: f.d90.buyableShare, restocks: f.d90.restocks, typicalRestockHours: f.d90.typicalRestockHours }
+		])
+	);
 	return {
 		view,
 		detail,
-		figures: Object.fromEntries(figures),
-		signedIn: locals.user !== null
+		figures: d90,
+		signedIn: locals.user !== null,
+		watchId: watches.find((w) => w.converterSlug === params.slug)?.id ?? null
 	};
 };
