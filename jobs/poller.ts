@@ -23,10 +23,15 @@ export function schedulePoller(db: Database, options: PollerOptions = {}): { tas
 	const task = cron.schedule(
 		POLLER_SCHEDULE,
 		async () => {
-			const s = await poller.drain({ budgetMs: RUN_BUDGET_MS });
-			if (s.polled) {
-				const outcomes = Object.entries(s.byOutcome).map(([k, v]) => `${k} ${v}`).join(', ');
-				console.log(`poller: ${s.polled} polled in ${s.ms} ms (${outcomes}); ${s.changed} changed, ${s.events} stock events`);
+			try {
+				const s = await poller.drain({ budgetMs: RUN_BUDGET_MS });
+				if (s.polled) {
+					const outcomes = Object.entries(s.byOutcome).map(([k, v]) => `${k} ${v}`).join(', ');
+					console.log(`poller: ${s.polled} polled in ${s.ms} ms (${outcomes}); ${s.changed} changed, ${s.events} stock events`);
+				}
+			} catch (err) {
+				// The database may be away for a moment; the next tick tries again and leases expire meanwhile.
+				console.error(`poller: run failed: ${err instanceof Error ? err.message : String(err)}`);
 			}
 		},
 		{ name: 'poller', noOverlap: true }
