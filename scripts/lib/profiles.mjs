@@ -80,6 +80,8 @@ export function appEnv(p, authSecret) {
 		S3_REGION: 'us-east-1',
 		S3_ACCESS_KEY_ID: 'S3RVER',
 		S3_SECRET_ACCESS_KEY: 'S3RVER',
+		// adapter-node refuses bodies over 512 KB by default; photos may be 8 MB, traces 5 MB.
+		BODY_SIZE_LIMIT: '20M',
 		ADMIN_EMAILS: 'admin@scopegrade.test,owner@scopegrade.test',
 		PUBLIC_BASE_URL: p.origin
 	};

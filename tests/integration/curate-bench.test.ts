@@ -83,8 +83,8 @@ describe('reading a trace', () => {
 		const res = await readTraceAction(w.db, w.storage, w.curator, fd);
 		if ('status' in res) throw new Error(`refused: ${JSON.stringify(res.data)}`);
 		const direct = importTrace(fixture('good-3ch.csv').toString('utf8'));
-		expect(res.form.data.r100).toBe(direct.steps[10].r);
-		expect(res.form.data.g50).toBe(direct.steps[5].g);
+		expect((res.form.data as Record<string, unknown>).r100).toBe(direct.steps[10].r);
+		expect((res.form.data as Record<string, unknown>).g50).toBe(direct.steps[5].g);
 		expect(res.form.data.notes).toBe('typed before the upload');
 		expect(res.preview.plateaus.r).toHaveLength(11);
 		expect(res.preview.report?.band).toMatch(/exact|close/);

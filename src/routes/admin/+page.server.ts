@@ -1,11 +1,36 @@
+import { fail, redirect } from '@sveltejs/kit';
 import { count } from 'drizzle-orm';
 import { requireRole } from '$lib/server/auth/guard';
 import { db } from '$lib/server/db';
 import { users } from '$lib/server/db/schema';
-import type { PageServerLoad } from './$types';
+import { changeRole, listUsers } from '$lib/server/curate/admin';
+import { attempt, validate } from '$lib/server/curate/forms';
+import { roleChangeSchema } from '$lib/server/curate/schemas';
+import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
-	requireRole(event, 'admin');
-	const byRole = await db.select({ role: users.role, n: count() }).from(users).groupBy(users.role);
-	return { byRole };
+	const me = requireRole(event, 'admin');
+	const q = (event.url.searchParams.get('q') ?? '').trim().slice(0, 100);
+	const [byRole, people] = await Promise.all([
+		db.select({ role: users.role, n: count() }).from(users).groupBy(users.role),
+		listUsers(db, q)
+	]);
+	return { byRole, people, q, meId: me.id };
+};
+
+export const actions: Actions = {
+	role: async (event) => {
+		const me = requireRole(event, 'admin');
+		const form = await validate(event.request, roleChangeSchema);
+		const fail400 = (message: string, status = 400) =>
+			fail(status, { role: { userId: form.data.userId, message, reason: form.data.reason, role: form.data.role } });
+		if (!form.valid) return fail400((Object.values(form.errors).flat()[0] as string) ?? 'Check the form.');
+		const res = await attempt(form, () => changeRole(db, me, form.data));
+		if (!res.ok) {
+			const f = res.failure.data.form;
+			const msg = (f.message as { text?: string } | undefined)?.text ?? (Object.values(f.errors ?? {}).flat()[0] as string);
+			return fail400(msg ?? 'The role was not changed.', res.failure.status);
+		}
+		redirect(303, `/admin?changed=${encodeURIComponent(res.value.email ?? '')}`);
+	}
 };

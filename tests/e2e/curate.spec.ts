@@ -1,0 +1,139 @@
+/**
+ * The curator workspace end to end: a curator reads a scope trace into a new revision's
+ * bench run and the public grade changes; a member sends a teardown report with a photo
+ * and a curator verifies it; a member cannot reach curator or admin pages or actions.
+ */
+import { resolve } from 'node:path';
+import { expect, test, type Browser, type Page } from '@playwright/test';
+import sharp from 'sharp';
+import { signIn } from './support/inbox';
+
+const stamp = Date.now().toString(36);
+const brand = `Testbench ${stamp}`;
+const model = `Probe ${stamp}`;
+const trace = resolve(process.cwd(), 'fixtures/traces/good-3ch.csv');
+
+async function as(browser: Browser, email: string): Promise<Page> {
+	const context = await browser.newContext();
+	const page = await context.newPage();
+	await signIn(page, email);
+	return page;
+}
+
+test.describe.configure({ mode: 'serial' });
+
+test('a curator reads good-3ch.csv into a bench run, sees the levels, saves, and the grade goes public', async ({ browser }) => {
+	const page = await as(browser, 'curator@scopegrade.test');
+
+	await page.goto('/curate/converters');
+	await page.getByLabel('Brand').fill(brand);
+	await page.getByLabel('Model').fill(model);
+	await page.getByRole('button', { name: 'Add converter' }).click();
+	await expect(page).toHaveURL(/\/curate\/converters\/\d+$/);
+
+	await page.getByLabel('Revision code').fill('A');
+	await page.getByLabel('Chip', { exact: true }).selectOption({ index: 1 });
+	await page.getByLabel('First seen in shops').fill('2024-06-01');
+	await page.getByRole('button', { name: 'Add revision' }).click();
+	await expect(page).toHaveURL(/\/curate\/revisions\/\d+$/);
+	await expect(page.getByTestId('revision-grade')).toContainText('Not graded');
+
+	await page.getByRole('link', { name: 'Add a bench run' }).click();
+	await page.getByLabel('Test source').fill('Pattern generator, 480p grey ramp');
+	await page.getByLabel('Instrument').fill('Bench scope, 100 MHz, 10x probe');
+	await page.getByTestId('trace-input').setInputFiles(trace);
+	await page.getByRole('button', { name: 'Read trace' }).click();
+
+	const preview = page.getByTestId('trace-preview');
+	await expect(preview).toBeVisible();
+	await expect(preview).toContainText('11 steps');
+	await expect(page.getByTestId('trace-chart')).toBeVisible();
+	// The engine's plateau levels fill the grid: white near 700 mV, 50 IRE near 350 mV.
+	const white = Number(await page.getByLabel('R at 100 IRE, mV').inputValue());
+	const mid = Number(await page.getByLabel('G at 50 IRE, mV').inputValue());
+	expect(white).toBeGreaterThan(680);
+	expect(white).toBeLessThan(720);
+	expect(mid).toBeGreaterThan(330);
+	expect(mid).toBeLessThan(370);
+	const report = page.getByTestId('level-report');
+	await expect(report).toBeVisible();
+	await expect(report.getByRole('img', { name: /Band: (Exact|Close)/ })).toBeVisible();
+
+	await page.getByRole('button', { name: 'Save bench run' }).click();
+	await expect(page).toHaveURL(/\/curate\/revisions\/\d+\?run=\d+$/);
+	await expect(page.getByTestId('revision-grade').getByRole('img', { name: /Band: (Exact|Close)/ })).toBeVisible();
+	await expect(page.getByTestId('run-row')).toHaveCount(1);
+
+	// The public home page lists the revision with its new grade.
+	await page.goto('/');
+	const card = page.getByRole('link', { name: new RegExp(model) });
+	await expect(card).toBeVisible();
+	await expect(card.getByRole('img', { name: /Band: (Exact|Close)/ })).toBeVisible();
+	await page.context().close();
+});
+
+test('a member sends a teardown report with a photo and a curator verifies it', async ({ browser }) => {
+	const email = `teardown-${stamp}@example.test`;
+	const member = await as(browser, email);
+	await member.goto('/teardowns/new');
+	await expect(member.getByTestId('teardown-cautions')).toContainText('lethal voltages');
+	await expect(member.getByTestId('teardown-cautions')).toContainText('void its warranty');
+
+	await member.getByLabel('Converter').selectOption({ label: `${brand} ${model}` });
+	await member.getByLabel('Shop', { exact: true }).selectOption({ index: 1 });
+	await member.getByLabel('Month you bought it').fill('2025-04');
+	await member.getByLabel('Chip', { exact: true }).selectOption({ index: 1 });
+	await member.getByLabel('Board marking').fill(`BM-${stamp}`);
+	const png = await sharp({ create: { width: 120, height: 80, channels: 3, background: { r: 30, g: 110, b: 70 } } }).png().toBuffer();
+	await member.getByTestId('photo-input').setInputFiles({ name: 'board.png', mimeType: 'image/png', buffer: png });
+	await expect(member.getByTestId('photo-thumb')).toBeVisible();
+	await member.getByRole('button', { name: 'Send report' }).click();
+	await expect(member).toHaveURL(/\/teardowns\?sent=report$/);
+	await expect(member.getByText('Waiting for a curator')).toBeVisible();
+	await member.context().close();
+
+	const curator = await as(browser, 'curator@scopegrade.test');
+	await curator.goto('/curate/review');
+	const item = curator.getByTestId('teardown-item').filter({ hasText: `BM-${stamp}` });
+	await expect(item).toBeVisible();
+	await expect(item.getByRole('img', { name: /Board photo/ })).toBeVisible();
+	await item.getByLabel('Reason').fill('Photo shows the chip clearly');
+	await item.getByRole('button', { name: 'Verify' }).click();
+	await expect(curator.getByTestId('review-done')).toContainText('teardown verify');
+	await expect(curator.getByTestId('teardown-item').filter({ hasText: `BM-${stamp}` })).toHaveCount(0);
+	await curator.context().close();
+});
+
+test('a member gets 403 from every curator and admin page and action, and cannot change a role', async ({ browser, baseURL }) => {
+	const page = await as(browser, `nosy-${stamp}@example.test`);
+	for (const path of [
+		'/curate',
+		'/curate/review',
+		'/curate/converters',
+		'/curate/chips',
+		'/curate/listings',
+		'/curate/guides',
+		'/curate/audit',
+		'/admin',
+		'/admin/shops',
+		'/admin/rates'
+	]) {
+		const res = await page.goto(path);
+		expect(res?.status(), path).toBe(403);
+	}
+	const headers = { origin: baseURL! };
+	const me = await page.request.get('/account');
+	expect(me.status()).toBe(200);
+
+	// Crafted form posts with a valid origin still meet the role check.
+	const role = await page.request.post('/admin?/role', { headers, form: { userId: 'anyone', role: 'admin', reason: 'let me in' } });
+	expect(role.status()).toBe(403);
+	const create = await page.request.post('/curate/converters?/create', { headers, form: { brand: 'X', model: 'Y' } });
+	expect(create.status()).toBe(403);
+	const review = await page.request.post('/curate/review?/teardown', { headers, form: { id: '1', decision: 'verify', reason: 'sure' } });
+	expect(review.status()).toBe(403);
+
+	await page.goto('/account');
+	await expect(page.getByTestId('signed-in-as')).toContainText('member');
+	await page.context().close();
+});
