@@ -1,0 +1,69 @@
+import { error, fail, redirect } from '@sveltejs/kit';
+import { z } from 'zod';
+import { requireRole } from '$lib/server/auth/guard';
+import { db } from '$lib/server/db';
+import { catalogueOptions } from '$lib/server/curate/catalogue';
+import { attempt, emptyForm, idParam, invalid, validate } from '$lib/server/curate/forms';
+import { getGuide, removePick, renderGuideMarkdown, savePick, setGuideStatus, updateGuide } from '$lib/server/curate/guides';
+import { guidePickSchema, guideSchema } from '$lib/server/curate/schemas';
+import type { Actions, PageServerLoad } from './$types';
+
+export const load: PageServerLoad = async (event) => {
+	requireRole(event, 'curator');
+	const id = idParam(event.params.id);
+	const found = await getGuide(db, id);
+	if (!found) error(404, 'No such guide.');
+	const { guide } = found;
+	return {
+		...found,
+		preview: renderGuideMarkdown(guide.bodyMarkdown),
+		converters: (await catalogueOptions(db)).converters.map((c) => ({ value: c.id, label: c.label })),
+		form: await emptyForm(guideSchema, { title: guide.title, slug: guide.slug, summary: guide.summary, bodyMarkdown: guide.bodyMarkdown }, 'guide'),
+		pickForm: await emptyForm(guidePickSchema, { position: found.picks.length }, 'pick')
+	};
+};
+
+export const actions: Actions = {
+	save: async (event) => {
+		const user = requireRole(event, 'curator');
+		const id = idParam(event.params.id);
+		const form = await validate(event.request, guideSchema);
+		if (!form.valid) return invalid(form);
+		const res = await attempt(form, () => updateGuide(db, user, id, form.data));
+		if (!res.ok) return res.failure;
+		redirect(303, `/curate/guides/${id}?saved=1`);
+	},
+	// Render what is in the editor without saving it.
+	preview: async (event) => {
+		requireRole(event, 'curator');
+		const form = await validate(event.request, guideSchema);
+		return { form, preview: renderGuideMarkdown(form.data.bodyMarkdown ?? '') };
+	},
+	status: async (event) => {
+		const user = requireRole(event, 'curator');
+		const id = idParam(event.params.id);
+		const parsed = z.object({ status: z.enum(['draft', 'published', 'retired']) }).safeParse(Object.fromEntries(await event.request.formData()));
+		if (!parsed.success) return fail(400, { statusError: 'Choose publish, unpublish or retire.' });
+		const form = await emptyForm(guideSchema);
+		const res = await attempt(form, () => setGuideStatus(db, user, id, parsed.data.status));
+		if (!res.ok) return fail(res.failure.status, { statusError: (res.failure.data.form.message as { text: string } | undefined)?.text ?? Object.values(res.failure.data.form.errors).flat()[0] });
+		redirect(303, `/curate/guides/${id}`);
+	},
+	addPick: async (event) => {
+		const user = requireRole(event, 'curator');
+		const id = idParam(event.params.id);
+		const pickForm = await validate(event.request, guidePickSchema);
+		if (!pickForm.valid) return fail(400, { pickForm });
+		const res = await attempt(pickForm, () => savePick(db, user, id, pickForm.data));
+		if (!res.ok) return fail(res.failure.status, { pickForm: res.failure.data.form });
+		redirect(303, `/curate/guides/${id}`);
+	},
+	removePick: async (event) => {
+		const user = requireRole(event, 'curator');
+		const id = idParam(event.params.id);
+		const converterId = Number((await event.request.formData()).get('converterId'));
+		if (!Number.isInteger(converterId) || converterId <= 0) return fail(400, { statusError: 'No pick chosen.' });
+		await removePick(db, user, id, converterId);
+		redirect(303, `/curate/guides/${id}`);
+	}
+};
