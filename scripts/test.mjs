@@ -16,6 +16,8 @@ const e2e = { ...p, database: 'scopegrade_e2e', databaseUrl: p.databaseUrl.repla
 const artifacts = resolve(ROOT, 'tests', 'artifacts');
 const children = [];
 let failed = false;
+// Stop only a cluster this run started, never one another run is using.
+let clusterStarted = false;
 const totals = { passed: 0, failed: 0, skipped: 0 };
 
 function readJson(file) {
@@ -32,7 +34,7 @@ async function main() {
 	}
 	ensureNodeModules();
 	if (want('e2e')) ensureChromium();
-	await startCluster(p, { fast: true });
+	clusterStarted = await startCluster(p, { fast: true });
 	ensureDatabase(p, { fresh: true });
 	ensureDatabase(e2e, { fresh: true });
 	rmSync(artifacts, { recursive: true, force: true });
@@ -79,6 +81,8 @@ async function main() {
 		const e2eEnv = { ...env, DATABASE_URL: e2e.databaseUrl };
 		run(tsx, ['scripts/migrate.ts'], { cwd: ROOT, env: e2eEnv });
 		run(tsx, ['scripts/seed.ts'], { cwd: ROOT, env: e2eEnv });
+		// The jobs process (poller, alert sender, digest) for journeys that need it; the sender runs every 2 s.
+		children.push(startService('jobs', tsx, ['jobs/index.ts'], { cwd: ROOT, env: { ...e2eEnv, SENDER_CRON: '*/2 * * * * *' } }));
 		log('playwright: end-to-end tests in Debian\'s Chromium');
 		const out = resolve(artifacts, 'playwright.json');
 		try {
@@ -105,7 +109,7 @@ try {
 	failed = true;
 } finally {
 	await stopAll(children);
-	stopCluster(p);
+	if (clusterStarted) stopCluster(p);
 }
 if (totals.failed > 0) failed = true;
 console.log(`\nScopegrade tests: ${totals.passed} passed, ${totals.failed} failed, ${totals.skipped} skipped`);
