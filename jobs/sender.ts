@@ -9,8 +9,7 @@
 import type { Database } from '../src/lib/server/db/client';
 import { createDb } from '../src/lib/server/db/client';
 import { smtpConfigFrom } from '../src/lib/server/mail/transport';
-import { createTransport } from '../src/lib/server/mail/transport';
-import { sendDue, senderOptionsFromEnv, type SendReport, type SenderOptions } from '../src/lib/server/alerts/sender';
+import { createAlertTransport, sendDue, senderOptionsFromEnv, type SendReport, type SenderOptions } from '../src/lib/server/alerts/sender';
 
 /** Send batches until nothing due is left (or `maxBatches` passes); returns the summed report. */
 export async function drainOutbox(db: Database, options: SenderOptions, maxBatches = 100): Promise<SendReport> {
@@ -36,7 +35,7 @@ export function senderTask(db: Database, env: Record<string, string | undefined>
 if (import.meta.url === `file://${process.argv[1]}`) {
 	const { db, sql } = createDb(process.env.DATABASE_URL, { max: 4 });
 	const options = senderOptionsFromEnv(process.env, smtpConfigFrom(process.env));
-	const transport = createTransport(options.smtp);
+	const transport = createAlertTransport(options.smtp, options.concurrency);
 	const once = process.argv.includes('--once');
 	const interval = Number(process.env.SENDER_INTERVAL_MS || 2000);
 	let stopping = false;

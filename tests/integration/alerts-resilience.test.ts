@@ -8,7 +8,6 @@
  * and its bound (at most one batch resent after a crash) are ours, stated in README.md.
  */
 import { spawn, type ChildProcess } from 'node:child_process';
-import { resolve } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { eq, inArray, sql } from 'drizzle-orm';
 import * as t from '../../src/lib/server/db/schema';
@@ -27,7 +26,10 @@ beforeAll(async () => {
 	env = await seededDatabase('sg_it_alerts_resilience');
 	mail = await fakeMail();
 });
+/** Sender processes this file started: stopped at the end even when a test fails midway. */
+const running = new Set<ChildProcess>();
 afterAll(async () => {
+	for (const c of running) if (c.exitCode === null && c.signalCode === null) c.kill('SIGKILL');
 	await mail?.stop();
 	await env?.close();
 });
@@ -108,7 +110,7 @@ describe('several senders and crashes', () => {
 			claimDue(env.db, { owner: 'a', limit: 30, leaseMs: 60_000, mode: 'instant', domain: 'scopegrade.test' }),
 			claimDue(env.db, { owner: 'b', limit: 30, leaseMs: 60_000, mode: 'instant', domain: 'scopegrade.test' })
 		]);
-		expect(a.length + b.length).toBe(40);
+		expect(a.length + b.length, `${a.length}+${b.length}`).toBe(40);
 		expect(a.filter((id) => b.includes(id))).toEqual([]);
 		// Hand the rows back (as if both leases ran out) and let two senders deliver them.
 		await env.db.update(t.alertOutbox).set({ leaseUntil: sql`now() - interval '1 second'` }).where(inArray(t.alertOutbox.id, [...a, ...b]));
@@ -138,11 +140,14 @@ describe('several senders and crashes', () => {
 			ALERT_LEASE_SECONDS: '2',
 			SENDER_INTERVAL_MS: '100'
 		};
-		const tsx = resolve(process.cwd(), 'node_modules/.bin/tsx');
-		const start = () => spawn(tsx, ['jobs/sender.ts'], { cwd: process.cwd(), env: childEnv, stdio: 'ignore' });
+		// Node itself with tsx's loader, not the tsx wrapper: SIGKILL must hit the process that sends
+		// (the wrapper's child would survive it as an orphan).
+		const start = () => spawn(process.execPath, ['--import', 'tsx', 'jobs/sender.ts'], { cwd: process.cwd(), env: childEnv, stdio: 'ignore' });
+
 		const received = () => users.reduce((k, u) => k + mail.to(u.email!).length, 0);
 
 		let child: ChildProcess = start();
+		running.add(child);
 		const deadline = Date.now() + 30_000;
 		while (received() < 30 && Date.now() < deadline) await sleep(20);
 		child.kill('SIGKILL');
@@ -155,6 +160,7 @@ describe('several senders and crashes', () => {
 
 		// A new sender takes over once the dead one's leases expire.
 		child = start();
+		running.add(child);
 		const deadline2 = Date.now() + 40_000;
 		while (Date.now() < deadline2) {
 			const rows = await env.db.select({ status: t.alertOutbox.status }).from(t.alertOutbox).where(eq(t.alertOutbox.stockEventId, ev!.id));

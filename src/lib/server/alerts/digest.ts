@@ -8,13 +8,12 @@
  */
 import { randomUUID } from 'node:crypto';
 import { sql } from 'drizzle-orm';
-import { createTransport } from '../mail/transport';
 import { loadRates } from '../queries/offers';
 import type { Database } from '../db/client';
 import { rowsOf, type Db } from './db';
 import { renderDigestMessage, unsubscribeHeaders, unsubscribeUrl } from './message';
 import { localParts } from './schedule';
-import { backoffMs, claimDue, DEFAULT_MAX_ATTEMPTS, mailDomain, settle, type SenderOptions } from './sender';
+import { backoffMs, claimDue, createAlertTransport, DEFAULT_MAX_ATTEMPTS, mailDomain, settle, type SenderOptions } from './sender';
 import { signUnsubscribeToken } from './token';
 import { loadOutboxContexts } from './view';
 
@@ -47,7 +46,7 @@ export async function sendDigests(db: Db, options: SenderOptions & { now?: Date 
 	const rates = await loadRates(db as unknown as Database);
 	const domain = mailDomain(options.smtp.from);
 	const base = options.baseUrl.replace(/\/+$/, '');
-	const transport = options.transport ?? createTransport(options.smtp);
+	const transport = options.transport ?? createAlertTransport(options.smtp, 1);
 	const maxAttempts = options.maxAttempts ?? DEFAULT_MAX_ATTEMPTS;
 	try {
 		for (const m of waiting) {

@@ -13,8 +13,8 @@
  */
 import { randomUUID } from 'node:crypto';
 import { sql } from 'drizzle-orm';
-import type { Transporter } from 'nodemailer';
-import { createTransport, type SmtpConfig } from '../mail/transport';
+import nodemailer, { type Transporter } from 'nodemailer';
+import { transportOptions, type SmtpConfig } from '../mail/transport';
 import { loadRates } from '../queries/offers';
 import type { Database } from '../db/client';
 import { rowsOf, type Db } from './db';
@@ -83,6 +83,14 @@ export function senderOptionsFromEnv(env: Record<string, string | undefined>, sm
 		concurrency: num('ALERT_CONCURRENCY', 4, 1, 64),
 		sendSpacingMs: num('ALERT_SEND_SPACING_MS', 0, 0, 60_000)
 	};
+}
+
+/**
+ * A pooled SMTP transport for alert batches: a few long-lived connections instead of one per
+ * message (same settings as the sign-in mail's transport otherwise).
+ */
+export function createAlertTransport(smtp: SmtpConfig, connections = 4): Transporter {
+	return nodemailer.createTransport({ ...transportOptions(smtp), pool: true, maxConnections: connections, maxMessages: 500 });
 }
 
 /** Delay before retry number `attempts` (1-based): base * 2^(attempts-1), capped, with 20 % jitter. */
@@ -206,7 +214,7 @@ export async function sendDue(db: Db, options: SenderOptions): Promise<SendRepor
 	const rates = await loadRates(db as unknown as Database);
 	const contexts = await loadOutboxContexts(db, ids, { baseUrl: options.baseUrl, rates });
 	const ownTransport = !options.transport;
-	const transport = options.transport ?? createTransport(options.smtp);
+	const transport = options.transport ?? createAlertTransport(options.smtp, options.concurrency ?? 4);
 	let unreachable: { error: string; delayMs: number } | null = null;
 	const now = new Date();
 
