@@ -5,6 +5,7 @@
  */
 import { resolve } from 'node:path';
 import { expect, test, type Browser, type Page } from '@playwright/test';
+import postgres from 'postgres';
 import sharp from 'sharp';
 import { signIn } from './support/inbox';
 
@@ -21,6 +22,29 @@ async function as(browser: Browser, email: string): Promise<Page> {
 }
 
 test.describe.configure({ mode: 'serial' });
+
+// The other journeys count the demo catalogue: take this file's converter out again.
+// Direct SQL on purpose: the product never deletes bench runs, but a test may undo its own.
+test.afterAll(async () => {
+	const sql = postgres(process.env.DATABASE_URL!, { max: 1, onnotice: () => {} });
+	try {
+		const conv = await sql`select id from converter where brand = ${brand}`;
+		if (conv.length) {
+			const id = conv[0].id;
+			const files = await sql`
+				select trace_file_id as f from bench_run b join revision r on r.id = b.revision_id where r.converter_id = ${id} and trace_file_id is not null
+				union select photo_file_id from teardown_report where converter_id = ${id} and photo_file_id is not null`;
+			await sql`delete from teardown_report where converter_id = ${id}`;
+			await sql`delete from bench_run where revision_id in (select id from revision where converter_id = ${id})`;
+			await sql`delete from revision where converter_id = ${id}`;
+			await sql`delete from converter where id = ${id}`;
+			const ids = files.map((f) => f.f as string);
+			if (ids.length) await sql`delete from file where id in ${sql(ids)} or id in (select thumbnail_id from file where id in ${sql(ids)})`;
+		}
+	} finally {
+		await sql.end();
+	}
+});
 
 test('a curator reads good-3ch.csv into a bench run, sees the levels, saves, and the grade goes public', async ({ browser }) => {
 	const page = await as(browser, 'curator@scopegrade.test');

@@ -72,7 +72,7 @@ const readingShape = Object.fromEntries(
 			readingKey(c, ire),
 			z
 				.number({ message: 'A number in mV.' })
-				.min(0, 'Not below 0 mV.')
+				.min(0, 'Not below 0 mV: readings are mV above blanking.')
 				.max(2000, 'Not above 2000 mV.')
 				.optional()
 		])
