@@ -78,8 +78,20 @@ test('a member watches a converter, its restock arrives by e-mail once, and unsu
 	watches = (await (await page.request.get('/api/v1/watches')).json()).watches;
 	expect(watches.find((w) => w.converterSlug === SLUG)?.paused).toBe(true);
 
-	// Put the shop back as the seed had it, for the journeys that follow.
+	// Put the shop back as the seed had it, and wait for the poller to see it, so the journeys
+	// that follow find the seeded stock.
 	await setShopStock('out_of_stock');
+	await expect
+		.poll(async () => {
+			const sql = postgres(process.env.DATABASE_URL!, { max: 1, onnotice: () => {} });
+			try {
+				const [row] = await sql`select current_stock from listing_state where listing_id in (select id from listing where url like ${'%' + SHOP.path})`;
+				return row?.current_stock;
+			} finally {
+				await sql.end();
+			}
+		}, { timeout: 60_000, intervals: [1000] })
+		.toBe('out_of_stock');
 });
 
 test('the account page keeps what was typed and says what is wrong', async ({ page }) => {
