@@ -113,14 +113,15 @@ test('a member sends a teardown report with a photo and a curator verifies it', 
 	await expect(member.getByTestId('photo-thumb')).toBeVisible();
 	await member.getByRole('button', { name: 'Send report' }).click();
 	await expect(member).toHaveURL(/\/teardowns\?sent=report$/);
-	await expect(member.getByText('Waiting for a curator')).toBeVisible();
+	await expect(member.getByText('Waiting for a curator', { exact: true })).toBeVisible();
+	await expect(member.getByRole('img', { name: 'Board you sent' })).toBeVisible();
 	await member.context().close();
 
 	const curator = await as(browser, 'curator@scopegrade.test');
 	await curator.goto('/curate/review');
 	const item = curator.getByTestId('teardown-item').filter({ hasText: `BM-${stamp}` });
 	await expect(item).toBeVisible();
-	await expect(item.getByRole('img', { name: /Board photo/ })).toBeVisible();
+	await expect(item.getByRole('img', { name: /Board sent with report/ })).toBeVisible();
 	await item.getByLabel('Reason').fill('Photo shows the chip clearly');
 	await item.getByRole('button', { name: 'Verify' }).click();
 	await expect(curator.getByTestId('review-done')).toContainText('teardown verify');
