@@ -16,14 +16,14 @@ test.describe('catalogue', () => {
 		await page.goto('/converters');
 		await expect(page.getByTestId('result-count')).toHaveText('6 of 6 converters');
 		const form = page.getByRole('form', { name: 'Filter converters' });
-		await form.getByLabel('Region').selectOption('eu');
+		await form.getByLabel('Region', { exact: true }).selectOption('eu');
 		await expect(page).toHaveURL(/region=eu/);
-		await form.getByLabel('Currency').selectOption('EUR');
-		await form.getByLabel('Band').selectOption('close');
+		await form.getByLabel('Currency', { exact: true }).selectOption('EUR');
+		await form.getByLabel('Band', { exact: true }).selectOption('close');
 		await expect(page).toHaveURL(/band=close/);
-		await form.getByLabel('In stock now in my region').check();
+		await form.getByLabel('In stock now in my region', { exact: true }).check();
 		await expect(page).toHaveURL(/stock=1/);
-		await form.getByLabel('Audio out').check();
+		await form.getByLabel('Audio out', { exact: true }).check();
 		await expect(page).toHaveURL(/audio=1/);
 		await expect(page.getByTestId('result-count')).toHaveText('2 of 6 converters');
 		expect(await slugsOn(page, 'catalogue')).toEqual(['vantacove-beam-bridge', 'brisling-scanlet']);
@@ -48,9 +48,9 @@ test.describe('catalogue', () => {
 		await page.goto('/converters');
 		// Accept-Language en-US -> North America, USD.
 		await expect(page.getByText('Prices for North America, in USD')).toBeVisible();
-		await page.getByLabel('Region').selectOption('jp');
-		await page.getByLabel('Currency').selectOption('JPY');
-		await page.getByLabel('Sort by').selectOption('price');
+		await page.getByLabel('Region', { exact: true }).selectOption('jp');
+		await page.getByLabel('Currency', { exact: true }).selectOption('JPY');
+		await page.getByLabel('Sort by', { exact: true }).selectOption('price');
 		await page.getByRole('button', { name: 'Show converters' }).click();
 		await expect(page).toHaveURL(/sort=price/);
 		// Kumo Parts (JP): Q-Cast Mini 1,280 JPY, Beam Bridge 3,480 JPY in stock; Phosphor One on backorder.
@@ -125,15 +125,15 @@ test.describe('converter page', () => {
 test('finder ranks and explains as the visitor changes inputs', async ({ page }) => {
 	await page.goto('/finder');
 	const form = page.getByRole('form', { name: 'Your needs' });
-	await form.getByLabel('Region').selectOption('eu');
-	await form.getByLabel('Currency').selectOption('EUR');
-	await form.getByLabel('Audio out').check();
-	await form.getByLabel('In stock now').check();
-	await form.getByLabel('Lowest acceptable band').selectOption('close');
+	await form.getByLabel('Region', { exact: true }).selectOption('eu');
+	await form.getByLabel('Currency', { exact: true }).selectOption('EUR');
+	await form.getByLabel('Audio out', { exact: true }).check();
+	await form.getByLabel('In stock now', { exact: true }).check();
+	await form.getByLabel('Lowest acceptable band', { exact: true }).selectOption('close');
 	// In stock in the EU with audio, Close or better: Beam Bridge 22.90 EUR, Scanlet 11.90 EUR.
 	await expect(page.getByTestId('finder-count')).toHaveText('2 matches');
 	expect(await slugsOn(page, 'finder-results')).toEqual(['vantacove-beam-bridge', 'brisling-scanlet']);
-	await form.getByLabel('Budget').fill('20');
+	await form.getByLabel('Budget', { exact: true }).fill('20');
 	await expect(page.getByTestId('finder-count')).toHaveText('1 match');
 	await expect(page.getByTestId('explanation')).toHaveText('Close band; in stock at 1 shop in your region; lowest 11.90 EUR.');
 	await expect(page).toHaveURL(/budget=20/);
@@ -143,7 +143,7 @@ test('finder ranks and explains as the visitor changes inputs', async ({ page })
 
 test('compare two converters side by side with overlaid curves', async ({ page }) => {
 	await page.goto('/compare?c=vantacove-beam-bridge');
-	await page.getByLabel('Add a converter').selectOption('brisling-scanlet');
+	await page.getByLabel('Add a converter', { exact: true }).selectOption('brisling-scanlet');
 	await page.getByRole('button', { name: 'Add' }).click();
 	await expect(page).toHaveURL(/\/compare\?c=vantacove-beam-bridge,brisling-scanlet$/);
 	const chart = page.getByTestId('compare-chart');
@@ -175,7 +175,7 @@ test('guides say so when none is published; learn shows the rubric and the cauti
 	await expect(page.locator('#polling')).toBeVisible();
 	await expect(page.getByText('ScopegradeBot')).toBeVisible();
 	await expect(page.locator('#safety')).toBeVisible();
-	await expect(page.getByText(/lethal voltages even when it is unplugged/)).toBeVisible();
+	await expect(page.getByText(/lethal voltages inside even when it is unplugged/)).toBeVisible();
 });
 
 const PAGES = [
