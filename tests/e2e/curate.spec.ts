@@ -93,6 +93,10 @@ test('a curator reads good-3ch.csv into a bench run, sees the levels, saves, and
 	const card = page.getByRole('link', { name: new RegExp(model) });
 	await expect(card).toBeVisible();
 	await expect(card.getByRole('img', { name: /Band: (Exact|Close)/ })).toBeVisible();
+	// And on the public converter page.
+	const res = await page.goto(`/converters/${stamp ? `testbench-${stamp}-probe-${stamp}` : ''}`);
+	expect(res?.status()).toBe(200);
+	await expect(page.getByRole('img', { name: /Band: (Exact|Close)/ }).first()).toBeVisible();
 	await page.context().close();
 });
 
