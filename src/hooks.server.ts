@@ -2,6 +2,15 @@ import { sequence } from '@sveltejs/kit/hooks';
 import type { Handle } from '@sveltejs/kit';
 import { authHandle } from '$lib/server/auth/config';
 import { ROLES, type Role } from '$lib/roles';
+import { isForbiddenCrossSiteForm } from '$lib/server/csrf';
+
+/** Refuse cross-site form posts (see $lib/server/csrf for the one exemption). */
+const originCheck: Handle = async ({ event, resolve }) => {
+	if (isForbiddenCrossSiteForm(event.request, event.url)) {
+		return new Response(`Cross-site ${event.request.method} form submissions are forbidden`, { status: 403 });
+	}
+	return resolve(event);
+};
 
 /** Put the signed-in user (with role) into locals once per request. */
 const userHandle: Handle = async ({ event, resolve }) => {
@@ -28,4 +37,4 @@ const securityHeaders: Handle = async ({ event, resolve }) => {
 	return response;
 };
 
-export const handle = sequence(authHandle, userHandle, securityHeaders);
+export const handle = sequence(originCheck, authHandle, userHandle, securityHeaders);
