@@ -35,7 +35,8 @@ export const catalogueParams = z.object({
 	stock: flag,
 	audio: flag,
 	power: z.preprocess(blank, z.enum(POWER_KINDS).optional()),
-	sort: z.preprocess(blank, z.enum(SORTS).optional())
+	sort: z.preprocess(blank, z.enum(SORTS).optional()),
+	page: z.preprocess(blank, z.coerce.number().int().min(1).max(10_000).optional())
 });
 export type CatalogueParams = z.infer<typeof catalogueParams>;
 

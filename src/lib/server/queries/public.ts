@@ -13,6 +13,7 @@ import {
 	guidePicks,
 	guides,
 	listings,
+	listingStates,
 	shops,
 	stockEvents,
 	teardownReports,
@@ -67,8 +68,19 @@ function toOffer(o: CurrentOffer | PricedOffer, currency: string, rates: RatesPe
 
 type ConverterRow = typeof converters.$inferSelect;
 
-async function revisionsFor(db: Database, converterIds: number[]) {
-	if (converterIds.length === 0) return [];
+function groupBy<T, K>(xs: T[], key: (x: T) => K): Map<K, T[]> {
+	const m = new Map<K, T[]>();
+	for (const x of xs) {
+		const k = key(x);
+		const list = m.get(k);
+		if (list) list.push(x);
+		else m.set(k, [x]);
+	}
+	return m;
+}
+
+async function revisionsFor(db: Database, converterIds: number[] | 'all') {
+	if (converterIds !== 'all' && converterIds.length === 0) return [];
 	return db
 		.select({
 			id: revisions.id,
@@ -93,7 +105,7 @@ async function revisionsFor(db: Database, converterIds: number[]) {
 		})
 		.from(revisions)
 		.innerJoin(chips, eq(chips.id, revisions.chipId))
-		.where(inArray(revisions.converterId, converterIds))
+		.where(converterIds === 'all' ? undefined : inArray(revisions.converterId, converterIds))
 		.orderBy(asc(revisions.converterId), asc(revisions.code));
 }
 
@@ -105,9 +117,11 @@ function buildEntries(
 	rates: RatesPerEur
 ): CatalogueEntry[] {
 	const best = bestOfferByConverter(offers, view.region, view.currency, rates);
+	// Group once: a catalogue of thousands must not scan every offer for every converter.
+	const revsBy = groupBy(revs, (r) => r.converterId);
+	const offersBy = groupBy(offers, (o) => o.converterId);
 	return rows.map((c) => {
-		const revisionsOf: CatalogueRevision[] = revs
-			.filter((r) => r.converterId === c.id)
+		const revisionsOf: CatalogueRevision[] = (revsBy.get(c.id) ?? [])
 			.map((r) => ({
 				id: r.id,
 				code: r.code,
@@ -122,7 +136,7 @@ function buildEntries(
 				seenTo: r.seenTo
 			}));
 		const lead = leadGrade(revisionsOf);
-		const inRegion = offers.filter((o) => o.converterId === c.id && servesRegion(o, view.region));
+		const inRegion = (offersBy.get(c.id) ?? []).filter((o) => servesRegion(o, view.region));
 		const bestOffer = best.get(c.id);
 		const priced = inRegion
 			.map((o) => toOffer(o, view.currency, rates))
@@ -151,6 +165,39 @@ function buildEntries(
 	});
 }
 
+/**
+ * Current offers at shops based in or shipping to a region (the catalogue needs no others);
+ * the same rows as offers.currentOffers, filtered in SQL so a large catalogue reads less.
+ */
+async function regionalOffers(db: Database, region: Region): Promise<CurrentOffer[]> {
+	return db
+		.select({
+			listingId: listings.id,
+			converterId: listings.converterId,
+			shopSlug: shops.slug,
+			shopName: shops.name,
+			shopRegion: shops.region,
+			shipsTo: shops.shipsTo,
+			url: listings.url,
+			priceMinor: listingStates.currentPriceMinor,
+			currency: listingStates.currentCurrency,
+			stock: sql<CurrentOffer['stock']>`coalesce(${listingStates.currentStock}, 'unknown')`,
+			lastCheckedAt: listingStates.lastCheckedAt,
+			lastSuccessAt: listingStates.lastSuccessAt
+		})
+		.from(listings)
+		.innerJoin(shops, eq(shops.id, listings.shopId))
+		.leftJoin(listingStates, eq(listingStates.listingId, listings.id))
+		.where(
+			and(
+				eq(listings.active, true),
+				isNull(listings.delistedAt),
+				eq(shops.active, true),
+				sql`(${shops.region} = ${region} or ${region} = any(${shops.shipsTo}))`
+			)
+		);
+}
+
 /** Every live converter as a catalogue entry priced for one viewpoint. */
 export async function loadCatalogue(db: Database, view: Viewpoint): Promise<CatalogueEntry[]> {
 	const rows = await db
@@ -158,8 +205,8 @@ export async function loadCatalogue(db: Database, view: Viewpoint): Promise<Cata
 		.from(converters)
 		.where(isNull(converters.retiredAt))
 		.orderBy(asc(converters.brand), asc(converters.model));
-	const ids = rows.map((r) => r.id);
-	const [revs, offers, rates] = await Promise.all([revisionsFor(db, ids), currentOffers(db, ids), loadRates(db)]);
+	// The whole catalogue: every revision, and only the offers of shops serving the region.
+	const [revs, offers, rates] = await Promise.all([revisionsFor(db, 'all'), regionalOffers(db, view.region), loadRates(db)]);
 	return buildEntries(rows, revs, offers, view, rates);
 }
 
