@@ -31,9 +31,10 @@ export function profile(name) {
 		name === 'dev'
 			? { pgPort: 54330, database: 'scopegrade', appPort: 4300, inboxPort: 4301, smtpPort: 4325, shopsPort: 4310, s3Port: 4320 }
 			: { pgPort: 54340, database: 'scopegrade_test', appPort: 4400, inboxPort: 4401, smtpPort: 4425, shopsPort: 4410, s3Port: 4420 };
-	const dataDir = resolve(ROOT, '.data', name);
-	// SG_PORT_OFFSET moves every port, so two checkouts can run their tests side by side.
+	// SG_PORT_OFFSET moves every port, so two checkouts can run their tests side by side;
+	// each offset gets its own cluster folder too.
 	const offset = Number(process.env.SG_PORT_OFFSET || 0);
+	const dataDir = resolve(ROOT, '.data', offset ? `${name}-${offset}` : name);
 	const p = { ...base };
 	for (const key of Object.keys(p)) if (key.endsWith('Port')) p[key] += offset;
 	const pgUser = 'scopegrade';
