@@ -57,7 +57,7 @@ export interface CatalogueEntry {
 	outputs: string[];
 	lastReviewedAt: string | null;
 	revisions: CatalogueRevision[];
-	/** Best band over current (non-retired) revisions, null when none is graded. */
+	/** Best band over current revisions (see currentRevisions), null when none is graded. */
 	bestBand: Band | null;
 	bestScore: number | null;
 	/** Listings at shops serving the region, cheapest buyable first, then the rest. */
@@ -68,12 +68,40 @@ export interface CatalogueEntry {
 	inStockShops: number;
 }
 
+/**
+ * The revisions a buyer can get today: not retired and still seen in shops (no end date).
+ * An older revision that shops no longer send must not lift a converter's grade: that is
+ * the trap of a box that changed chip. A converter whose every revision has an end date
+ * (no longer made) is judged on all its non-retired revisions.
+ */
+export function currentRevisions<R extends Pick<CatalogueRevision, 'retired' | 'seenTo'>>(revisions: R[]): R[] {
+	const live = revisions.filter((r) => !r.retired);
+	const inShops = live.filter((r) => r.seenTo === null);
+	return inShops.length ? inShops : live;
+}
+
+/** True when a revision is no longer what shops send (retired, or seen only until a date while a newer one ships). */
+export function isPastRevision<R extends Pick<CatalogueRevision, 'retired' | 'seenTo'>>(r: R, all: R[]): boolean {
+	return !currentRevisions(all).includes(r);
+}
+
+/**
+ * Older revisions that graded better than anything shops send today: the buyer must not
+ * trust an old review of the same box name.
+ */
+export function betterPastRevisions(revisions: CatalogueRevision[]): CatalogueRevision[] {
+	const lead = leadGrade(revisions).band;
+	return revisions.filter(
+		(r) => !r.retired && isPastRevision(r, revisions) && r.band !== null && (lead === null || bandRank(r.band) < bandRank(lead))
+	);
+}
+
 /** The lead band of a converter: the best over its current revisions. */
 export function leadGrade(revisions: CatalogueRevision[]): { band: Band | null; score: number | null } {
 	let band: Band | null = null;
 	let score: number | null = null;
-	for (const r of revisions) {
-		if (r.retired || !r.band) continue;
+	for (const r of currentRevisions(revisions)) {
+		if (!r.band) continue;
 		const better = band === null || bandRank(r.band) < bandRank(band) || (r.band === band && (r.score ?? -1) > (score ?? -1));
 		if (better) {
 			band = r.band;
@@ -83,15 +111,14 @@ export function leadGrade(revisions: CatalogueRevision[]): { band: Band | null; 
 	return { band, score };
 }
 
-/** True when any current revision is `min` or better. */
+/** True when any current revision (see currentRevisions) is `min` or better. */
 export function meetsBand(entry: Pick<CatalogueEntry, 'revisions'>, min: Band): boolean {
-	return entry.revisions.some((r) => !r.retired && r.band !== null && bandRank(r.band) <= bandRank(min));
+	return currentRevisions(entry.revisions).some((r) => r.band !== null && bandRank(r.band) <= bandRank(min));
 }
 
 /** True when the current revisions do not all share one band: a buyer may get either. */
 export function bandsDiffer(entry: Pick<CatalogueEntry, 'revisions'>): boolean {
-	const current = entry.revisions.filter((r) => !r.retired);
-	return new Set(current.map((r) => r.band ?? 'none')).size > 1;
+	return new Set(currentRevisions(entry.revisions).map((r) => r.band ?? 'none')).size > 1;
 }
 
 export interface CatalogueFilter {
@@ -169,7 +196,7 @@ export function explainEntry(e: CatalogueEntry, region: Region): string {
 
 function notesFor(e: CatalogueEntry, minBand: Band | undefined): string[] {
 	const notes: string[] = [];
-	const current = e.revisions.filter((r) => !r.retired && r.band);
+	const current = currentRevisions(e.revisions).filter((r) => r.band);
 	const worse = current.filter((r) => e.bestBand && bandRank(r.band) > bandRank(e.bestBand));
 	for (const r of worse) {
 		notes.push(`Revision ${r.code} (chip ${r.chip}) grades ${BAND_WORD[r.band!]}: which one a shop sends cannot be chosen.`);

@@ -46,9 +46,9 @@ test('converter, revision and listings carry the engine reports and listing stat
 });
 
 test('finder API ranks and explains', async ({ request }) => {
-	const body = await (await request.get('/api/v1/finder?region=eu&currency=EUR&audio=1&stock=1&band=close&budget=20')).json();
-	expect(body.results.map((r: { slug: string }) => r.slug)).toEqual(['brisling-scanlet']);
-	expect(body.results[0].explanation).toBe('Close band; in stock at 1 shop in your region; lowest 11.90 EUR');
+	const body = await (await request.get('/api/v1/finder?region=eu&currency=EUR&audio=1&stock=1&band=close&budget=25')).json();
+	expect(body.results.map((r: { slug: string }) => r.slug)).toEqual(['vantacove-beam-bridge']);
+	expect(body.results[0].explanation).toBe('Exact band; in stock at 1 shop in your region; lowest 22.90 EUR');
 });
 
 test('exports state their licence; OpenAPI 3.1 lists the routes', async ({ request }) => {

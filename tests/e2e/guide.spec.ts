@@ -9,10 +9,11 @@ const slugsOn = async (page: import('@playwright/test').Page, list: string) =>
 	page.locator(`[data-testid=${list}] > li`).evaluateAll((els) => els.map((e) => e.getAttribute('data-slug')));
 
 test.describe('catalogue', () => {
-	test('filtering to in stock, Close or better, EU, with audio gives exactly Beam Bridge and Scanlet', async ({ page }) => {
+	test('filtering to in stock, Close or better, EU, with audio gives exactly the Beam Bridge', async ({ page }) => {
 		// EU is served by Kanalhaus (EU) and Thamesbit (UK, ships to the EU). In stock there with
-		// audio out: Beam Bridge (Exact), Scanlet (rev A Close, rev B Failing), Loop RGB (Poor) and
-		// Beam Bridge Pro (Fair). Close or better on any current revision: Beam Bridge and Scanlet.
+		// audio out: Beam Bridge (Exact), Scanlet (rev A Close, but shops stopped sending it on
+		// 2025-08-31; rev B, sold now, Failing), Loop RGB (Poor) and Beam Bridge Pro (Fair).
+		// Close or better on what ships today: the Beam Bridge alone.
 		await page.goto('/converters');
 		await expect(page.getByTestId('result-count')).toHaveText('6 of 6 converters');
 		const form = page.getByRole('form', { name: 'Filter converters' });
@@ -25,21 +26,26 @@ test.describe('catalogue', () => {
 		await expect(page).toHaveURL(/stock=1/);
 		await form.getByLabel('Audio out', { exact: true }).check();
 		await expect(page).toHaveURL(/audio=1/);
-		await expect(page.getByTestId('result-count')).toHaveText('2 of 6 converters');
-		expect(await slugsOn(page, 'catalogue')).toEqual(['vantacove-beam-bridge', 'brisling-scanlet']);
-		// Every revision's band stays visible, so the Scanlet's chip change shows.
-		const scanlet = page.locator('[data-slug=brisling-scanlet]');
-		await expect(scanlet.locator('[data-band=close]')).toHaveCount(1);
-		await expect(scanlet.locator('[data-band=failing]')).toHaveCount(1);
-		// Kanalhaus sells the Scanlet for 11.90 EUR (scenario LISTINGS).
-		await expect(scanlet.getByTestId('best-price')).toHaveText('11.90 EUR');
+		await expect(page.getByTestId('result-count')).toHaveText('1 of 6 converters');
+		expect(await slugsOn(page, 'catalogue')).toEqual(['vantacove-beam-bridge']);
 
 		// The view is in the URL: shared, it shows the same list.
 		const shared = page.url();
 		const other = await page.context().newPage();
 		await other.goto(shared);
-		expect(await slugsOn(other, 'catalogue')).toEqual(['vantacove-beam-bridge', 'brisling-scanlet']);
+		expect(await slugsOn(other, 'catalogue')).toEqual(['vantacove-beam-bridge']);
 		await other.close();
+
+		// Any band: the Scanlet appears, with both revisions' bands visible and the older one marked.
+		await form.getByLabel('Band', { exact: true }).selectOption('');
+		await expect(page.getByTestId('result-count')).toHaveText('4 of 6 converters');
+		const scanlet = page.locator('[data-slug=brisling-scanlet]');
+		await expect(scanlet.locator('[data-band=close]')).toHaveCount(1);
+		await expect(scanlet.locator('[data-band=failing]')).toHaveCount(1);
+		await expect(scanlet).toContainText('older units, until 2025-08-31');
+		await expect(scanlet).toContainText('Changed chip');
+		// Kanalhaus sells the Scanlet for 11.90 EUR (scenario LISTINGS).
+		await expect(scanlet.getByTestId('best-price')).toHaveText('11.90 EUR');
 	});
 
 	test('works without JavaScript, sorts by price, and remembers the region in a cookie', async ({ browser }) => {
@@ -130,15 +136,18 @@ test('finder ranks and explains as the visitor changes inputs', async ({ page })
 	await form.getByLabel('Audio out', { exact: true }).check();
 	await form.getByLabel('In stock now', { exact: true }).check();
 	await form.getByLabel('Lowest acceptable band', { exact: true }).selectOption('close');
-	// In stock in the EU with audio, Close or better: Beam Bridge 22.90 EUR, Scanlet 11.90 EUR.
-	await expect(page.getByTestId('finder-count')).toHaveText('2 matches');
-	expect(await slugsOn(page, 'finder-results')).toEqual(['vantacove-beam-bridge', 'brisling-scanlet']);
-	await form.getByLabel('Budget', { exact: true }).fill('20');
+	// In stock in the EU with audio, Close or better on what ships today: Beam Bridge 22.90 EUR.
 	await expect(page.getByTestId('finder-count')).toHaveText('1 match');
-	await expect(page.getByTestId('explanation')).toHaveText('Close band; in stock at 1 shop in your region; lowest 11.90 EUR.');
+	expect(await slugsOn(page, 'finder-results')).toEqual(['vantacove-beam-bridge']);
+	await expect(page.getByTestId('explanation')).toHaveText('Exact band; in stock at 1 shop in your region; lowest 22.90 EUR.');
+	// Any band: four match (Beam Bridge, Scanlet, Loop RGB, Beam Bridge Pro).
+	await form.getByLabel('Lowest acceptable band', { exact: true }).selectOption('');
+	await expect(page.getByTestId('finder-count')).toHaveText('4 matches');
+	await form.getByLabel('Budget', { exact: true }).fill('20');
+	await expect(page.getByTestId('finder-count')).toHaveText('2 matches');
 	await expect(page).toHaveURL(/budget=20/);
 	await page.reload();
-	await expect(page.getByTestId('finder-count')).toHaveText('1 match');
+	await expect(page.getByTestId('finder-count')).toHaveText('2 matches');
 });
 
 test('compare two converters side by side with overlaid curves', async ({ page }) => {

@@ -33,14 +33,17 @@ describe('public guide queries', () => {
 
 	it('"in stock, Close or better, EU, with audio" gives exactly the matching demo converters', async () => {
 		// From the scenario: EU is served by Kanalhaus (EU) and Thamesbit (UK, ships to the EU).
-		// In stock there with audio: Beam Bridge (Exact), Scanlet (rev A Close, rev B Failing),
-		// Loop RGB (Poor), Beam Bridge Pro (Fair; in stock at Thamesbit). Close or better: two.
+		// In stock there with audio: Beam Bridge (Exact), Scanlet (rev A Close but no longer in
+		// shops since 2025-08-31; rev B, what shops send now, Failing), Loop RGB (Poor), Beam
+		// Bridge Pro (Fair; in stock at Thamesbit). Close or better on what ships today: one.
 		const all = await loadCatalogue(h.db, { region: 'eu', currency: 'EUR' });
 		const hit = filterCatalogue(all, { inStock: true, minBand: 'close', audio: true, sort: 'band' });
-		expect(hit.map((c) => c.slug)).toEqual(['vantacove-beam-bridge', 'brisling-scanlet']);
-		const ranked = rankFinder(all, { region: 'eu', inStockNow: true, minBand: 'close', needsAudio: true, budgetMinor: 2000 });
-		expect(ranked.map((r) => r.entry.slug)).toEqual(['brisling-scanlet']);
-		expect(ranked[0].explanation).toBe('Close band; in stock at 1 shop in your region; lowest 11.90 EUR');
+		expect(hit.map((c) => c.slug)).toEqual(['vantacove-beam-bridge']);
+		const ranked = rankFinder(all, { region: 'eu', inStockNow: true, minBand: 'close', needsAudio: true, budgetMinor: 2500 });
+		expect(ranked.map((r) => r.entry.slug)).toEqual(['vantacove-beam-bridge']);
+		expect(ranked[0].explanation).toBe('Exact band; in stock at 1 shop in your region; lowest 22.90 EUR');
+		// Under 20 EUR nothing that ships today is Close or better.
+		expect(rankFinder(all, { region: 'eu', inStockNow: true, minBand: 'close', needsAudio: true, budgetMinor: 2000 })).toEqual([]);
 	});
 
 	it('prices in another currency through the stored rates', async () => {
@@ -112,7 +115,7 @@ describe('public guide queries', () => {
 		expect(restocks.length).toBeGreaterThan(0);
 		expect(restocks.every((r, i) => i === 0 || restocks[i - 1].at >= r.at)).toBe(true);
 		const scanlet = restocks.find((r) => r.converterSlug === 'brisling-scanlet');
-		expect(scanlet?.band).toBe('close');
+		expect(scanlet?.band, 'the band of the revision shops send now').toBe('failing');
 	});
 
 	it('exports one catalogue row per revision and 11 readings per accepted run', async () => {

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { explainEntry, filterCatalogue, leadGrade, meetsBand, rankFinder, sortCatalogue, type CatalogueEntry, type CatalogueRevision } from '../../src/lib/finder';
+import { betterPastRevisions, currentRevisions, explainEntry, filterCatalogue, leadGrade, meetsBand, rankFinder, sortCatalogue, type CatalogueEntry, type CatalogueRevision } from '../../src/lib/finder';
 
 let nextId = 1;
 const rev = (code: string, band: CatalogueRevision['band'], score: number | null, retired = false): CatalogueRevision => ({
@@ -23,6 +23,22 @@ describe('band filter semantics', () => {
 		expect(meetsBand(changed, 'exact')).toBe(false);
 		expect(meetsBand(retiredGood, 'close')).toBe(false);
 		expect(leadGrade(retiredGood.revisions)).toEqual({ band: 'poor', score: 60 });
+	});
+
+	it('judges a converter that changed chip by the revision shops send now, not an older better one', () => {
+		const older = { ...rev('A', 'close', 85), seenTo: '2025-08-31' };
+		const now = rev('B', 'failing', 30);
+		const changed = entry('changed-chip', [older, now]);
+		expect(currentRevisions(changed.revisions)).toEqual([now]);
+		expect(meetsBand(changed, 'close')).toBe(false);
+		expect(leadGrade(changed.revisions)).toEqual({ band: 'failing', score: 30 });
+		expect(betterPastRevisions(changed.revisions)).toEqual([older]);
+	});
+
+	it('judges a converter no longer made (every revision has an end date) on all its revisions', () => {
+		const gone = entry('gone', [{ ...rev('A', 'close', 85), seenTo: '2024-01-31' }, { ...rev('B', 'fair', 70), seenTo: '2025-01-31' }]);
+		expect(meetsBand(gone, 'close')).toBe(true);
+		expect(betterPastRevisions(gone.revisions)).toEqual([]);
 	});
 
 	it('keeps every revision on the matching entry so the chip change stays visible', () => {
