@@ -2,7 +2,7 @@
 import { and, desc, eq, inArray, isNull, lte, sql } from 'drizzle-orm';
 import type { Database } from '../db/client';
 import { exchangeRates, listingStates, listings, shops } from '../db/schema';
-import type { CurrentOffer, RatesPerEur } from '../../pricing';
+import type { CurrentOffer, RatesPerEur, Region } from '../../pricing';
 
 /** Latest EUR-based rate per currency on or before `day` (YYYY-MM-DD). */
 export async function loadRates(db: Database, day = new Date().toISOString().slice(0, 10)): Promise<RatesPerEur> {
@@ -16,8 +16,11 @@ export async function loadRates(db: Database, day = new Date().toISOString().sli
 	return rates;
 }
 
-/** Every active listing's current price and stock (optionally for some converters). */
-export async function currentOffers(db: Database, converterIds?: number[]): Promise<CurrentOffer[]> {
+/**
+ * Every active listing's current price and stock, optionally only for some converters and
+ * only at shops based in or shipping to a region (filtered in SQL so a large catalogue reads less).
+ */
+export async function currentOffers(db: Database, converterIds?: number[], region?: Region): Promise<CurrentOffer[]> {
 	const rows = await db
 		.select({
 			listingId: listings.id,
@@ -41,7 +44,8 @@ export async function currentOffers(db: Database, converterIds?: number[]): Prom
 				eq(listings.active, true),
 				isNull(listings.delistedAt),
 				eq(shops.active, true),
-				converterIds ? inArray(listings.converterId, converterIds.length ? converterIds : [-1]) : undefined
+				converterIds ? inArray(listings.converterId, converterIds.length ? converterIds : [-1]) : undefined,
+				region ? sql`(${shops.region} = ${region} or ${region} = any(${shops.shipsTo}))` : undefined
 			)
 		);
 	return rows;

@@ -165,38 +165,6 @@ function buildEntries(
 	});
 }
 
-/**
- * Current offers at shops based in or shipping to a region (the catalogue needs no others);
- * the same rows as offers.currentOffers, filtered in SQL so a large catalogue reads less.
- */
-async function regionalOffers(db: Database, region: Region): Promise<CurrentOffer[]> {
-	return db
-		.select({
-			listingId: listings.id,
-			converterId: listings.converterId,
-			shopSlug: shops.slug,
-			shopName: shops.name,
-			shopRegion: shops.region,
-			shipsTo: shops.shipsTo,
-			url: listings.url,
-			priceMinor: listingStates.currentPriceMinor,
-			currency: listingStates.currentCurrency,
-			stock: sql<CurrentOffer['stock']>`coalesce(${listingStates.currentStock}, 'unknown')`,
-			lastCheckedAt: listingStates.lastCheckedAt,
-			lastSuccessAt: listingStates.lastSuccessAt
-		})
-		.from(listings)
-		.innerJoin(shops, eq(shops.id, listings.shopId))
-		.leftJoin(listingStates, eq(listingStates.listingId, listings.id))
-		.where(
-			and(
-				eq(listings.active, true),
-				isNull(listings.delistedAt),
-				eq(shops.active, true),
-				sql`(${shops.region} = ${region} or ${region} = any(${shops.shipsTo}))`
-			)
-		);
-}
 
 /** Every live converter as a catalogue entry priced for one viewpoint. */
 export async function loadCatalogue(db: Database, view: Viewpoint): Promise<CatalogueEntry[]> {
@@ -206,7 +174,7 @@ export async function loadCatalogue(db: Database, view: Viewpoint): Promise<Cata
 		.where(isNull(converters.retiredAt))
 		.orderBy(asc(converters.brand), asc(converters.model));
 	// The whole catalogue: every revision, and only the offers of shops serving the region.
-	const [revs, offers, rates] = await Promise.all([revisionsFor(db, 'all'), regionalOffers(db, view.region), loadRates(db)]);
+	const [revs, offers, rates] = await Promise.all([revisionsFor(db, 'all'), currentOffers(db, undefined, view.region), loadRates(db)]);
 	return buildEntries(rows, revs, offers, view, rates);
 }
 
