@@ -222,7 +222,7 @@ async function main() {
 		const origin = `http://127.0.0.1:${PORT}`;
 		app = spawn(process.execPath, [out], {
 			cwd: ROOT,
-			env: { ...process.env, DATABASE_URL: url, HOST: '127.0.0.1', PORT: String(PORT), ORIGIN: origin, AUTH_SECRET: 'bench-secret-not-for-production-0123456789', AUTH_URL: `${origin}/auth`, NODE_ENV: 'production' },
+			env: { ...process.env, DATABASE_URL: url, HOST: '127.0.0.1', PORT: String(PORT), ORIGIN: origin, AUTH_SECRET: 'bench-secret-not-for-production-0123456789', NODE_ENV: 'production' },
 			stdio: ['ignore', 'ignore', 'inherit']
 		});
 		await waitFor(`${origin}/robots.txt`);

@@ -1,7 +1,8 @@
 #!/usr/bin/env node
 // `npm test`: bootstrap like `npm start`, then vitest (unit + integration against a real
 // PostgreSQL, fake SMTP and fake shops) and Playwright against the built app.
-// Extra arguments pick a part: `npm test -- unit` (vitest only) or `npm test -- e2e`.
+// Extra arguments pick parts: `npm test -- check` (svelte-check), `npm test -- unit` (vitest)
+// or `npm test -- e2e` (Playwright).
 import { existsSync, mkdirSync, readFileSync, rmSync } from 'node:fs';
 import { resolve } from 'node:path';
 import { appEnv, profile, ROOT } from './lib/profiles.mjs';
@@ -58,6 +59,15 @@ async function main() {
 	children.push(mail, shops, s3);
 	await waitForHttp(`http://127.0.0.1:${p.inboxPort}/api/health`, 30_000, mail);
 	await waitForHttp(`http://127.0.0.1:${p.s3Port}/`, 30_000, s3);
+
+	if (want('check')) {
+		log('svelte-check: types and Svelte diagnostics');
+		try {
+			run('npm', ['run', 'check', '--silent'], { cwd: ROOT, env });
+		} catch {
+			failed = true;
+		}
+	}
 
 	if (want('unit')) {
 		log('vitest: unit and integration tests');

@@ -63,7 +63,6 @@ export function appEnv(p, authSecret) {
 		PORT: String(p.appPort),
 		ORIGIN: p.origin,
 		AUTH_SECRET: authSecret,
-		AUTH_URL: p.origin,
 		SMTP_HOST: '127.0.0.1',
 		SMTP_PORT: String(p.smtpPort),
 		SMTP_SECURE: 'false',
