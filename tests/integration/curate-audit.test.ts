@@ -109,7 +109,7 @@ describe('listings, guides, teardowns', () => {
 	});
 
 	it('guide edits, publishing and picks are audited; markdown is sanitised', async () => {
-		const g = await createGuide(w.db, w.curator, { title: 'Quiet picks for a PVM', slug: '', summary: '', bodyMarkdown: '' });
+		const g = await createGuide(w.db, w.curator, { title: 'Quiet picks for a studio monitor', slug: '', summary: '', bodyMarkdown: '' });
 		await expect(setGuideStatus(w.db, w.curator, g.id, 'published')).rejects.toMatchObject({ field: 'bodyMarkdown' });
 		await updateGuide(w.db, w.curator, g.id, { title: g.title, slug: '', summary: 'Two boxes', bodyMarkdown: '## Why\n\nSee <script>alert(1)</script> [the scale](javascript:alert(1)).' });
 		const [conv] = await w.db.select().from(t.converters).where(eq(t.converters.slug, 'auditbrand-lamp-2'));

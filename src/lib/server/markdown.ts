@@ -10,10 +10,11 @@ import sanitizeHtml from 'sanitize-html';
 const marked = new Marked({ gfm: true, breaks: false, async: false });
 
 const ALLOWED: sanitizeHtml.IOptions = {
-	allowedTags: ['h2', 'h3', 'h4', 'p', 'a', 'ul', 'ol', 'li', 'strong', 'em', 'code', 'pre', 'blockquote', 'hr', 'br', 'table', 'thead', 'tbody', 'tr', 'th', 'td', 'del'],
-	allowedAttributes: { a: ['href', 'title', 'rel'], th: ['scope', 'align'], td: ['align'] },
+	allowedTags: ['h2', 'h3', 'h4', 'p', 'a', 'ul', 'ol', 'li', 'strong', 'em', 'code', 'pre', 'blockquote', 'hr', 'br', 'table', 'thead', 'tbody', 'tr', 'th', 'td', 'del', 'img'],
+	allowedAttributes: { a: ['href', 'title', 'rel'], img: ['src', 'alt', 'title'], th: ['scope', 'align'], td: ['align'] },
 	allowedSchemes: ['http', 'https', 'mailto'],
-	allowedSchemesAppliedToAttributes: ['href'],
+	allowedSchemesByTag: { img: ['https'] },
+	allowedSchemesAppliedToAttributes: ['href', 'src'],
 	allowProtocolRelative: false,
 	// A guide's title is the page's h1: demote any h1 in the body to h2.
 	transformTags: {

@@ -1,36 +1,17 @@
 /**
  * Guides: curator-written pages in markdown, with picks from the catalogue. The public
- * /guides/[slug] page belongs to the public guide; this module is the editor's side and
- * the one markdown renderer both use (marked, then sanitize-html: guide text never
- * carries scripts, styles or event handlers to a reader's browser).
+ * /guides/[slug] page belongs to the public guide; this module is the editor's side. Both
+ * render through $lib/server/markdown (marked, then sanitize-html).
  */
 import { asc, desc, eq, sql } from 'drizzle-orm';
-import { marked } from 'marked';
-import sanitizeHtml from 'sanitize-html';
 import type { z } from 'zod';
 import { audit } from '../audit';
 import * as t from '../db/schema';
 import { FieldError, isUniqueViolation, pick, slugify, type Actor, type Database } from './common';
 import type { guidePickSchema, guideSchema } from './schemas';
 
-/** Markdown -> safe HTML: headings, lists, links (http/https/mailto), code, tables, images over https. */
-export function renderGuideMarkdown(markdown: string): string {
-	const raw = marked.parse(markdown, { async: false, gfm: true, breaks: false }) as string;
-	return sanitizeHtml(raw, {
-		allowedTags: [
-			'h2', 'h3', 'h4', 'p', 'ul', 'ol', 'li', 'a', 'strong', 'em', 'code', 'pre', 'blockquote', 'hr', 'br',
-			'table', 'thead', 'tbody', 'tr', 'th', 'td', 'img', 'del'
-		],
-		allowedAttributes: { a: ['href', 'title'], img: ['src', 'alt', 'title'], th: ['align'], td: ['align'] },
-		allowedSchemes: ['http', 'https', 'mailto'],
-		allowedSchemesByTag: { img: ['https'] },
-		// An h1 belongs to the page itself; demote any in the text.
-		transformTags: {
-			h1: 'h2',
-			a: (tagName, attribs) => ({ tagName, attribs: { ...attribs, rel: 'nofollow noopener' } })
-		}
-	});
-}
+/** The editor preview uses the public pages' renderer, so what a curator sees is what readers get. */
+export { renderMarkdown as renderGuideMarkdown } from '../markdown';
 
 const GUIDE_FIELDS = ['slug', 'title', 'summary', 'bodyMarkdown', 'status', 'publishedAt'] as const;
 
