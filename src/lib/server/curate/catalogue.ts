@@ -24,6 +24,50 @@ function chosenSlug(typed: string, from: string, field = 'slug') {
 	return slug;
 }
 
+/** The three catalogue tables that can be retired; each has `id`, `retiredAt` and `updatedAt`. */
+const RETIRABLE = {
+	chip: { table: t.chips, fields: CHIP_FIELDS },
+	converter: { table: t.converters, fields: CONVERTER_FIELDS },
+	revision: { table: t.revisions, fields: REVISION_FIELDS }
+} as const;
+
+/**
+ * Retire (or bring back) one row and audit it in the same transaction. Retiring keeps the
+ * first retirement date; nothing is ever deleted, so old links and history stay whole.
+ */
+async function setRetired(
+	db: Database,
+	actor: Actor,
+	entity: keyof typeof RETIRABLE,
+	id: number,
+	retired: boolean,
+	reason?: string
+) {
+	// One code path for three tables: Drizzle cannot type a union of tables, so use the chip
+	// table's shape (all three share id, retiredAt and updatedAt).
+	const { table, fields } = RETIRABLE[entity] as unknown as { table: typeof t.chips; fields: readonly (keyof typeof t.chips.$inferSelect)[] };
+	return db.transaction(async (tx) => {
+		const [before] = await tx.select().from(table).where(eq(table.id, id)).for('update');
+		if (!before) throw new FieldError(null, `That ${entity} does not exist.`, 404);
+		const now = new Date();
+		const [row] = await tx
+			.update(table)
+			.set({ retiredAt: retired ? (before.retiredAt ?? now) : null, updatedAt: now })
+			.where(eq(table.id, id))
+			.returning();
+		await audit(tx, {
+			actorId: actor.id,
+			action: retired ? 'retired' : 'restored',
+			entity,
+			entityId: id,
+			before: pick(before, fields),
+			after: pick(row, fields),
+			reason
+		});
+		return row;
+	});
+}
+
 // ------------------------------------------------------------------ chips
 
 export async function listChips(db: Database) {
@@ -72,25 +116,7 @@ export async function updateChip(db: Database, actor: Actor, id: number, input: 
 
 /** Retire (or bring back) a chip. Retired chips stay linked to old revisions. */
 export async function setChipRetired(db: Database, actor: Actor, id: number, retired: boolean, reason?: string) {
-	return db.transaction(async (tx) => {
-		const [before] = await tx.select().from(t.chips).where(eq(t.chips.id, id)).for('update');
-		if (!before) throw new FieldError(null, 'That chip does not exist.', 404);
-		const [row] = await tx
-			.update(t.chips)
-			.set({ retiredAt: retired ? (before.retiredAt ?? new Date()) : null, updatedAt: new Date() })
-			.where(eq(t.chips.id, id))
-			.returning();
-		await audit(tx, {
-			actorId: actor.id,
-			action: retired ? 'retired' : 'restored',
-			entity: 'chip',
-			entityId: id,
-			before: pick(before, CHIP_FIELDS),
-			after: pick(row, CHIP_FIELDS),
-			reason
-		});
-		return row;
-	});
+	return (await setRetired(db, actor, 'chip', id, retired, reason)) as unknown as typeof t.chips.$inferSelect;
 }
 
 // ------------------------------------------------------------------ converters
@@ -191,26 +217,7 @@ export async function updateConverter(db: Database, actor: Actor, id: number, in
 }
 
 export async function setConverterRetired(db: Database, actor: Actor, id: number, retired: boolean, reason?: string) {
-	return db.transaction(async (tx) => {
-		const [before] = await tx.select().from(t.converters).where(eq(t.converters.id, id)).for('update');
-		if (!before) throw new FieldError(null, 'That converter does not exist.', 404);
-		const now = new Date();
-		const [row] = await tx
-			.update(t.converters)
-			.set({ retiredAt: retired ? (before.retiredAt ?? now) : null, updatedAt: now })
-			.where(eq(t.converters.id, id))
-			.returning();
-		await audit(tx, {
-			actorId: actor.id,
-			action: retired ? 'retired' : 'restored',
-			entity: 'converter',
-			entityId: id,
-			before: pick(before, CONVERTER_FIELDS),
-			after: pick(row, CONVERTER_FIELDS),
-			reason
-		});
-		return row;
-	});
+	return (await setRetired(db, actor, 'converter', id, retired, reason)) as unknown as typeof t.converters.$inferSelect;
 }
 
 // ------------------------------------------------------------------ revisions
@@ -317,25 +324,7 @@ export async function updateRevision(db: Database, actor: Actor, id: number, inp
 }
 
 export async function setRevisionRetired(db: Database, actor: Actor, id: number, retired: boolean, reason?: string) {
-	return db.transaction(async (tx) => {
-		const [before] = await tx.select().from(t.revisions).where(eq(t.revisions.id, id)).for('update');
-		if (!before) throw new FieldError(null, 'That revision does not exist.', 404);
-		const [row] = await tx
-			.update(t.revisions)
-			.set({ retiredAt: retired ? (before.retiredAt ?? new Date()) : null, updatedAt: new Date() })
-			.where(eq(t.revisions.id, id))
-			.returning();
-		await audit(tx, {
-			actorId: actor.id,
-			action: retired ? 'retired' : 'restored',
-			entity: 'revision',
-			entityId: id,
-			before: pick(before, REVISION_FIELDS),
-			after: pick(row, REVISION_FIELDS),
-			reason
-		});
-		return row;
-	});
+	return (await setRetired(db, actor, 'revision', id, retired, reason)) as unknown as typeof t.revisions.$inferSelect;
 }
 
 /** Options for pickers: live converters, chips and revisions. */
