@@ -1,7 +1,8 @@
-/** Hourly clean-up: expired sessions and unused sign-in tokens. */
+/** Hourly clean-up: expired sessions, unused sign-in tokens and spent rate-limit counters. */
 import { lt } from 'drizzle-orm';
 import type { Database } from '../src/lib/server/db/client';
 import { sessions, verificationTokens } from '../src/lib/server/db/schema';
+import { pruneRateLimits } from '../src/lib/server/security/rate-limit';
 
 export async function housekeeping(db: Database, now = new Date()) {
 	const expiredSessions = await db.delete(sessions).where(lt(sessions.expires, now)).returning({ t: sessions.sessionToken });
@@ -9,5 +10,6 @@ export async function housekeeping(db: Database, now = new Date()) {
 		.delete(verificationTokens)
 		.where(lt(verificationTokens.expires, now))
 		.returning({ t: verificationTokens.token });
-	return { expiredSessions: expiredSessions.length, expiredTokens: expiredTokens.length };
+	const rateLimitRows = await pruneRateLimits(db, now);
+	return { expiredSessions: expiredSessions.length, expiredTokens: expiredTokens.length, rateLimitRows };
 }

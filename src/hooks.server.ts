@@ -2,12 +2,18 @@ import { sequence } from '@sveltejs/kit/hooks';
 import type { Handle } from '@sveltejs/kit';
 import { authHandle } from '$lib/server/auth/config';
 import { ROLES, type Role } from '$lib/roles';
-import { isForbiddenCrossSiteForm } from '$lib/server/csrf';
+import { isForbiddenCrossSiteForm, isForeignOriginApiWrite } from '$lib/server/csrf';
+import { applySecurityHeaders } from '$lib/server/security/headers';
+import { authEndpointLimit } from '$lib/server/security/auth-endpoint';
+import { asProblem, problem } from '$lib/server/http/problem';
 
-/** Refuse cross-site form posts (see $lib/server/csrf for the one exemption). */
+/** Refuse cross-site form posts (see $lib/server/csrf for the one exemption) and foreign-origin API writes. */
 const originCheck: Handle = async ({ event, resolve }) => {
 	if (isForbiddenCrossSiteForm(event.request, event.url)) {
-		return new Response(`Cross-site ${event.request.method} form submissions are forbidden`, { status: 403 });
+		return applySecurityHeaders(new Response(`Cross-site ${event.request.method} form submissions are forbidden`, { status: 403 }), false);
+	}
+	if (isForeignOriginApiWrite(event.request, event.url)) {
+		return applySecurityHeaders(problem(403, 'Requests that change data must come from this site.'), false);
 	}
 	return resolve(event);
 };
@@ -28,13 +34,12 @@ const userHandle: Handle = async ({ event, resolve }) => {
 	return resolve(event);
 };
 
-/** Baseline security headers on every response. */
+/** Security headers on every response, /auth/* included (so this wraps the auth handle); no-store when signed in. */
 const securityHeaders: Handle = async ({ event, resolve }) => {
-	const response = await resolve(event);
-	response.headers.set('X-Content-Type-Options', 'nosniff');
-	response.headers.set('Referrer-Policy', 'strict-origin-when-cross-origin');
-	response.headers.set('X-Frame-Options', 'DENY');
-	return response;
+	let response = await resolve(event);
+	// SvelteKit's own error() answers under /api (guards, unknown routes) become problem details too.
+	if (event.url.pathname.startsWith('/api/')) response = await asProblem(response);
+	return applySecurityHeaders(response, Boolean(event.locals.user) || event.url.pathname.startsWith('/auth/'));
 };
 
-export const handle = sequence(originCheck, authHandle, userHandle, securityHeaders);
+export const handle = sequence(originCheck, securityHeaders, authEndpointLimit, authHandle, userHandle);

@@ -16,3 +16,15 @@ export function isForbiddenCrossSiteForm(request: Request, url: URL): boolean {
 	if (EXEMPT_PREFIXES.some((p) => url.pathname.startsWith(p))) return false;
 	return request.headers.get('origin') !== url.origin;
 }
+
+/**
+ * JSON APIs (and the upload endpoint) that change state: a request whose Origin names another
+ * site is refused. Browsers always send Origin on such cross-site requests; clients that send
+ * none (scripts) are judged by their session cookie as usual.
+ */
+export function isForeignOriginApiWrite(request: Request, url: URL): boolean {
+	if (!UNSAFE_METHODS.has(request.method)) return false;
+	if (!url.pathname.startsWith('/api/') && url.pathname !== '/files') return false;
+	const origin = request.headers.get('origin');
+	return origin !== null && origin !== url.origin;
+}

@@ -1,5 +1,5 @@
 import { redirect } from '@sveltejs/kit';
-import { signOut } from '$lib/server/auth/config';
+import { authOrigin, signOut } from '$lib/server/auth/config';
 import { withForm } from '$lib/server/auth/forward';
 import type { Actions, PageServerLoad } from './$types';
 
@@ -7,6 +7,6 @@ export const load: PageServerLoad = () => redirect(303, '/');
 
 export const actions: Actions = {
 	default: async (event) => {
-		await signOut(withForm(event, { redirectTo: '/' }));
+		await signOut(withForm(event, { redirectTo: '/' }, authOrigin));
 	}
 };

@@ -652,6 +652,18 @@ export const auditLog = pgTable(
 	]
 );
 
+// ---------------------------------------------------------------- rate limits
+
+/**
+ * Fixed-window request counters shared by every app instance (sign-in e-mails per address and
+ * per client). One row per key; housekeeping deletes rows whose window has long ended.
+ */
+export const rateLimits = pgTable('rate_limit', {
+	key: text('key').primaryKey(),
+	windowStart: timestamp('window_start', { withTimezone: true }).notNull(),
+	hits: integer('hits').notNull()
+});
+
 // ---------------------------------------------------------------- value types
 
 export type Role = (typeof roleEnum.enumValues)[number];

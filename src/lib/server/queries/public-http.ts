@@ -7,6 +7,7 @@ import { createHash } from 'node:crypto';
 import { json } from '@sveltejs/kit';
 import type { z } from 'zod';
 import { issuesOf } from './public-params';
+import { isFormulaLike, neutraliseCell } from '../security/csv';
 
 /** Licence of Scopegrade's own data (catalogue, grades, readings). */
 export const DATA_LICENCE = {
@@ -62,8 +63,10 @@ export function notFound(what: string): Response {
 
 function csvCell(v: unknown): string {
 	if (v === null || v === undefined) return '';
-	const s = typeof v === 'string' ? v : String(v);
-	return /[",\r\n]/.test(s) || /^\s|\s$/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
+	const raw = typeof v === 'string' ? v : String(v);
+	// OWASP CSV injection guidance: a cell a spreadsheet would run as a formula is neutralised and quoted.
+	const s = neutraliseCell(raw);
+	return isFormulaLike(raw) || /[",;\r\n]/.test(s) || /^\s|\s$/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
 }
 
 /** Rows of flat objects to CSV with a header line, in the key order of `columns`. */
