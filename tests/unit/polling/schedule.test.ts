@@ -88,7 +88,7 @@ describe('private addresses (SSRF guard)', () => {
 		['fd12::1', true], // RFC 4193 unique local
 		['fe80::1', true],
 		['::ffff:127.0.0.1', true],
-		['2001:db8::1', false]
+		['2001:db8::1', true], // RFC 3849 documentation: not routable, refused like the rest
 	])('%s -> %s', (ip, expected) => {
 		expect(isPrivateAddress(ip)).toBe(expected);
 	});

@@ -13,6 +13,7 @@ import { audit } from '../audit';
 import * as t from '../db/schema';
 import { FieldError, isUniqueViolation, type Actor, type Database } from './common';
 import { checkFeedUrl, type FeedUrlOptions } from './feed-url';
+import { sharedGuardedFetch } from '../security/address';
 import type { listingSchema } from './schemas';
 
 type ListingInput = z.infer<typeof listingSchema>;
@@ -164,7 +165,8 @@ export async function testRead(
 	if (!row) throw new FieldError(null, 'That listing does not exist.', 404);
 	const started = Date.now();
 	const result: TestReadResult = { url: row.listing.url, status: null, contentType: null, bytes: 0, ms: 0, truncated: false, offer: null, error: null };
-	const doFetch = opts.fetchImpl ?? fetch;
+	// The connection is pinned to the address its own lookup checked (security/address.ts).
+	const doFetch = opts.fetchImpl ?? sharedGuardedFetch(opts.allowPrivate ?? false);
 	let url = row.listing.url;
 	try {
 		for (let hop = 0; ; hop++) {

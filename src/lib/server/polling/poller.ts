@@ -19,6 +19,7 @@ import { CLAIM_DEPTH, CLAIM_LIMIT, DEFAULT_RATE_LIMIT_PAUSE_MS, MAX_BODY_BYTES, 
 import { ShopGate } from './gate';
 import { fetchPage, type HopBlock } from './http';
 import { assertFetchable } from './net';
+import { sharedGuardedFetch } from '../security/address';
 import { recordPoll, type PollResult, type PollVerdict, type StockEventsHook } from './record';
 import { RobotsCache } from './robots';
 import { parseRetryAfter } from './schedule';
@@ -91,6 +92,8 @@ export function createPoller(db: Database, options: PollerOptions = {}): Poller 
 	const claimLimit = options.claimLimit ?? CLAIM_LIMIT;
 	const claimDepth = options.claimDepth ?? CLAIM_DEPTH;
 	const allowPrivate = options.allowPrivate ?? process.env.FEED_ALLOW_PRIVATE === 'true';
+	// Every connection (page, redirect hop, robots.txt) goes to an address checked in its own lookup.
+	const fetchImpl = options.fetchImpl ?? sharedGuardedFetch(allowPrivate);
 	const log = options.log ?? (() => {});
 	const gate = new ShopGate();
 	/** Which gate lane an origin's requests use: the shop's, once we have seen a listing there. */
@@ -110,7 +113,7 @@ export function createPoller(db: Database, options: PollerOptions = {}): Poller 
 		timeoutMs,
 		now: () => clock().getTime(),
 		checkUrl,
-		fetchImpl: options.fetchImpl,
+		fetchImpl,
 		schedule: (origin, fn) => {
 			const lane = lanes.get(origin);
 			return lane ? gate.run(lane.id, lane, fn) : gate.run(origin, { maxConcurrency: 1, minSpacingMs: 1000 }, fn);
@@ -148,7 +151,7 @@ export function createPoller(db: Database, options: PollerOptions = {}): Poller 
 				timeoutMs,
 				maxBytes,
 				maxRedirects,
-				fetchImpl: options.fetchImpl,
+				fetchImpl,
 				beforeHop: async (url) => (url.href === first.href ? null : ((await checkUrl(url)) ?? (await robotsBlock(url))))
 			})
 		);
