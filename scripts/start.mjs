@@ -76,6 +76,10 @@ try {
 	ensureDatabase(p);
 	const env = { ...process.env, ...appEnv(p, authSecret(p)) };
 	const tsx = resolve(ROOT, 'node_modules/.bin/tsx');
+	// Object storage first: the demo's teardown photos are stored while the scenario loads.
+	const s3 = startService('s3', tsx, ['fixtures/s3/server.ts'], { cwd: ROOT, env });
+	children.push(s3);
+	await waitForHttp(`http://127.0.0.1:${p.s3Port}/`, 30_000, s3);
 	log('applying migrations and loading the demo scenario…');
 	run(tsx, ['scripts/migrate.ts'], { cwd: ROOT, env });
 	run(tsx, ['scripts/seed.ts'], { cwd: ROOT, env });
@@ -90,10 +94,8 @@ try {
 
 	const mail = startService('mail', tsx, ['fixtures/mail/server.ts'], { cwd: ROOT, env });
 	const shops = startService('shops', tsx, ['fixtures/shops/server.ts'], { cwd: ROOT, env });
-	const s3 = startService('s3', tsx, ['fixtures/s3/server.ts'], { cwd: ROOT, env });
-	children.push(mail, shops, s3);
+	children.push(mail, shops);
 	await waitForHttp(`http://127.0.0.1:${p.inboxPort}/api/health`, 30_000, mail);
-	await waitForHttp(`http://127.0.0.1:${p.s3Port}/`, 30_000, s3);
 	const app = startService('app', process.execPath, ['build'], { cwd: ROOT, env });
 	const jobs = startService('jobs', tsx, ['jobs/index.ts'], { cwd: ROOT, env });
 	children.push(app, jobs);

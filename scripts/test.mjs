@@ -7,7 +7,7 @@ import { existsSync, mkdirSync, readFileSync, rmSync } from 'node:fs';
 import { resolve } from 'node:path';
 import { appEnv, profile, ROOT } from './lib/profiles.mjs';
 import { log, portIsFree, run, startService, stopAll, waitForHttp } from './lib/run.mjs';
-import { ensureChromium, ensureDatabase, ensureNodeModules, startCluster, stopCluster } from './lib/bootstrap.mjs';
+import { ensureChromium, ensureDatabase, ensureJava, ensureNodeModules, startCluster, stopCluster } from './lib/bootstrap.mjs';
 
 const parts = process.argv.slice(2);
 const want = (part) => parts.length === 0 || parts.includes(part);
@@ -34,7 +34,10 @@ async function main() {
 		if (!(await portIsFree(port))) throw new Error(`port ${port} is in use: is another test run going on?`);
 	}
 	ensureNodeModules();
-	if (want('e2e')) ensureChromium();
+	if (want('e2e')) {
+		ensureChromium();
+		ensureJava();
+	}
 	clusterStarted = await startCluster(p, { fast: true });
 	ensureDatabase(p, { fresh: true });
 	ensureDatabase(e2e, { fresh: true });

@@ -40,6 +40,12 @@ export function ensureChromium() {
 	if (!existsSync('/usr/bin/chromium')) aptInstall(['chromium']);
 }
 
+/** Java for the Nu HTML Checker (npm vnu-jar) in the end-to-end phase. */
+export function ensureJava() {
+	const onPath = (process.env.PATH ?? '').split(':').some((dir) => dir && existsSync(resolve(dir, 'java')));
+	if (!onPath) aptInstall(['default-jre-headless']);
+}
+
 /** `npm ci` when node_modules is missing or was installed from another lock file. */
 export function ensureNodeModules() {
 	const lock = readFileSync(resolve(ROOT, 'package-lock.json'));

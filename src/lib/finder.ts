@@ -25,6 +25,9 @@ export interface CatalogueRevision {
 	boardMarking: string;
 	band: Band | null;
 	score: number | null;
+	/** Worst deviation (IRE) behind the band, and why the band is not where it falls (bands.ts). */
+	deviationIre?: number | null;
+	bandReason?: string | null;
 	runs: number;
 	retired: boolean;
 	seenFrom: string | null;
@@ -60,6 +63,9 @@ export interface CatalogueEntry {
 	/** Best band over current revisions (see currentRevisions), null when none is graded. */
 	bestBand: Band | null;
 	bestScore: number | null;
+	/** The lead revision's worst deviation (IRE) and band reason, for the band mark. */
+	bestDeviationIre?: number | null;
+	bestBandReason?: string | null;
 	/** Listings at shops serving the region, cheapest buyable first, then the rest. */
 	offers: CatalogueOffer[];
 	/** The cheapest buyable offer in the region (from pricing.bestOfferByConverter). */
@@ -97,18 +103,25 @@ export function betterPastRevisions(revisions: CatalogueRevision[]): CatalogueRe
 }
 
 /** The lead band of a converter: the best over its current revisions. */
-export function leadGrade(revisions: CatalogueRevision[]): { band: Band | null; score: number | null } {
-	let band: Band | null = null;
-	let score: number | null = null;
+export function leadGrade(revisions: CatalogueRevision[]): {
+	band: Band | null;
+	score: number | null;
+	deviationIre: number | null;
+	reason: string | null;
+} {
+	let lead: CatalogueRevision | null = null;
 	for (const r of currentRevisions(revisions)) {
 		if (!r.band) continue;
-		const better = band === null || bandRank(r.band) < bandRank(band) || (r.band === band && (r.score ?? -1) > (score ?? -1));
-		if (better) {
-			band = r.band;
-			score = r.score;
-		}
+		const better =
+			lead === null || bandRank(r.band) < bandRank(lead.band) || (r.band === lead.band && (r.score ?? -1) > (lead.score ?? -1));
+		if (better) lead = r;
 	}
-	return { band, score };
+	return {
+		band: lead?.band ?? null,
+		score: lead?.score ?? null,
+		deviationIre: lead?.deviationIre ?? null,
+		reason: lead?.bandReason ?? null
+	};
 }
 
 /** True when any current revision (see currentRevisions) is `min` or better. */
@@ -254,6 +267,8 @@ export interface FinderItem {
 	model: string;
 	band: Band | null;
 	score: number | null;
+	deviationIre: number | null;
+	bandReason: string | null;
 	hasAudioOut: boolean;
 	inStockShops: number;
 	best: { shop: string; stock: StockState; priceMinor: number | null; currency: string; url: string } | null;
@@ -270,6 +285,8 @@ export function finderItem(r: FinderResult): FinderItem {
 		model: e.model,
 		band: e.bestBand,
 		score: e.bestScore,
+		deviationIre: e.bestDeviationIre ?? null,
+		bandReason: e.bestBandReason ?? null,
 		hasAudioOut: e.hasAudioOut,
 		inStockShops: e.inStockShops,
 		best: e.best ? { shop: e.best.shopName, stock: e.best.stock, priceMinor: e.best.displayMinor, currency: e.best.displayCurrency, url: e.best.url } : null,

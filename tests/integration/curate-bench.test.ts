@@ -52,7 +52,7 @@ const crushed = exact.map((s) => (s.ire <= 20 ? { ...s, r: s.r * 0.35, g: s.g * 
 
 beforeAll(async () => {
 	w = await curateWorld('curate_bench');
-	const chip = await createChip(w.db, w.curator, { name: 'ZX-1', maker: 'Test Maker', slug: '', notes: '' });
+	const chip = await createChip(w.db, w.curator, { name: 'TST-101', maker: 'Test Maker', slug: '', notes: '' });
 	const conv = await createConverter(w.db, w.curator, {
 		brand: 'Testbrand',
 		model: 'Box One',

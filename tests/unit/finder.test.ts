@@ -22,7 +22,7 @@ describe('band filter semantics', () => {
 		expect(meetsBand(changed, 'close')).toBe(true);
 		expect(meetsBand(changed, 'exact')).toBe(false);
 		expect(meetsBand(retiredGood, 'close')).toBe(false);
-		expect(leadGrade(retiredGood.revisions)).toEqual({ band: 'poor', score: 60 });
+		expect(leadGrade(retiredGood.revisions)).toEqual({ band: 'poor', score: 60, deviationIre: null, reason: null });
 	});
 
 	it('judges a converter that changed chip by the revision shops send now, not an older better one', () => {
@@ -31,8 +31,15 @@ describe('band filter semantics', () => {
 		const changed = entry('changed-chip', [older, now]);
 		expect(currentRevisions(changed.revisions)).toEqual([now]);
 		expect(meetsBand(changed, 'close')).toBe(false);
-		expect(leadGrade(changed.revisions)).toEqual({ band: 'failing', score: 30 });
+		expect(leadGrade(changed.revisions)).toEqual({ band: 'failing', score: 30, deviationIre: null, reason: null });
 		expect(betterPastRevisions(changed.revisions)).toEqual([older]);
+	});
+
+	it('carries the lead revision\'s worst deviation and band reason for the band mark', () => {
+		const a = { ...rev('A', 'fair', 70), deviationIre: 2.8, bandReason: null };
+		const b = { ...rev('B', 'failing', 20), deviationIre: 4.1, bandReason: 'crushed' };
+		expect(leadGrade([a, b])).toEqual({ band: 'fair', score: 70, deviationIre: 2.8, reason: null });
+		expect(leadGrade([b])).toEqual({ band: 'failing', score: 20, deviationIre: 4.1, reason: 'crushed' });
 	});
 
 	it('judges a converter no longer made (every revision has an end date) on all its revisions', () => {

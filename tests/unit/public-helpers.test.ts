@@ -25,7 +25,7 @@ describe('Atom feed (RFC 4287)', () => {
 	it('escapes text and gives every entry an id, updated and an alternate link', () => {
 		expect(xmlEscape(`<a & "b">`)).toBe('&lt;a &amp; &quot;b&quot;&gt;');
 		const xml = restocksAtom(
-			[{ id: 7, at: '2026-02-01T10:00:00.000Z', converterSlug: 'x-box', converterName: 'X <Box> & Co', shopSlug: 's', shopName: 'Shop "S"', shopRegion: 'eu', priceMinor: 1290, currency: 'EUR', previousStock: 'out_of_stock', url: 'http://shop.test/p?a=1&b=2', band: 'close' }],
+			[{ id: 7, at: '2026-02-01T10:00:00.000Z', converterSlug: 'x-box', converterName: 'X <Box> & Co', shopSlug: 's', shopName: 'Shop "S"', shopRegion: 'eu', priceMinor: 1290, currency: 'EUR', previousStock: 'out_of_stock', url: 'http://shop.test/p?a=1&b=2', band: 'close', deviationIre: 1.3, bandReason: null }],
 			'http://example.test'
 		);
 		expect(xml).toContain('<feed xmlns="http://www.w3.org/2005/Atom">');

@@ -1,13 +1,14 @@
 /**
- * Level-grade bands (Scopegrade's own house rubric, not a published standard).
- * Order is best to worst. Pure TypeScript: safe to import anywhere.
+ * Level-grade bands (Scopegrade's own house rubric, not a published standard) and the
+ * figures the band mark draws: a deviation ruler from 0 to beyond 6 IRE with a tick at each
+ * band's deviation limit and a marker at the worst deviation. Order is best to worst.
+ * Pure TypeScript: safe to import anywhere (the browser, the e-mail templates, the API).
  */
+import { RUBRIC } from '../levels/rubric';
+
 export const BANDS = ['exact', 'close', 'fair', 'poor', 'failing'] as const;
 
 export type Band = (typeof BANDS)[number];
-
-/** Number of segments in the band mark's level meter. */
-export const BAND_METER_SEGMENTS = 5;
 
 export const BAND_LABELS: Readonly<Record<Band, string>> = {
 	exact: 'Exact',
@@ -35,12 +36,6 @@ export function bandLabel(band: Band | null | undefined): string {
 	return band && isBand(band) ? BAND_LABELS[band] : 'Not graded';
 }
 
-/** Filled meter segments: Exact 5, Close 4, Fair 3, Poor 2, Failing 1, none 0. */
-export function bandSegments(band: Band | null | undefined): number {
-	if (!band || !isBand(band)) return 0;
-	return BAND_METER_SEGMENTS - BANDS.indexOf(band);
-}
-
 /** 0 for Exact ... 4 for Failing; ungraded sorts last (5). */
 export function bandRank(band: Band | null | undefined): number {
 	return band && isBand(band) ? BANDS.indexOf(band) : BANDS.length;
@@ -56,10 +51,126 @@ export function bandAtLeast(band: Band | null | undefined, min: Band): boolean {
 	return bandRank(band) <= bandRank(min);
 }
 
-/** Accessible text for a band mark, e.g. "Band: Close (4 of 5), score 82". */
-export function bandAriaLabel(band: Band | null | undefined, score?: number | null): string {
-	if (!band || !isBand(band)) return 'Band: Not graded';
-	let text = `Band: ${BAND_LABELS[band]} (${bandSegments(band)} of ${BAND_METER_SEGMENTS})`;
-	if (typeof score === 'number' && Number.isFinite(score)) text += `, score ${Math.round(score)}`;
-	return text;
+/** A band set by a rule or a limit rather than by where the deviation falls on the ruler. */
+export const BAND_REASONS = ['crushed', 'reversed', 'spread'] as const;
+export type BandReason = (typeof BAND_REASONS)[number];
+
+/**
+ * The reason word shown beside the band. 'crushed': a channel's 10 IRE step is below the
+ * rubric's shadow floor; 'reversed': a step reads lower than the one below it (both fail
+ * outright, so the ruler shows no marker); 'spread': the channels disagree by more than the
+ * band the deviation alone would earn allows (the marker stays at the deviation).
+ */
+export const BAND_REASON_WORDS: Readonly<Record<BandReason, string>> = {
+	crushed: 'crushed',
+	reversed: 'reversed step',
+	spread: 'spread'
+};
+
+export function isBandReason(value: unknown): value is BandReason {
+	return typeof value === 'string' && (BAND_REASONS as readonly string[]).includes(value);
+}
+
+/** The ruler's ticks: each graded band's deviation limit in IRE, from the rubric (1, 2, 3.5, 6). */
+export const RULER_TICKS_IRE: readonly number[] = RUBRIC.bands.map((b) => b.maxDeviationIre);
+
+/** The ruler's right end (IRE). Deviations beyond it sit at the end, past the last tick. */
+export const RULER_END_IRE = 8;
+
+/** Where a deviation sits on the ruler, 0 (left end) to 1 (right end, "beyond"). */
+export function rulerFraction(deviationIre: number): number {
+	if (!Number.isFinite(deviationIre) || deviationIre <= 0) return 0;
+	return Math.min(deviationIre, RULER_END_IRE) / RULER_END_IRE;
+}
+
+/** The deviation zone a band covers on the ruler, [from, to] in IRE (Failing: past 6 IRE). */
+export function bandZoneIre(band: Band): [number, number] {
+	const i = BANDS.indexOf(band);
+	const from = i === 0 ? 0 : RULER_TICKS_IRE[i - 1];
+	const to = i < RULER_TICKS_IRE.length ? RULER_TICKS_IRE[i] : RULER_END_IRE;
+	return [from, to];
+}
+
+/** The band a deviation alone would earn (ignoring the spread limit and the fail rules). */
+export function bandForDeviation(deviationIre: number): Band {
+	const i = RULER_TICKS_IRE.findIndex((limit) => deviationIre <= limit + RUBRIC.epsilonIre);
+	return i === -1 ? 'failing' : BANDS[i];
+}
+
+/**
+ * Why a level report's band is not simply where its deviation falls, or null when it is.
+ * Takes the engine's report fields (band, worst deviation, fail reasons).
+ */
+export function bandReasonOf(report: {
+	band: Band | null;
+	worstDeviationIre: number | null;
+	failReasons?: readonly string[] | null;
+}): BandReason | null {
+	if (!report.band) return null;
+	const rules = report.failReasons ?? [];
+	if (report.band === 'failing' && rules.includes('shadow-floor')) return 'crushed';
+	if (report.band === 'failing' && rules.includes('non-monotonic')) return 'reversed';
+	if (report.worstDeviationIre === null) return null;
+	return bandRank(report.band) > bandRank(bandForDeviation(report.worstDeviationIre)) ? 'spread' : null;
+}
+
+/** What a band mark shows: the band, the worst deviation and the reason (all may be missing). */
+export interface GradeMark {
+	band: Band | null;
+	deviationIre?: number | null;
+	reason?: BandReason | string | null;
+	/** An expected grade (from other converters' runs on the same chip), not a measured one. */
+	expected?: boolean;
+}
+
+/** A rule decided the band (or there is none): the ruler shows the reason word, not a marker. */
+export function markHidesMarker(m: GradeMark): boolean {
+	return (
+		!m.band ||
+		m.reason === 'crushed' ||
+		m.reason === 'reversed' ||
+		typeof m.deviationIre !== 'number' ||
+		!Number.isFinite(m.deviationIre)
+	);
+}
+
+/** "1.3 IRE" */
+export function formatIre(ire: number): string {
+	return `${ire.toFixed(1)} IRE`;
+}
+
+/**
+ * The words beside the ruler, also its accessible name: "Close · 1.3 IRE",
+ * "Failing · crushed", "Poor · 3.4 IRE · spread", "Expected Fair · 2.6 IRE", "Not graded".
+ */
+export function markText(m: GradeMark): string {
+	if (!m.band || !isBand(m.band)) return m.expected ? 'No expected grade' : 'Not graded';
+	const parts = [(m.expected ? 'Expected ' : '') + BAND_LABELS[m.band]];
+	const reason = isBandReason(m.reason) ? m.reason : null;
+	if (reason === 'crushed' || reason === 'reversed') parts.push(BAND_REASON_WORDS[reason]);
+	else if (typeof m.deviationIre === 'number' && Number.isFinite(m.deviationIre)) {
+		parts.push(formatIre(m.deviationIre));
+		if (reason === 'spread') parts.push(BAND_REASON_WORDS.spread);
+	}
+	return parts.join(' · ');
+}
+
+/** Accessible label of the mark: the same words, saying what the figure is. */
+export function markAriaLabel(m: GradeMark): string {
+	const text = markText(m);
+	if (!m.band) return `Level grade: ${text}`;
+	const reason = isBandReason(m.reason) ? m.reason : null;
+	if (reason === 'crushed' || reason === 'reversed') return `Level grade: ${text}`;
+	return typeof m.deviationIre === 'number' && Number.isFinite(m.deviationIre)
+		? `Level grade: ${text} worst deviation`
+		: `Level grade: ${text}`;
+}
+
+/** Band mark props for one engine level report (a bench run, a what-if result). */
+export function reportMark(report: {
+	band: Band | null;
+	worstDeviationIre: number;
+	failReasons?: readonly string[] | null;
+}): { band: Band | null; deviation: number; reason: BandReason | null } {
+	return { band: report.band, deviation: report.worstDeviationIre, reason: bandReasonOf(report) };
 }

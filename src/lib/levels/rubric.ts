@@ -1,7 +1,8 @@
 /**
  * The house grading rubric. This is Scopegrade's own rule set, NOT a
- * published standard: no standard gives a tolerance for RGB output levels
- * (see /work/shared/sources.md). Every threshold the analysis uses lives in
+ * published standard: the analog video level standards (SMPTE 170M, the VESA
+ * Video Signal Standard) fix the nominal levels (700 mV white into 75 ohm) but
+ * give no tolerance for a converter's RGB output levels. Every threshold the analysis uses lives in
  * this one table so a change is one edit plus a new version string.
  */
 

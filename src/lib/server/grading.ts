@@ -7,6 +7,7 @@ import { and, eq, inArray } from 'drizzle-orm';
 import type { PgDatabase, PgQueryResultHKT } from 'drizzle-orm/pg-core';
 import { aggregateRuns, analyzeLevels, type LevelReport } from '../levels/index';
 import * as t from './db/schema';
+import { bandReasonOf } from '../components/bands';
 
 // Accepts both the pool-level db and a transaction.
 // eslint-disable-next-line @typescript-eslint/no-explicit-any
@@ -77,7 +78,7 @@ export async function regradeRevision(db: Db, revisionId: number, now = new Date
 	if (runs.length === 0) {
 		await db
 			.update(t.revisions)
-			.set({ band: null, score: null, scoreMin: null, scoreMax: null, runCount: 0, gradedAt: now, updatedAt: now })
+			.set({ band: null, score: null, scoreMin: null, scoreMax: null, deviationIre: null, bandReason: null, runCount: 0, gradedAt: now, updatedAt: now })
 			.where(eq(t.revisions.id, revisionId));
 		return null;
 	}
@@ -94,6 +95,8 @@ export async function regradeRevision(db: Db, revisionId: number, now = new Date
 		})
 	);
 	const agg = aggregateRuns(reports);
+	// The band mark's marker: the worst deviation of the run the band was taken from.
+	const lead = reports[agg.medianRunIndex];
 	await db
 		.update(t.revisions)
 		.set({
@@ -101,6 +104,8 @@ export async function regradeRevision(db: Db, revisionId: number, now = new Date
 			score: agg.medianScore,
 			scoreMin: agg.minScore,
 			scoreMax: agg.maxScore,
+			deviationIre: lead.worstDeviationIre,
+			bandReason: bandReasonOf({ band: agg.band, worstDeviationIre: lead.worstDeviationIre, failReasons: lead.failReasons }),
 			runCount: agg.count,
 			rubricVersion: agg.rubricVersion,
 			gradedAt: now,

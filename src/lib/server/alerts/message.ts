@@ -3,7 +3,7 @@
  * message), an HTML part built with the escaping `html` template and a plain-text part.
  * Pure: the sender gathers the facts (AlertView) from the database.
  */
-import { BAND_LABELS, BAND_METER_SEGMENTS, bandSegments, type Band } from '../../components/bands';
+import { RULER_END_IRE, RULER_TICKS_IRE, bandZoneIre, markHidesMarker, markText, type Band } from '../../components/bands';
 import { formatMoney, REGION_LABELS, type Region } from '../../pricing';
 import { html, SafeHtml } from './template';
 
@@ -17,6 +17,9 @@ export interface AlertView {
 	/** The price in the member's currency, when it differs from the shop's and a rate is known. */
 	converted: { minor: number; currency: string } | null;
 	band: Band | null;
+	/** The worst deviation (IRE) behind the band and the band's reason word (see bands.ts). */
+	deviationIre?: number | null;
+	bandReason?: string | null;
 	/** Revision code the band belongs to (e.g. "B"). */
 	revisionCode: string | null;
 	/** One plain-words finding from the revision's latest accepted bench run. */
@@ -73,7 +76,8 @@ function whereText(v: AlertView): string {
 
 function bandText(v: AlertView): string {
 	if (!v.band) return 'Not graded yet';
-	return `${BAND_LABELS[v.band]} (${bandSegments(v.band)} of ${BAND_METER_SEGMENTS})${v.revisionCode ? `, revision ${v.revisionCode}` : ''}`;
+	const mark = markText({ band: v.band, deviationIre: v.deviationIre, reason: v.bandReason });
+	return `${mark}${v.revisionCode ? `, revision ${v.revisionCode}` : ''}`;
 }
 
 function lastRunText(v: AlertView): string {
@@ -94,13 +98,31 @@ export function alertSubject(v: AlertView): string {
 		: `Price drop: ${converterName(v)} at ${v.shop.name}${price}`;
 }
 
-/** The band as a five-segment meter drawn with table cells (no images, reads without colour). */
-function meterHtml(band: Band | null): SafeHtml {
-	const filled = bandSegments(band);
-	const cells = Array.from({ length: BAND_METER_SEGMENTS }, (_, i) =>
-		html`<td style="width:10px;height:12px;padding:0;border:1px solid ${i < filled ? ACCENT : LINE};background:${i < filled ? ACCENT : '#ffffff'}"></td>`
+/** Ruler cells in the e-mail: each covers this many IRE (0 to RULER_END_IRE). */
+const CELL_IRE = 0.5;
+const ZONE_TINT = '#f6e3cf';
+
+/**
+ * The band mark drawn with table cells (no images): a ruler from 0 to beyond 6 IRE, ticks at
+ * the band limits, a ▼ over the cell holding the worst deviation and the band's zone tinted.
+ * The ▼ and the words beside it carry the meaning, so it reads without colour.
+ */
+function rulerHtml(v: AlertView): SafeHtml {
+	const mark = { band: v.band, deviationIre: v.deviationIre, reason: v.bandReason };
+	const n = Math.round(RULER_END_IRE / CELL_IRE);
+	const lastTick = RULER_TICKS_IRE[RULER_TICKS_IRE.length - 1];
+	const markerCell = markHidesMarker(mark) ? -1 : Math.min(n - 1, Math.floor((v.deviationIre as number) / CELL_IRE));
+	const zone = v.band && markerCell >= 0 ? bandZoneIre(v.band) : null;
+	const top = Array.from({ length: n }, (_, i) =>
+		html`<td style="width:5px;height:9px;padding:0;font-size:9px;line-height:9px;text-align:center;color:${INK}">${i === markerCell ? '▼' : ''}</td>`
 	);
-	return html`<table role="presentation" cellpadding="0" cellspacing="2" style="display:inline-table;vertical-align:middle;margin-right:6px"><tr>${cells}</tr></table>`;
+	const bottom = Array.from({ length: n }, (_, i) => {
+		const from = i * CELL_IRE;
+		const tick = from === 0 || RULER_TICKS_IRE.includes(from);
+		const inZone = zone !== null && from >= zone[0] && from < zone[1];
+		return html`<td style="width:5px;height:5px;padding:0;border-bottom:1px ${from >= lastTick ? 'dashed' : 'solid'} ${MUTED};border-left:1px solid ${tick ? MUTED : 'transparent'};background:${inZone ? ZONE_TINT : 'transparent'}"></td>`;
+	});
+	return html`<table role="presentation" cellpadding="0" cellspacing="0" style="display:inline-table;vertical-align:middle;margin-right:8px;border-collapse:collapse"><tr>${top}</tr><tr>${bottom}</tr></table>`;
 }
 
 function readoutRow(label: string, value: SafeHtml | string): SafeHtml {
@@ -112,7 +134,7 @@ function alertCardHtml(v: AlertView): SafeHtml {
 <table role="presentation" cellpadding="0" cellspacing="0" style="border-top:1px solid ${LINE};border-bottom:1px solid ${LINE};margin:0 0 16px;width:100%">
 ${readoutRow('Where', whereText(v))}
 ${readoutRow('Price', html`<span style="font-variant-numeric:tabular-nums">${priceText(v)}</span>`)}
-${readoutRow('Level grade', html`${meterHtml(v.band)}<strong>${bandText(v)}</strong>`)}
+${readoutRow('Level grade', html`${rulerHtml(v)}<strong>${bandText(v)}</strong>`)}
 ${v.finding ? readoutRow('On the bench', v.finding) : ''}
 ${readoutRow('Stock history', lastRunText(v))}
 ${v.soldOutAt ? readoutRow('Now', html`<strong>Sold out again</strong> ${formatDuration(v.soldOutAt.getTime() - v.at.getTime())} later`) : ''}

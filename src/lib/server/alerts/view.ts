@@ -80,20 +80,22 @@ function safeLink(url: string, fallback: string): string {
 
 interface RevisionFacts {
 	band: Band | null;
+	deviationIre: number | null;
+	bandReason: string | null;
 	code: string | null;
 	finding: string | null;
 }
 
 /** The converter's best current revision with a one-line finding from its latest accepted run. */
 export async function revisionFacts(db: Db, converterId: number): Promise<RevisionFacts> {
-	const [rev] = rowsOf<{ id: number; band: Band | null; code: string }>(
+	const [rev] = rowsOf<{ id: number; band: Band | null; code: string; deviation_ire: number | null; band_reason: string | null }>(
 		await db.execute(sql`
-			select id, band, code from revision
+			select id, band, code, deviation_ire, band_reason from revision
 			where converter_id = ${converterId} and band is not null
 			order by (seen_to is null and retired_at is null) desc, band asc, score desc nulls last
 			limit 1`)
 	);
-	if (!rev) return { band: null, code: null, finding: null };
+	if (!rev) return { band: null, deviationIre: null, bandReason: null, code: null, finding: null };
 	const [run] = rowsOf<{ report: { findings?: { text: string; severity?: string }[] } | string | null }>(
 		await db.execute(sql`
 			select report from bench_run where revision_id = ${rev.id} and status = 'accepted' and report is not null
@@ -104,7 +106,13 @@ export async function revisionFacts(db: Db, converterId: number): Promise<Revisi
 	// The most serious finding reads best in one line; the engine lists them in reading order.
 	const order = { critical: 0, warning: 1, info: 2 } as Record<string, number>;
 	const pick = [...findings].sort((a, b) => (order[a.severity ?? 'info'] ?? 3) - (order[b.severity ?? 'info'] ?? 3))[0];
-	return { band: rev.band, code: rev.code, finding: pick ? firstSentence(pick.text) : null };
+	return {
+		band: rev.band,
+		deviationIre: rev.deviation_ire,
+		bandReason: rev.band_reason,
+		code: rev.code,
+		finding: pick ? firstSentence(pick.text) : null
+	};
 }
 
 function firstSentence(text: string): string {
@@ -179,6 +187,8 @@ export async function loadOutboxContexts(db: Db, ids: number[], opts: { baseUrl:
 				currency: r.currency,
 				converted,
 				band: f.band,
+				deviationIre: f.deviationIre,
+				bandReason: f.bandReason,
 				revisionCode: f.code,
 				finding: f.finding,
 				previousRunMs: prevRestock && prevSellout ? prevSellout.getTime() - prevRestock.getTime() : null,

@@ -6,7 +6,7 @@
  * Grades always come from the engine: recordBenchRun analyses, regradeRevision aggregates
  * the accepted runs. Nothing here writes a band by hand.
  */
-import { and, desc, eq, inArray } from 'drizzle-orm';
+import { and, desc, eq, inArray, sql } from 'drizzle-orm';
 import { audit } from '../audit';
 import * as t from '../db/schema';
 import { recordBenchRun, regradeRevision, type Reading } from '../grading';
@@ -340,6 +340,9 @@ export async function runsOfRevision(db: Database, revisionId: number) {
 			termination: t.benchRuns.termination,
 			band: t.benchRuns.band,
 			score: t.benchRuns.score,
+			// what the band mark needs from the stored report
+			worstDeviationIre: sql<number | null>`(${t.benchRuns.report}->>'worstDeviationIre')::float8`,
+			failReasons: sql<string[] | null>`${t.benchRuns.report}->'failReasons'`,
 			traceFileId: t.benchRuns.traceFileId,
 			supersededById: t.benchRuns.supersededById,
 			reviewNote: t.benchRuns.reviewNote,

@@ -236,6 +236,8 @@ export async function listRevisions(db: Database, converterId: number) {
 			score: t.revisions.score,
 			scoreMin: t.revisions.scoreMin,
 			scoreMax: t.revisions.scoreMax,
+			deviationIre: t.revisions.deviationIre,
+			bandReason: t.revisions.bandReason,
 			runCount: t.revisions.runCount,
 			retiredAt: t.revisions.retiredAt
 		})

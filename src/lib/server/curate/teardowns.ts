@@ -95,6 +95,7 @@ const reportColumns = {
 	revisionId: t.teardownReports.revisionId,
 	revision: t.revisions.code,
 	shopId: t.teardownReports.shopId,
+	shopSlug: t.shops.slug,
 	shop: t.shops.name,
 	shopNameOther: t.teardownReports.shopNameOther,
 	purchaseMonth: t.teardownReports.purchaseMonth,
@@ -111,7 +112,7 @@ const reportColumns = {
 	reviewedAt: t.teardownReports.reviewedAt
 };
 
-function reports(db: Database, where: SQL | undefined) {
+function reports(db: Database, where: SQL | undefined, order: SQL[] = [desc(t.teardownReports.createdAt)]) {
 	return db
 		.select(reportColumns)
 		.from(t.teardownReports)
@@ -121,7 +122,7 @@ function reports(db: Database, where: SQL | undefined) {
 		.leftJoin(t.chips, eq(t.chips.id, t.teardownReports.chipId))
 		.leftJoin(t.files, eq(t.files.id, t.teardownReports.photoFileId))
 		.where(where)
-		.orderBy(desc(t.teardownReports.createdAt));
+		.orderBy(...order);
 }
 
 /** Reports waiting for a curator, oldest first. */
@@ -134,11 +135,14 @@ export function teardownsBy(db: Database, userId: string) {
 	return reports(db, eq(t.teardownReports.submittedById, userId));
 }
 
-/** Verified reports, optionally for one converter, revision or shop (the input to revision odds). */
+/**
+ * Verified reports, optionally for one converter, revision or shop, newest purchase first:
+ * the one source of the teardowns a converter page lists and of its revision odds.
+ */
 export function verifiedTeardowns(db: Database, filter: { converterId?: number; revisionId?: number; shopId?: number } = {}) {
 	const conds: SQL[] = [eq(t.teardownReports.status, 'verified')];
 	if (filter.converterId !== undefined) conds.push(eq(t.teardownReports.converterId, filter.converterId));
 	if (filter.revisionId !== undefined) conds.push(eq(t.teardownReports.revisionId, filter.revisionId));
 	if (filter.shopId !== undefined) conds.push(eq(t.teardownReports.shopId, filter.shopId));
-	return reports(db, and(...conds));
+	return reports(db, and(...conds), [desc(t.teardownReports.purchaseMonth), desc(t.teardownReports.id)]);
 }

@@ -212,6 +212,10 @@ export const revisions = pgTable(
 		score: doublePrecision('score'),
 		scoreMin: doublePrecision('score_min'),
 		scoreMax: doublePrecision('score_max'),
+		/** Worst deviation (IRE) of the run the band was taken from: where the band mark's marker sits. */
+		deviationIre: doublePrecision('deviation_ire'),
+		/** Why the band is not where the deviation falls ('crushed', 'reversed', 'spread'; see bands.ts). */
+		bandReason: text('band_reason'),
 		runCount: integer('run_count').notNull().default(0),
 		rubricVersion: text('rubric_version'),
 		gradedAt: timestamp('graded_at', { withTimezone: true }),

@@ -8,7 +8,15 @@ export interface ConverterSummary {
 	brand: string;
 	name: string;
 	hasAudioOut: boolean;
-	revisions: Array<{ code: string; chip: string; band: (typeof revisions.$inferSelect)['band']; score: number | null; runs: number }>;
+	revisions: Array<{
+		code: string;
+		chip: string;
+		band: (typeof revisions.$inferSelect)['band'];
+		score: number | null;
+		deviationIre: number | null;
+		bandReason: string | null;
+		runs: number;
+	}>;
 }
 
 /** Every live converter with its revisions, chips and cached grades, by brand and model. */
@@ -23,6 +31,8 @@ export async function listConverters(db: Database): Promise<ConverterSummary[]> 
 			chip: chips.name,
 			band: revisions.band,
 			score: revisions.score,
+			deviationIre: revisions.deviationIre,
+			bandReason: revisions.bandReason,
 			runs: revisions.runCount
 		})
 		.from(converters)
@@ -37,7 +47,7 @@ export async function listConverters(db: Database): Promise<ConverterSummary[]> 
 			c = { slug: r.slug, brand: r.brand, name: r.model, hasAudioOut: r.hasAudioOut, revisions: [] };
 			bySlug.set(r.slug, c);
 		}
-		if (r.code) c.revisions.push({ code: r.code, chip: r.chip ?? '', band: r.band, score: r.score, runs: r.runs ?? 0 });
+		if (r.code) c.revisions.push({ code: r.code, chip: r.chip ?? '', band: r.band, score: r.score, deviationIre: r.deviationIre, bandReason: r.bandReason, runs: r.runs ?? 0 });
 	}
 	return [...bySlug.values()];
 }

@@ -4,7 +4,7 @@
  * and every text escaped for XML.
  */
 import { formatMoney, REGION_LABELS } from '../../pricing';
-import { bandLabel } from '../../components/bands';
+import { bandLabel, markText } from '../../components/bands';
 import type { RestockRow } from './public';
 
 const TAG = 'tag:scopegrade.test,2026';
@@ -19,7 +19,7 @@ export function restocksAtom(rows: RestockRow[], origin: string): string {
 	const entries = rows.map((r) => {
 		const price = r.priceMinor != null && r.currency ? formatMoney(r.priceMinor, r.currency) : 'price unknown';
 		const title = `${r.converterName} back in stock at ${r.shopName} (${price})`;
-		const summary = `${r.converterName}, ${bandLabel(r.band)} band, is buyable again at ${r.shopName} in ${REGION_LABELS[r.shopRegion]} for ${price}.`;
+		const summary = `${r.converterName} (level grade ${markText({ band: r.band, deviationIre: r.deviationIre, reason: r.bandReason })}) is buyable again at ${r.shopName} in ${REGION_LABELS[r.shopRegion]} for ${price}.`;
 		const page = `${origin}/converters/${r.converterSlug}`;
 		return [
 			'  <entry>',

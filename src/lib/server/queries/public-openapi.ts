@@ -1,5 +1,10 @@
 /** The OpenAPI 3.1 description of the public /api/v1 routes. */
 const band = { type: 'string', enum: ['exact', 'close', 'fair', 'poor', 'failing'] };
+const deviationIre = { type: ['number', 'null'], description: 'Worst deviation in IRE of the run the band was taken from (where the band mark places its marker)' };
+const bandReason = {
+	oneOf: [{ type: 'string', enum: ['crushed', 'reversed', 'spread'] }, { type: 'null' }],
+	description: 'Why the band is not where the deviation falls: crushed 10 IRE step, a step lower than the one below, or channel spread'
+};
 const region = { type: 'string', enum: ['na', 'eu', 'uk', 'jp', 'au'] };
 const currency = { type: 'string', enum: ['USD', 'EUR', 'GBP', 'JPY', 'AUD'] };
 const q = (name: string, schema: object, description: string, required = false) => ({ name, in: 'query', required, description, schema });
@@ -101,6 +106,8 @@ export function openApiDocument(origin: string) {
 						chip: { type: 'object', properties: { slug: { type: 'string' }, name: { type: 'string' } } },
 						band: { oneOf: [band, { type: 'null' }] },
 						score: { type: ['number', 'null'] },
+						deviationIre,
+						bandReason,
 						benchRuns: { type: 'integer' },
 						retired: { type: 'boolean' }
 					}
@@ -117,6 +124,8 @@ export function openApiDocument(origin: string) {
 						outputs: { type: 'array', items: { type: 'string' } },
 						band: { oneOf: [band, { type: 'null' }], description: 'Best band over current revisions' },
 						score: { type: ['number', 'null'] },
+						deviationIre,
+						bandReason,
 						revisions: { type: 'array', items: { $ref: '#/components/schemas/Revision' } },
 						bestOffer: { $ref: '#/components/schemas/Offer' },
 						inStockShops: { type: 'integer' },

@@ -16,7 +16,6 @@ import {
 	listingStates,
 	shops,
 	stockEvents,
-	teardownReports,
 	revisions
 } from '../db/schema';
 import { currentOffers, loadRates } from './offers';
@@ -33,6 +32,7 @@ import {
 	convertMinor
 } from '../../pricing';
 import type { Band } from '../../components/bands';
+import { verifiedTeardowns } from '../curate/teardowns';
 import { revisionOdds, type ShopRevisionOdds } from '../../odds';
 
 const iso = (d: Date | string | null | undefined): string | null =>
@@ -95,6 +95,8 @@ async function revisionsFor(db: Database, converterIds: number[] | 'all') {
 			score: revisions.score,
 			scoreMin: revisions.scoreMin,
 			scoreMax: revisions.scoreMax,
+			deviationIre: revisions.deviationIre,
+			bandReason: revisions.bandReason,
 			runs: revisions.runCount,
 			rubricVersion: revisions.rubricVersion,
 			gradedAt: revisions.gradedAt,
@@ -130,6 +132,8 @@ function buildEntries(
 				boardMarking: r.boardMarking,
 				band: r.band,
 				score: r.score,
+				deviationIre: r.deviationIre,
+				bandReason: r.bandReason,
 				runs: r.runs,
 				retired: r.retiredAt !== null,
 				seenFrom: r.seenFrom,
@@ -158,6 +162,8 @@ function buildEntries(
 			revisions: revisionsOf,
 			bestBand: lead.band,
 			bestScore: lead.score,
+			bestDeviationIre: lead.deviationIre,
+			bestBandReason: lead.reason,
 			offers: priced,
 			best: bestOffer ? toOffer(bestOffer, view.currency, rates) : null,
 			inStockShops: new Set(inRegion.filter((o) => o.stock === 'in_stock').map((o) => o.shopSlug)).size
@@ -296,6 +302,8 @@ function publicRevision(
 		boardMarking: r.boardMarking,
 		band: r.band,
 		score: r.score,
+		deviationIre: r.deviationIre,
+		bandReason: r.bandReason,
 		scoreMin: r.scoreMin,
 		scoreMax: r.scoreMax,
 		runs: r.runs,
@@ -318,33 +326,14 @@ export async function loadConverterDetail(db: Database, slug: string, view: View
 	const [revs, offers, rates] = await Promise.all([revisionsFor(db, [row.id]), currentOffers(db, [row.id]), loadRates(db)]);
 	const [entry] = buildEntries([row], revs, offers, view, rates);
 	const runs = await runsFor(db, revs.map((r) => r.id));
-	const teardownRows = await db
-		.select({
-			id: teardownReports.id,
-			revisionCode: revisions.code,
-			chipName: chips.name,
-			chipText: teardownReports.chipText,
-			boardMarking: teardownReports.boardMarking,
-			shopSlug: shops.slug,
-			shopName: shops.name,
-			shopNameOther: teardownReports.shopNameOther,
-			purchaseMonth: teardownReports.purchaseMonth,
-			notes: teardownReports.notes,
-			photoFileId: teardownReports.photoFileId
-		})
-		.from(teardownReports)
-		.leftJoin(revisions, eq(revisions.id, teardownReports.revisionId))
-		.leftJoin(chips, eq(chips.id, teardownReports.chipId))
-		.leftJoin(shops, eq(shops.id, teardownReports.shopId))
-		.where(and(eq(teardownReports.converterId, row.id), eq(teardownReports.status, 'verified')))
-		.orderBy(desc(teardownReports.purchaseMonth), desc(teardownReports.id));
+	const teardownRows = await verifiedTeardowns(db, { converterId: row.id });
 	const teardowns: TeardownRow[] = teardownRows.map((t) => ({
 		id: t.id,
-		revisionCode: t.revisionCode,
-		chip: t.chipName ?? t.chipText,
+		revisionCode: t.revision,
+		chip: t.chip ?? t.chipText,
 		boardMarking: t.boardMarking,
 		shopSlug: t.shopSlug,
-		shopName: t.shopName ?? t.shopNameOther ?? 'another shop',
+		shopName: t.shop ?? t.shopNameOther ?? 'another shop',
 		purchaseMonth: t.purchaseMonth,
 		notes: t.notes,
 		photoFileId: t.photoFileId
@@ -419,6 +408,8 @@ export interface RestockRow {
 	previousStock: string | null;
 	url: string;
 	band: Band | null;
+	deviationIre: number | null;
+	bandReason: string | null;
 }
 
 /** The newest restocks (stock events of kind 'restock'), with the converter's lead band. */
@@ -465,7 +456,9 @@ export async function loadRestocks(db: Database, limit = 50): Promise<RestockRow
 			currency: r.currency,
 			previousStock: r.previousStock,
 			url: r.url,
-			band: lead.band
+			band: lead.band,
+			deviationIre: lead.deviationIre,
+			bandReason: lead.reason
 		};
 	});
 }
@@ -560,6 +553,8 @@ export interface CatalogueExportRow {
 	board_marking: string;
 	band: string | null;
 	score: number | null;
+	deviation_ire: number | null;
+	band_reason: string | null;
 	bench_runs: number;
 	rubric_version: string | null;
 	retired: boolean;
@@ -590,6 +585,8 @@ export async function exportCatalogue(db: Database): Promise<CatalogueExportRow[
 				board_marking: r.boardMarking,
 				band: r.band,
 				score: r.score,
+				deviation_ire: r.deviationIre,
+				band_reason: r.bandReason,
 				bench_runs: r.runs,
 				rubric_version: r.rubricVersion,
 				retired: r.retiredAt !== null,
