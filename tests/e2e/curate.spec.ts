@@ -81,22 +81,22 @@ test('a curator reads good-3ch.csv into a bench run, sees the levels, saves, and
 	expect(mid).toBeLessThan(370);
 	const report = page.getByTestId('level-report');
 	await expect(report).toBeVisible();
-	await expect(report.getByRole('img', { name: /Band: (Exact|Close)/ })).toBeVisible();
+	await expect(report.getByRole('img', { name: /Level grade: (Exact|Close) · \d+\.\d IRE/ })).toBeVisible();
 
 	await page.getByRole('button', { name: 'Save bench run' }).click();
 	await expect(page).toHaveURL(/\/curate\/revisions\/\d+\?run=\d+$/);
-	await expect(page.getByTestId('revision-grade').getByRole('img', { name: /Band: (Exact|Close)/ })).toBeVisible();
+	await expect(page.getByTestId('revision-grade').getByRole('img', { name: /Level grade: (Exact|Close) · \d+\.\d IRE/ })).toBeVisible();
 	await expect(page.getByTestId('run-row')).toHaveCount(1);
 
 	// The public home page lists the revision with its new grade.
 	await page.goto('/');
 	const card = page.getByRole('link', { name: new RegExp(model) });
 	await expect(card).toBeVisible();
-	await expect(card.getByRole('img', { name: /Band: (Exact|Close)/ })).toBeVisible();
+	await expect(card.getByRole('img', { name: /Level grade: (Exact|Close) · \d+\.\d IRE/ })).toBeVisible();
 	// And on the public converter page.
 	const res = await page.goto(`/converters/${stamp ? `testbench-${stamp}-probe-${stamp}` : ''}`);
 	expect(res?.status()).toBe(200);
-	await expect(page.getByRole('img', { name: /Band: (Exact|Close)/ }).first()).toBeVisible();
+	await expect(page.getByRole('img', { name: /Level grade: (Exact|Close) · \d+\.\d IRE/ }).first()).toBeVisible();
 	await page.context().close();
 });
 

@@ -9,13 +9,14 @@ const slugsOn = async (page: import('@playwright/test').Page, list: string) =>
 	page.locator(`[data-testid=${list}] > li`).evaluateAll((els) => els.map((e) => e.getAttribute('data-slug')));
 
 test.describe('catalogue', () => {
-	test('filtering to in stock, Close or better, EU, with audio gives exactly the Beam Bridge', async ({ page }) => {
+	test('filtering to in stock, Close or better, EU, with audio gives exactly the Beam Bridge and the RGB Porter', async ({ page }) => {
 		// EU is served by Kanalhaus (EU) and Thamesbit (UK, ships to the EU). In stock there with
 		// audio out: Beam Bridge (Exact), Scanlet (rev A Close, but shops stopped sending it on
-		// 2025-08-31; rev B, sold now, Failing), Loop RGB (Poor) and Beam Bridge Pro (Fair).
-		// Close or better on what ships today: the Beam Bridge alone.
+		// 2025-08-31; rev B, sold now, Failing), Loop RGB (Poor), Beam Bridge Pro (Fair), RGB
+		// Porter (revisions A Poor and B Close, both shipping) and Component Kit (Fair).
+		// Close or better on what ships today: the Beam Bridge, then the RGB Porter.
 		await page.goto('/converters');
-		await expect(page.getByTestId('result-count')).toHaveText('6 of 6 converters');
+		await expect(page.getByTestId('result-count')).toHaveText('14 of 14 converters');
 		const form = page.getByRole('form', { name: 'Filter converters' });
 		await form.getByLabel('Region', { exact: true }).selectOption('eu');
 		await expect(page).toHaveURL(/region=eu/);
@@ -26,19 +27,19 @@ test.describe('catalogue', () => {
 		await expect(page).toHaveURL(/stock=1/);
 		await form.getByLabel('Audio out', { exact: true }).check();
 		await expect(page).toHaveURL(/audio=1/);
-		await expect(page.getByTestId('result-count')).toHaveText('1 of 6 converters');
-		expect(await slugsOn(page, 'catalogue')).toEqual(['vantacove-beam-bridge']);
+		await expect(page.getByTestId('result-count')).toHaveText('2 of 14 converters');
+		expect(await slugsOn(page, 'catalogue')).toEqual(['vantacove-beam-bridge', 'halvecraft-rgb-porter']);
 
 		// The view is in the URL: shared, it shows the same list.
 		const shared = page.url();
 		const other = await page.context().newPage();
 		await other.goto(shared);
-		expect(await slugsOn(other, 'catalogue')).toEqual(['vantacove-beam-bridge']);
+		expect(await slugsOn(other, 'catalogue')).toEqual(['vantacove-beam-bridge', 'halvecraft-rgb-porter']);
 		await other.close();
 
 		// Any band: the Scanlet appears, with both revisions' bands visible and the older one marked.
 		await form.getByLabel('Band', { exact: true }).selectOption('');
-		await expect(page.getByTestId('result-count')).toHaveText('4 of 6 converters');
+		await expect(page.getByTestId('result-count')).toHaveText('6 of 14 converters');
 		const scanlet = page.locator('[data-slug=brisling-scanlet]');
 		await expect(scanlet.locator('[data-band=close]')).toHaveCount(1);
 		await expect(scanlet.locator('[data-band=failing]')).toHaveCount(1);
@@ -136,13 +137,14 @@ test('finder ranks and explains as the visitor changes inputs', async ({ page })
 	await form.getByLabel('Audio out', { exact: true }).check();
 	await form.getByLabel('In stock now', { exact: true }).check();
 	await form.getByLabel('Lowest acceptable band', { exact: true }).selectOption('close');
-	// In stock in the EU with audio, Close or better on what ships today: Beam Bridge 22.90 EUR.
-	await expect(page.getByTestId('finder-count')).toHaveText('1 match');
-	expect(await slugsOn(page, 'finder-results')).toEqual(['vantacove-beam-bridge']);
-	await expect(page.getByTestId('explanation')).toHaveText('Exact band; in stock at 1 shop in your region; lowest 22.90 EUR.');
-	// Any band: four match (Beam Bridge, Scanlet, Loop RGB, Beam Bridge Pro).
+	// In stock in the EU with audio, Close or better on what ships today: Beam Bridge 22.90 EUR,
+	// then the RGB Porter (its revision B is Close).
+	await expect(page.getByTestId('finder-count')).toHaveText('2 matches');
+	expect(await slugsOn(page, 'finder-results')).toEqual(['vantacove-beam-bridge', 'halvecraft-rgb-porter']);
+	await expect(page.getByTestId('explanation').first()).toHaveText('Exact band; in stock at 1 shop in your region; lowest 22.90 EUR.');
+	// Any band: six match (Beam Bridge, Scanlet, Loop RGB, Beam Bridge Pro, RGB Porter, Component Kit).
 	await form.getByLabel('Lowest acceptable band', { exact: true }).selectOption('');
-	await expect(page.getByTestId('finder-count')).toHaveText('4 matches');
+	await expect(page.getByTestId('finder-count')).toHaveText('6 matches');
 	await form.getByLabel('Budget', { exact: true }).fill('20');
 	await expect(page.getByTestId('finder-count')).toHaveText('2 matches');
 	await expect(page).toHaveURL(/budget=20/);
@@ -176,9 +178,15 @@ test('restocks list and Atom feed', async ({ page, request }) => {
 	expect(xml).toContain('Wattle &amp; Wire');
 });
 
-test('guides say so when none is published; learn shows the rubric and the cautions', async ({ page }) => {
+test('the demo guide shows live picks, one unbuyable and one re-graded; learn shows the rubric and the cautions', async ({ page }) => {
 	await page.goto('/guides');
-	await expect(page.getByTestId('no-guides')).toBeVisible();
+	await expect(page.getByTestId('no-guides')).toHaveCount(0);
+	await page.getByRole('link', { name: 'A first converter for a CRT' }).first().click();
+	await expect(page.getByRole('heading', { level: 1, name: 'A first converter for a CRT' })).toBeVisible();
+	// Linecaster S: discontinued at Northbay, sold out at Thamesbit; Scanlet: picked Close, now Failing.
+	await expect(page.locator('[data-pick=pellamy-linecaster-s] [data-flag=unbuyable]')).toBeVisible();
+	await expect(page.locator('[data-pick=brisling-scanlet] [data-flag=regraded]')).toContainText('Close then, Failing now');
+	await expect(page.locator('[data-pick=orrinford-tubelink-duo]').getByRole('img', { name: /^Level grade: Exact · \d\.\d IRE/ })).toBeVisible();
 	await page.goto('/learn');
 	await expect(page.getByTestId('rubric').locator('tbody tr')).toHaveCount(5);
 	await expect(page.locator('#polling')).toBeVisible();

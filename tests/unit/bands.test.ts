@@ -92,6 +92,7 @@ describe('reasons taken from real level reports', () => {
 		const m = { band: report.band, deviationIre: report.worstDeviationIre, reason: 'spread' };
 		expect(markHidesMarker(m)).toBe(false);
 		expect(markText(m)).toBe('Poor · 3.0 IRE · spread');
+		expect(markAriaLabel(m)).toBe('Level grade: Poor · 3.0 IRE worst deviation · spread: the channels disagree');
 	});
 });
 

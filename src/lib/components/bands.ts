@@ -161,9 +161,9 @@ export function markAriaLabel(m: GradeMark): string {
 	if (!m.band) return `Level grade: ${text}`;
 	const reason = isBandReason(m.reason) ? m.reason : null;
 	if (reason === 'crushed' || reason === 'reversed') return `Level grade: ${text}`;
-	return typeof m.deviationIre === 'number' && Number.isFinite(m.deviationIre)
-		? `Level grade: ${text} worst deviation`
-		: `Level grade: ${text}`;
+	if (typeof m.deviationIre !== 'number' || !Number.isFinite(m.deviationIre)) return `Level grade: ${text}`;
+	const figure = `${m.expected ? 'Expected ' : ''}${BAND_LABELS[m.band]} · ${formatIre(m.deviationIre)} worst deviation`;
+	return reason === 'spread' ? `Level grade: ${figure} · spread: the channels disagree` : `Level grade: ${figure}`;
 }
 
 /** Band mark props for one engine level report (a bench run, a what-if result). */

@@ -494,7 +494,8 @@ export function demoHistory(l: DemoListing, days: number, now: Date) {
 	}
 	const last = points[points.length - 1];
 	if (last.stock !== l.stock || last.priceMinor !== l.priceMinor) {
-		points.push({ at: new Date(now.getTime() - 6 * 3_600_000), priceMinor: l.priceMinor, stock: l.stock });
+		// the change to today's state lands a few hours to two days ago, not at one shared instant
+		points.push({ at: new Date(Math.max(last.at.getTime() + 3_600_000, now.getTime() - (3 + Math.floor(rand() * 45)) * 3_600_000)), priceMinor: l.priceMinor, stock: l.stock });
 	}
 	return points;
 }
@@ -527,7 +528,8 @@ function spellHistory(l: DemoListing, days: number, now: Date) {
 	}
 	const last = points[points.length - 1];
 	if (last.stock !== l.stock || last.priceMinor !== l.priceMinor) {
-		points.push({ at: new Date(now.getTime() - 6 * 3_600_000), priceMinor: l.priceMinor, stock: l.stock });
+		// the change to today's state lands a few hours to two days ago, not at one shared instant
+		points.push({ at: new Date(Math.max(last.at.getTime() + 3_600_000, now.getTime() - (3 + Math.floor(rand() * 45)) * 3_600_000)), priceMinor: l.priceMinor, stock: l.stock });
 	}
 	return points;
 }
