@@ -35,12 +35,13 @@ describe('public guide queries', () => {
 		// From the scenario: EU is served by Kanalhaus (EU) and Thamesbit (UK, ships to the EU).
 		// In stock there with audio: Beam Bridge (Exact), Scanlet (rev A Close but no longer in
 		// shops since 2025-08-31; rev B, what shops send now, Failing), Loop RGB (Poor), Beam
-		// Bridge Pro (Fair; in stock at Thamesbit). Close or better on what ships today: one.
+		// Bridge Pro (Fair; in stock at Thamesbit), RGB Porter (A Poor and B Close, both shipping;
+		// 21.50 EUR at Kanalhaus), Component Kit (Fair). Close or better on what ships today: two.
 		const all = await loadCatalogue(h.db, { region: 'eu', currency: 'EUR' });
 		const hit = filterCatalogue(all, { inStock: true, minBand: 'close', audio: true, sort: 'band' });
-		expect(hit.map((c) => c.slug)).toEqual(['vantacove-beam-bridge']);
+		expect(hit.map((c) => c.slug)).toEqual(['vantacove-beam-bridge', 'halvecraft-rgb-porter']);
 		const ranked = rankFinder(all, { region: 'eu', inStockNow: true, minBand: 'close', needsAudio: true, budgetMinor: 2500 });
-		expect(ranked.map((r) => r.entry.slug)).toEqual(['vantacove-beam-bridge']);
+		expect(ranked.map((r) => r.entry.slug)).toEqual(['vantacove-beam-bridge', 'halvecraft-rgb-porter']);
 		expect(ranked[0].explanation).toBe('Exact band; in stock at 1 shop in your region; lowest 22.90 EUR');
 		// Under 20 EUR nothing that ships today is Close or better.
 		expect(rankFinder(all, { region: 'eu', inStockNow: true, minBand: 'close', needsAudio: true, budgetMinor: 2000 })).toEqual([]);
