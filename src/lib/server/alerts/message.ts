@@ -114,13 +114,13 @@ function rulerHtml(v: AlertView): SafeHtml {
 	const markerCell = markHidesMarker(mark) ? -1 : Math.min(n - 1, Math.floor((v.deviationIre as number) / CELL_IRE));
 	const zone = v.band && markerCell >= 0 ? bandZoneIre(v.band) : null;
 	const top = Array.from({ length: n }, (_, i) =>
-		html`<td style="width:5px;height:9px;padding:0;font-size:9px;line-height:9px;text-align:center;color:${INK}">${i === markerCell ? '▼' : ''}</td>`
+		html`<td style="width:6px;height:10px;padding:0;font-size:10px;line-height:10px;text-align:center;color:${INK}">${i === markerCell ? '▼' : ''}</td>`
 	);
 	const bottom = Array.from({ length: n }, (_, i) => {
 		const from = i * CELL_IRE;
 		const tick = from === 0 || RULER_TICKS_IRE.includes(from);
 		const inZone = zone !== null && from >= zone[0] && from < zone[1];
-		return html`<td style="width:5px;height:5px;padding:0;border-bottom:1px ${from >= lastTick ? 'dashed' : 'solid'} ${MUTED};border-left:1px solid ${tick ? MUTED : 'transparent'};background:${inZone ? ZONE_TINT : 'transparent'}"></td>`;
+		return html`<td style="width:6px;height:7px;padding:0;border-bottom:1px ${from >= lastTick ? 'dashed' : 'solid'} ${MUTED};border-left:1px solid ${tick ? MUTED : 'transparent'};background:${inZone ? ZONE_TINT : 'transparent'}"></td>`;
 	});
 	return html`<table role="presentation" cellpadding="0" cellspacing="0" style="display:inline-table;vertical-align:middle;margin-right:8px;border-collapse:collapse"><tr>${top}</tr><tr>${bottom}</tr></table>`;
 }
