@@ -1,56 +1,79 @@
 /**
- * A revision's grade from several bench runs.
+ * A revision's grade from several bench runs (RUBRIC.aggregation).
  */
 import type { LevelReport } from './analyze';
 import { LevelInputError } from './errors';
-import { BANDS, type Band } from './rubric';
+import { BANDS, bandRank, type Band } from './rubric';
 
 export interface AggregateResult {
+	/** Graded runs (the ones the grade comes from). */
 	count: number;
-	medianScore: number;
-	minScore: number;
-	maxScore: number;
-	/** maxScore - minScore: how much the runs disagree. */
-	scoreSpread: number;
-	/** Band of the median-score run (see aggregateRuns). */
-	band: Band;
-	/** Index (into the given reports) of the run whose band was taken. */
-	medianRunIndex: number;
+	/** Runs given but not graded (e.g. measured unterminated); never counted. */
+	notGradedCount: number;
+	/**
+	 * Median of the graded runs' bands; for an even count the worse of the two
+	 * middle bands. null when no run is graded.
+	 */
+	band: Band | null;
+	/** Median score of the graded runs in `band` (orders revisions within the band). */
+	medianScore: number | null;
+	/** Lowest and highest score over all graded runs, and their difference. */
+	minScore: number | null;
+	maxScore: number | null;
+	scoreSpread: number | null;
+	/** Index (into the given reports) of the run whose score is the band's median (lower middle). */
+	medianRunIndex: number | null;
 	bandCounts: Record<Band, number>;
 	rubricVersion: string;
 }
 
+const round1 = (x: number) => Math.round(x * 10) / 10;
+
 /**
- * Aggregate the level reports of one revision's bench runs.
- * Score: the median of the run scores (mean of the two middle ones for an
- * even count). Band: the band of the median-score run; with an even count,
- * the lower-scoring of the two middle runs, so two runs never average their
- * way into a better band than one of them earned. Ties in score keep the
- * worse band. All reports must share one rubric version.
+ * Median band of a list of bands: the middle one from best to worst; for an
+ * even count the worse of the two middle ones (so two runs never lift a
+ * revision above the worse of them). null for an empty list.
+ */
+export function medianBand(bands: readonly Band[]): Band | null {
+	if (bands.length === 0) return null;
+	const ranks = bands.map(bandRank).sort((a, b) => a - b);
+	return BANDS[ranks[bands.length >> 1]];
+}
+
+/**
+ * Aggregate the level reports of one revision's bench runs. Runs without a
+ * band (not graded) are left out and counted apart. All reports must share
+ * one rubric version.
  */
 export function aggregateRuns(reports: LevelReport[]): AggregateResult {
 	if (!Array.isArray(reports) || reports.length === 0) throw new LevelInputError('no bench runs to aggregate');
 	const versions = new Set(reports.map((r) => r.rubricVersion));
 	if (versions.size > 1)
 		throw new LevelInputError(`bench runs were graded with different rubrics (${[...versions].join(', ')}); regrade them first`);
-	const order = reports
-		.map((r, i) => ({ r, i }))
-		.sort((a, b) => a.r.score - b.r.score || BANDS.indexOf(b.r.band) - BANDS.indexOf(a.r.band));
-	const n = order.length;
-	const lo = order[Math.floor((n - 1) / 2)];
-	const hi = order[Math.floor(n / 2)];
-	const medianScore = Math.round(((lo.r.score + hi.r.score) / 2) * 10) / 10;
+	const graded = reports
+		.map((r, i) => ({ band: r.band, score: r.score, i }))
+		.filter((x): x is { band: Band; score: number; i: number } => x.band !== null && x.score !== null);
 	const bandCounts = Object.fromEntries(BANDS.map((b) => [b, 0])) as Record<Band, number>;
-	for (const r of reports) bandCounts[r.band]++;
+	for (const g of graded) bandCounts[g.band]++;
+	const base = { count: graded.length, notGradedCount: reports.length - graded.length, bandCounts, rubricVersion: reports[0].rubricVersion };
+	const band = medianBand(graded.map((g) => g.band));
+	if (band === null)
+		return { ...base, band: null, medianScore: null, minScore: null, maxScore: null, scoreSpread: null, medianRunIndex: null };
+
+	const inBand = graded.filter((g) => g.band === band).sort((a, b) => a.score - b.score);
+	const k = inBand.length;
+	const lo = inBand[(k - 1) >> 1];
+	const hi = inBand[k >> 1];
+	const scores = graded.map((g) => g.score);
+	const minScore = Math.min(...scores);
+	const maxScore = Math.max(...scores);
 	return {
-		count: n,
-		medianScore,
-		minScore: order[0].r.score,
-		maxScore: order[n - 1].r.score,
-		scoreSpread: Math.round((order[n - 1].r.score - order[0].r.score) * 10) / 10,
-		band: lo.r.band,
-		medianRunIndex: lo.i,
-		bandCounts,
-		rubricVersion: reports[0].rubricVersion
+		...base,
+		band,
+		medianScore: round1((lo.score + hi.score) / 2),
+		minScore,
+		maxScore,
+		scoreSpread: round1(maxScore - minScore),
+		medianRunIndex: lo.i
 	};
 }

@@ -21,6 +21,12 @@ export interface StepReport {
 	spreadIre: number;
 	/** CIEDE2000 between this step and its reference grey on the display model. */
 	deltaE00: number;
+	/**
+	 * Visible colour error: CIEDE2000 between this step on the reference
+	 * display and the same step with its lightness kept and its cast removed
+	 * (0 when the channels agree). Used by the score.
+	 */
+	castDeltaE00: number;
 	labMeasured: Vec3;
 	labReference: Vec3;
 }
@@ -78,11 +84,18 @@ export interface NonMonotonicStep {
 	belowMv: number;
 }
 
+/** Why a run has no band (see RUBRIC.unterminatedRatio). */
+export type NotGradedReason = 'unterminated';
+
 export interface LevelReport {
 	rubricVersion: string;
-	band: Band;
-	/** 0..100, higher is better; orders converters within a band. */
-	score: number;
+	/** False when the run cannot be graded (band and score are then null; see notGradedReason). */
+	graded: boolean;
+	notGradedReason: NotGradedReason | null;
+	/** null when not graded: shown as "not graded", never counted in a revision's grade. */
+	band: Band | null;
+	/** 0..100, higher is better; orders runs within a band (null when not graded). */
+	score: number | null;
 	failReasons: FailReason[];
 	fullScaleMv: number;
 	mvPerIre: number;
@@ -93,6 +106,8 @@ export interface LevelReport {
 	meanAbsDeviationIre: number;
 	worstDeltaE00: number;
 	worstDeltaE00AtIre: number;
+	/** Largest visible colour error (castDeltaE00) over the steps. */
+	worstCastDeltaE00: number;
 	steps: StepReport[];
 	/** reading / expected at 10 and 20 IRE (null when the step was not measured). */
 	shadowRatio: { at10: Rgb; at20: Rgb | null };
@@ -141,6 +156,15 @@ const HUE_CENTRES: Array<{ direction: Exclude<CastDirection, 'neutral'>; hueDeg:
 	});
 })();
 
+/** The rubric's reference display (BT.1886 defaults): the score never depends on display options. */
+const REFERENCE_DISPLAY: DisplayModel = createDisplayModel();
+
+/** CIEDE2000 between a signal as displayed and the neutral grey of the same lightness. */
+function castDeltaE00(model: DisplayModel, r: number, g: number, b: number): number {
+	const lab = model.labOfSignal([r, g, b]);
+	return deltaE2000(lab, [lab[0], 0, 0]);
+}
+
 /** Hue-sector centres used for cast words (degrees). */
 export function castHueCentres(): ReadonlyArray<{ direction: CastDirection; hueDeg: number }> {
 	return HUE_CENTRES;
@@ -186,6 +210,7 @@ function tintPhrase(name: string, t: TintReading): string {
 export function analyzeLevels(input: LevelInput, options: AnalyzeOptions = {}): LevelReport {
 	const valid = validateLevelInput(input);
 	const model: DisplayModel = createDisplayModel(options);
+	const reference = REFERENCE_DISPLAY;
 	const fs = valid.fullScaleMv;
 	const mvPerIre = fs / 100;
 
@@ -207,6 +232,7 @@ export function analyzeLevels(input: LevelInput, options: AnalyzeOptions = {}): 
 			deviationIre,
 			spreadIre,
 			deltaE00: deltaE2000(labMeasured, labReference),
+			castDeltaE00: castDeltaE00(reference, s.r / fs, s.g / fs, s.b / fs),
 			labMeasured,
 			labReference
 		};
@@ -223,19 +249,24 @@ export function analyzeLevels(input: LevelInput, options: AnalyzeOptions = {}): 
 	let worstLoad = 0;
 	let worstDeltaE00 = -1;
 	let worstDeltaE00AtIre = 0;
+	let worstCastDeltaE00 = 0;
+	const w = RUBRIC.score;
 	for (const s of steps) {
-		let load = s.spreadIre;
+		let stepAbs = 0;
 		for (const c of CHANNELS) {
 			const d = Math.abs(s.deviationIre[c]);
 			sumAbs += d;
-			load += d;
+			stepAbs += d;
 			n++;
 			if (d > worstDeviationIre) {
 				worstDeviationIre = d;
 				worstDeviation = { ire: s.ire, channel: c, mv: s[c], deviationMv: s.deviationMv[c] };
 			}
 		}
+		// Step load (RUBRIC.score): spread, deviations and the visible colour error.
+		const load = s.spreadIre + stepAbs + w.colour * (s.castDeltaE00 + w.castSlope * stepAbs);
 		if (load > worstLoad) worstLoad = load;
+		if (s.castDeltaE00 > worstCastDeltaE00) worstCastDeltaE00 = s.castDeltaE00;
 		if (s.spreadIre > worstSpreadIre) {
 			worstSpreadIre = s.spreadIre;
 			worstSpreadAtIre = s.ire;
@@ -271,12 +302,20 @@ export function analyzeLevels(input: LevelInput, options: AnalyzeOptions = {}): 
 		for (const c of CHANNELS) shadowDeficit = Math.max(shadowDeficit, -s.deviationIre[c]);
 	}
 
+	// An unloaded line reads twice the level: grading it would compare every
+	// step against the wrong scale, so such a run gets no band and no score.
+	const w100 = at(100)!;
+	const whiteMedian = [w100.r, w100.g, w100.b].sort((a, b) => a - b)[1];
+	const unterminated =
+		whiteMedian >= RUBRIC.unterminatedRatio.min * fs && whiteMedian <= RUBRIC.unterminatedRatio.max * fs;
+
 	const minShadowRatio10 = Math.min(shadowRatio.at10.r, shadowRatio.at10.g, shadowRatio.at10.b);
-	const { band, failReasons } = decideBand({ worstDeviationIre, worstSpreadIre, minShadowRatio10, nonMonotonic });
-	const w = RUBRIC.score;
+	const decided = decideBand({ worstDeviationIre, worstSpreadIre, minShadowRatio10, nonMonotonic });
 	const rawScore =
 		100 - w.deviation * worstDeviationIre - w.load * worstLoad - w.mean * meanAbsDeviationIre - w.shadow * shadowDeficit;
-	const score = Math.round(Math.min(100, Math.max(0, rawScore)) * 10) / 10;
+	const band = unterminated ? null : decided.band;
+	const failReasons = unterminated ? [] : decided.failReasons;
+	const score = unterminated ? null : Math.round(Math.min(100, Math.max(0, rawScore)) * 10) / 10;
 
 	const white = tintOf(at(100)!);
 	const midGrey = tintOf(at(50)!);
@@ -290,16 +329,14 @@ export function analyzeLevels(input: LevelInput, options: AnalyzeOptions = {}): 
 	};
 
 	const warnings: LevelWarning[] = [];
-	const w100 = at(100)!;
-	const whiteMedian = [w100.r, w100.g, w100.b].sort((a, b) => a - b)[1];
-	const unterminated =
-		whiteMedian >= RUBRIC.unterminatedRatio.min * fs && whiteMedian <= RUBRIC.unterminatedRatio.max * fs;
 	if (unterminated) warnings.push('possibly-unterminated');
 	if (valid.missingSteps.length) warnings.push('missing-steps');
 	if (nonMonotonic) warnings.push('non-monotonic');
 
 	const report: LevelReport = {
 		rubricVersion: RUBRIC.version,
+		graded: !unterminated,
+		notGradedReason: unterminated ? 'unterminated' : null,
 		band,
 		score,
 		failReasons,
@@ -312,6 +349,7 @@ export function analyzeLevels(input: LevelInput, options: AnalyzeOptions = {}): 
 		meanAbsDeviationIre,
 		worstDeltaE00,
 		worstDeltaE00AtIre,
+		worstCastDeltaE00,
 		steps,
 		shadowRatio,
 		highlightRatio,
@@ -351,7 +389,7 @@ function buildFindings(r: LevelReport, whiteMedian: number): Finding[] {
 		out.push({
 			code: 'possibly-unterminated',
 			severity: 'critical',
-			text: `White reads ${fmt(whiteMedian)} mV, about twice the ${fmt(fs)} mV expected: this looks like a measurement without the 75 ohm load, which doubles the level. Measure again into 75 ohm before trusting this grade.`
+			text: `Not graded: white reads ${fmt(whiteMedian)} mV, about twice the ${fmt(fs)} mV expected, which is what a line without its 75 ohm load reads. Measure again into 75 ohm (a terminator at the scope, or the monitor's input in the chain).`
 		});
 	}
 	if (r.missingSteps.length) {
@@ -372,9 +410,11 @@ function buildFindings(r: LevelReport, whiteMedian: number): Finding[] {
 		});
 	}
 
-	// Shadows. On an unterminated line every level is doubled, so level
-	// findings would only repeat that one mistake.
-	const unterminated = r.warnings.includes('possibly-unterminated');
+	// On an unterminated line every level is doubled: any finding about the
+	// levels would be computed against the wrong scale, so there are none.
+	if (!r.graded) return out;
+
+	// Shadows.
 	const s10 = at(10)!;
 	const s0 = at(0)!;
 	const low10 = [...CHANNELS].filter((c) => r.shadowRatio.at10[c] < F.shadowDarkRatio);
@@ -386,7 +426,7 @@ function buildFindings(r: LevelReport, whiteMedian: number): Finding[] {
 			text: `Shadows too dark: ${readingWords(s10, low10)} at 10 IRE where ${fmt(s10.expectedMv)} mV is expected (${pct(minRatio)} of it). Dark scenes lose detail, and turning up the monitor's brightness only makes them grey.`
 		});
 	}
-	const high10 = unterminated ? [] : [...CHANNELS].filter((c) => r.shadowRatio.at10[c] > F.shadowLiftedRatio);
+	const high10 = [...CHANNELS].filter((c) => r.shadowRatio.at10[c] > F.shadowLiftedRatio);
 	if (high10.length) {
 		out.push({
 			code: 'shadows-lifted',
@@ -404,7 +444,7 @@ function buildFindings(r: LevelReport, whiteMedian: number): Finding[] {
 	}
 
 	// Highlights (median channel; a single odd channel is a tint, handled below).
-	if (!unterminated) {
+	{
 		const s100 = at(100)!;
 		const ratio100 = [s100.r, s100.g, s100.b].sort((a, b) => a - b)[1] / s100.expectedMv;
 		if (ratio100 > F.highlightHotRatio) {
@@ -465,7 +505,7 @@ function buildFindings(r: LevelReport, whiteMedian: number): Finding[] {
 
 	// Below Close with nothing above to explain why: name the worst step, so a buyer never
 	// sees a poor grade without the numbers behind it.
-	if (r.band !== 'exact' && r.band !== 'close' && !unterminated && !out.some((f) => f.severity === 'warning' || f.severity === 'critical')) {
+	if (r.band !== 'exact' && r.band !== 'close' && !out.some((f) => f.severity === 'warning' || f.severity === 'critical')) {
 		const w = r.worstDeviation;
 		const expected = w.mv - w.deviationMv;
 		const low = w.deviationMv < 0;

@@ -13,6 +13,7 @@ export type {
 	LevelReport,
 	LevelWarning,
 	NonMonotonicStep,
+	NotGradedReason,
 	Rgb,
 	StepReport,
 	TintReading,
@@ -39,12 +40,13 @@ export {
 	CHANNELS,
 	DEFAULT_FULL_SCALE_MV,
 	MAX_READING_MV,
-	MIN_READING_MV
+	MIN_READING_MV,
+	readingsLookLikeVolts
 } from './validate';
 export type { Channel, LevelInput, LevelStepInput } from './validate';
-export { whatIf, bestFit, transformSignalIre, interpolateCurve } from './whatif';
-export type { LevelTransform, WhatIfResult, BestFitResult, ChannelFit } from './whatif';
-export { aggregateRuns } from './aggregate';
+export { whatIf, bestFit, transformSignalIre, unclippedSignalIre, interpolateCurve } from './whatif';
+export type { LevelTransform, WhatIfResult, WhatIfClipping, BestFitResult, ChannelFit } from './whatif';
+export { aggregateRuns, medianBand } from './aggregate';
 export type { AggregateResult } from './aggregate';
-export { importTrace, traceToLevelInput } from './trace';
-export type { ImportTraceOptions, TraceImport, TracePlateau, TraceChannel, VoltageUnit } from './trace';
+export { importTrace, traceToLevelInput, runningMedian, TRACE_WARNING_WORDS } from './trace';
+export type { ImportTraceOptions, TraceImport, TracePlateau, TraceChannel, TraceWarning, VoltageUnit } from './trace';

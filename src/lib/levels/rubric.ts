@@ -2,8 +2,17 @@
  * The house grading rubric. This is Scopegrade's own rule set, NOT a
  * published standard: the analog video level standards (SMPTE 170M, the VESA
  * Video Signal Standard) fix the nominal levels (700 mV white into 75 ohm) but
- * give no tolerance for a converter's RGB output levels. Every threshold the analysis uses lives in
- * this one table so a change is one edit plus a new version string.
+ * give no tolerance for a converter's RGB output levels. Every threshold the
+ * analysis uses lives in this one table so a change is one edit plus a new
+ * version string; stored reports graded with an older version are regraded
+ * automatically when migrations run.
+ *
+ * Versions:
+ * - sg-levels-1: first rubric.
+ * - sg-levels-2: a revision's band is the median of its runs' bands; runs
+ *   that look unterminated are not graded; the score counts the visible
+ *   colour error (cast); black up to 1 IRE below blanking is a valid
+ *   reading; readings that look like volts are refused.
  */
 
 export type Band = 'exact' | 'close' | 'fair' | 'poor' | 'failing';
@@ -12,7 +21,7 @@ export type Band = 'exact' | 'close' | 'fair' | 'poor' | 'failing';
 export const BANDS: readonly Band[] = ['exact', 'close', 'fair', 'poor', 'failing'] as const;
 
 export const RUBRIC = {
-	version: 'sg-levels-1',
+	version: 'sg-levels-2',
 	/**
 	 * A band needs BOTH: worst deviation (any step, any channel) and worst
 	 * channel spread (any step) at or under its limits, in IRE.
@@ -28,20 +37,74 @@ export const RUBRIC = {
 	/** A non-monotonic step (a step reading lower than the one below) fails outright. */
 	nonMonotonicFails: true,
 	/**
-	 * Score = 100 - deviation * worstDeviationIre - load * worstStepLoadIre
+	 * Score = 100 - deviation * worstDeviationIre - load * worstStepLoad
 	 *   - mean * meanAbsDeviationIre - shadow * worstShadowDeficitIre,
-	 * clamped to 0..100 and rounded to 0.1. The step load of a step is its
-	 * channel spread plus the sum of its channels' absolute deviations: spread
-	 * alone can shrink when a reading moves away from its expected value (the
-	 * channels may come closer together), and adding the sum of absolute
-	 * deviations (which grows at rate 1 while spread falls at rate at most 1)
-	 * keeps the score from ever rising when a reading gets worse.
+	 * clamped to 0..100 and rounded to 0.1.
+	 *
+	 * The step load of a step is
+	 *   spread + sum|dev| + colour * (castDeltaE00 + castSlope * sum|dev|)
+	 * (spread and deviations in IRE). castDeltaE00 is the visible colour error
+	 * of the step: CIEDE2000 between the step as the reference display shows it
+	 * and the same step with its lightness kept and its cast removed, so it is
+	 * zero when the three channels agree and grows with a tint. A run whose
+	 * channels disagree therefore never scores above the run that carries the
+	 * mean of its deviations on all three channels (same error, no cast).
+	 *
+	 * Why the extra sum|dev| terms: moving a reading away from its expected
+	 * value can shrink the spread (at rate 1) and the cast (at castSlope dE00
+	 * per IRE at most); the sums grow at rate 1 and castSlope, so the score
+	 * never rises when a reading gets worse. castSlope = 3 bounds the steepest
+	 * change of the cast with one reading on the reference display (about 2.9
+	 * dE00 per IRE, near 10 IRE). The colour term always uses the reference
+	 * display (BT.1886 defaults), so display options never move the score.
+	 *
+	 * How score and band relate: the band comes from the limits in `bands`
+	 * alone; the score only orders runs and revisions that share a band. A
+	 * better band always ranks first, whatever the scores, and a run in a worse
+	 * band can score higher than one in a better band (the limits look at the
+	 * worst step only, the score at every step).
 	 */
-	score: { deviation: 4, load: 1.5, mean: 4, shadow: 2 },
+	score: { deviation: 4, load: 1.5, mean: 4, shadow: 2, colour: 0.5, castSlope: 3 },
 	/** Comparisons allow this much floating-point slack (IRE). */
 	epsilonIre: 1e-9,
-	/** Unterminated line: white (median of channels) between these multiples of full scale. */
+	/**
+	 * Not graded: a run whose white (median of the channels at 100 IRE) lies
+	 * between these multiples of full scale looks measured without the 75 ohm
+	 * load (an unloaded line reads twice the level). It gets no band and no
+	 * score, only a "measure again into 75 ohm" finding; it is stored but
+	 * shown as not graded and never counts towards a revision's grade.
+	 */
 	unterminatedRatio: { min: 1.7, max: 2.3 },
+	/** How people type readings (see validate.ts). */
+	readings: {
+		/**
+		 * A reading this far below blanking (IRE) is accepted: scopes read a
+		 * few mV either side of zero at black (1 IRE = 7 mV at 700 mV full
+		 * scale, common practice). Further below is refused.
+		 */
+		belowBlankingToleranceIre: 1.0,
+		/**
+		 * Readings look like volts when every value is at most `maxValue` and
+		 * white (median channel at 100 IRE) is at least `whiteMin`: 0.7 typed
+		 * for 700 mV. They are refused with a message asking for mV.
+		 */
+		voltsLike: { maxValue: 1.5, whiteMin: 0.3 }
+	},
+	/**
+	 * A revision's grade: its band is the median of its graded runs' bands
+	 * (for an even count, the worse of the two middle bands), so a run can
+	 * never pull a revision into a band better than the runs deserve. Its
+	 * score is the median score of the runs in that band (ordering within
+	 * the band); the lowest and highest scores of all graded runs show how
+	 * far the runs disagree. Runs that are not graded are counted apart.
+	 */
+	aggregation: 'median-band',
+	/**
+	 * Best fit (whatif.ts): a converter counts as rescued by a source setting
+	 * when the best per-channel gain and offset bring it to this band or
+	 * better; otherwise the residual is beyond what any setting can do.
+	 */
+	rescue: { band: 'close' as Band },
 	findings: {
 		/** Shadow ratio at 10 IRE below this: "shadows too dark". */
 		shadowDarkRatio: 0.9,

@@ -5,6 +5,7 @@
  */
 import { z } from 'zod';
 import { LevelInputError } from './errors';
+import { RUBRIC } from './rubric';
 
 export const CHANNELS = ['r', 'g', 'b'] as const;
 export type Channel = (typeof CHANNELS)[number];
@@ -17,17 +18,20 @@ export const REQUIRED_STEPS_IRE = [0, 10, 50, 100] as const;
 /** Readings above this are not a video level at all (an unterminated 700 mV line reads ~1400). */
 export const MAX_READING_MV = 2000;
 /**
- * Readings a little below 0 mV at black are measurement noise, not an error;
- * below this they are rejected (about 0.7 IRE at 700 mV full scale).
+ * Readings a little below 0 mV at black are measurement noise, not an error:
+ * up to RUBRIC.readings.belowBlankingToleranceIre below blanking is accepted
+ * (this is that limit at the default 700 mV full scale: -7 mV).
  */
-export const MIN_READING_MV = -5;
+export const MIN_READING_MV = -RUBRIC.readings.belowBlankingToleranceIre * 7;
+/** Below this no reading is a video level at all (the boundary's coarse check). */
+const FLOOR_MV = -MAX_READING_MV;
 export const FULL_SCALE_RANGE_MV = { min: 100, max: 1500 } as const;
 export const DEFAULT_FULL_SCALE_MV = 700;
 
 const reading = (name: string) =>
 	z
 		.number({ error: `${name} reading must be a finite number of millivolts` })
-		.min(MIN_READING_MV, { error: `${name} reading is negative; readings are mV above blanking (0 mV)` })
+		.min(FLOOR_MV, { error: `${name} reading is far below blanking; readings are mV above blanking (0 mV)` })
 		.max(MAX_READING_MV, { error: `${name} reading is above ${MAX_READING_MV} mV, not a plausible video level (check V vs mV)` });
 
 const stepSchema = z.object({
@@ -90,6 +94,15 @@ export function validateLevelInput(input: unknown): ValidInput {
 	const fullScaleMv = parsed.data.fullScaleMv ?? DEFAULT_FULL_SCALE_MV;
 	if (steps.length === 0) throw new LevelInputError('no readings: steps is empty (need at least 0, 10, 50 and 100 IRE)');
 
+	if (readingsLookLikeVolts(steps)) {
+		const white = steps.find((s) => s.ire === 100);
+		const w = white ? median3(white.r, white.g, white.b) : Math.max(...steps.map((s) => Math.max(s.r, s.g, s.b)));
+		const v = Math.round(w * 1000) / 1000;
+		throw new LevelInputError(
+			`the readings look like volts (white reads ${v}): enter millivolts, e.g. ${Math.round(v * 1000)} for ${v} V`
+		);
+	}
+
 	const issues: string[] = [];
 	const seen = new Set<number>();
 	for (const s of steps) {
@@ -100,6 +113,16 @@ export function validateLevelInput(input: unknown): ValidInput {
 		if (seen.has(s.ire)) issues.push(`duplicate step ${s.ire} IRE: give one reading per step`);
 		seen.add(s.ire);
 	}
+	// A few mV below blanking is scope noise at black; further below is a probe or offset mistake.
+	const floorMv = -RUBRIC.readings.belowBlankingToleranceIre * (fullScaleMv / 100);
+	for (const s of steps) {
+		for (const c of CHANNELS) {
+			if (s[c] < floorMv)
+				issues.push(
+					`step ${s.ire} IRE: ${CHANNEL_NAMES[c]} reads ${s[c]} mV, more than ${fmtMv(-floorMv)} mV (${RUBRIC.readings.belowBlankingToleranceIre} IRE) below blanking; readings are mV above blanking (0 mV): check the probe's ground and the scope's offset`
+				);
+		}
+	}
 	if (issues.length) throw new LevelInputError(`invalid level readings: ${issues.join('; ')}`, issues);
 	const absent = REQUIRED_STEPS_IRE.filter((x) => !seen.has(x));
 	if (absent.length)
@@ -109,4 +132,25 @@ export function validateLevelInput(input: unknown): ValidInput {
 	const sorted = [...steps].sort((a, b) => a.ire - b.ire).map((s) => ({ ire: s.ire, r: s.r, g: s.g, b: s.b }));
 	const missingSteps = ALL_STEPS_IRE.filter((x) => !seen.has(x));
 	return { steps: sorted, fullScaleMv, missingSteps };
+}
+
+const median3 = (a: number, b: number, c: number) => Math.max(Math.min(a, b), Math.min(Math.max(a, b), c));
+const fmtMv = (x: number) => String(Math.round(x * 10) / 10);
+
+/**
+ * True when readings look typed in volts rather than millivolts: every value
+ * at most RUBRIC.readings.voltsLike.maxValue and white (the median channel at
+ * 100 IRE, or the largest reading when 100 IRE is absent) at least whiteMin.
+ * A dead output (all near 0) is not mistaken for volts. Forms use this to
+ * offer the x1000 conversion.
+ */
+export function readingsLookLikeVolts(steps: ReadonlyArray<{ ire: number; r: number; g: number; b: number }>): boolean {
+	const v = RUBRIC.readings.voltsLike;
+	if (steps.length === 0) return false;
+	let max = -Infinity;
+	for (const s of steps) max = Math.max(max, s.r, s.g, s.b);
+	if (!(max <= v.maxValue)) return false;
+	const white = steps.find((s) => s.ire === 100);
+	const w = white ? median3(white.r, white.g, white.b) : max;
+	return w >= v.whiteMin;
 }

@@ -4,6 +4,7 @@
  */
 import { analyzeLevels, type AnalyzeOptions, type LevelReport } from './analyze';
 import { LevelInputError } from './errors';
+import { RUBRIC, bandRank } from './rubric';
 import { CHANNELS, validateLevelInput, type Channel, type LevelInput, type LevelStepInput } from './validate';
 
 export interface LevelTransform {
@@ -23,8 +24,14 @@ export interface LevelTransform {
 const LIMITED_BLACK = 16 / 255;
 const LIMITED_SPAN = 219 / 255;
 
-/** The source-side signal (IRE) a pattern step becomes under the transform. */
-export function transformSignalIre(ire: number, t: LevelTransform): number {
+/** Slack for deciding a step was pushed past an end of the source's range (IRE). */
+const CLIP_EPS_IRE = 1e-9;
+
+/**
+ * The source-side signal (IRE) a pattern step becomes under the transform,
+ * before clipping: may fall outside 0..100.
+ */
+export function unclippedSignalIre(ire: number, t: LevelTransform): number {
 	let x = ire / 100;
 	if (t.range === 'limited-to-full') x = (x - LIMITED_BLACK) / LIMITED_SPAN;
 	else if (t.range === 'full-to-limited') x = x * LIMITED_SPAN + LIMITED_BLACK;
@@ -33,9 +40,18 @@ export function transformSignalIre(ire: number, t: LevelTransform): number {
 }
 
 /**
- * Piecewise-linear interpolation over measured (ire, mV) points; linear
- * extrapolation from the end segments beyond them; never below 0 mV (a
- * converter does not output below blanking on the active line).
+ * The signal (IRE) the source really sends for a pattern step: the transform,
+ * clipped at the source's own black (0) and white (100), since no source can
+ * drive past the ends of its code range.
+ */
+export function transformSignalIre(ire: number, t: LevelTransform): number {
+	return Math.min(100, Math.max(0, unclippedSignalIre(ire, t)));
+}
+
+/**
+ * Piecewise-linear interpolation over measured (ire, mV) points. Beyond them
+ * (whatIf never goes there: the source clips at 0 and 100 IRE first) it
+ * extrapolates the end segments, never below 0 mV.
  */
 export function interpolateCurve(points: Array<[number, number]>, x: number): number {
 	const n = points.length;
@@ -46,13 +62,45 @@ export function interpolateCurve(points: Array<[number, number]>, x: number): nu
 	const [x0, y0] = points[i];
 	const [x1, y1] = points[i + 1];
 	const y = y0 + ((y1 - y0) * (x - x0)) / (x1 - x0);
-	return Math.max(0, y);
+	return x < points[0][0] || x > points[n - 1][0] ? Math.max(0, y) : y;
+}
+
+/** Pattern steps a transform pushes past the source's black or white. */
+export interface WhatIfClipping {
+	/** Steps (IRE) the setting pushes below the source's black: they all show as black. */
+	black: number[];
+	/** Steps (IRE) the setting pushes above the source's white: they all show as white. */
+	white: number[];
+	/** A sentence for the panel, or null when nothing clips. */
+	words: string | null;
 }
 
 export interface WhatIfResult {
 	transform: Required<LevelTransform>;
 	steps: LevelStepInput[];
 	report: LevelReport;
+	clipping: WhatIfClipping;
+}
+
+function listIre(xs: number[]): string {
+	const t = xs.map(String);
+	return t.length <= 1 ? t.join('') : `${t.slice(0, -1).join(', ')} and ${t[t.length - 1]}`;
+}
+
+function clippingOf(stepsIre: number[], t: LevelTransform): WhatIfClipping {
+	const black: number[] = [];
+	const white: number[] = [];
+	for (const ire of stepsIre) {
+		const x = unclippedSignalIre(ire, t);
+		if (x < -CLIP_EPS_IRE) black.push(ire);
+		else if (x > 100 + CLIP_EPS_IRE) white.push(ire);
+	}
+	const parts: string[] = [];
+	if (black.length)
+		parts.push(`${listIre(black)} IRE ${black.length > 1 ? 'fall' : 'falls'} below the source's black and ${black.length > 1 ? 'show' : 'shows'} as black (shadow detail lost)`);
+	if (white.length)
+		parts.push(`${listIre(white)} IRE ${white.length > 1 ? 'go' : 'goes'} past the source's white and ${white.length > 1 ? 'show' : 'shows'} as white (highlight detail lost)`);
+	return { black, white, words: parts.length ? `This setting clips: ${parts.join('; ')}.` : null };
 }
 
 function checkTransform(t: LevelTransform): Required<LevelTransform> {
@@ -80,7 +128,7 @@ export function whatIf(input: LevelInput, transform: LevelTransform, options?: A
 		CHANNELS.map((c) => [c, valid.steps.map((s) => [s.ire, s[c]] as [number, number])])
 	) as Record<Channel, Array<[number, number]>>;
 	const steps = valid.steps.map((s) => {
-		const x = transformSignalIre(s.ire, t);
+		const x = transformSignalIre(s.ire, t); // clipped to the source's 0..100 first
 		return {
 			ire: s.ire,
 			r: interpolateCurve(curves.r, x),
@@ -88,7 +136,15 @@ export function whatIf(input: LevelInput, transform: LevelTransform, options?: A
 			b: interpolateCurve(curves.b, x)
 		};
 	});
-	return { transform: t, steps, report: analyzeLevels({ steps, fullScaleMv: valid.fullScaleMv }, options) };
+	return {
+		transform: t,
+		steps,
+		report: analyzeLevels({ steps, fullScaleMv: valid.fullScaleMv }, options),
+		clipping: clippingOf(
+			valid.steps.map((s) => s.ire),
+			t
+		)
+	};
 }
 
 export interface ChannelFit {
@@ -104,6 +160,14 @@ export interface BestFitResult {
 	/** Corrected readings (clamped at 0 mV). */
 	steps: LevelStepInput[];
 	report: LevelReport;
+	/**
+	 * Whether the best setting reaches RUBRIC.rescue.band or better: when it
+	 * does not, what is left (the residual: a bent curve, steps out of line)
+	 * is beyond any source setting.
+	 */
+	rescuable: boolean;
+	/** A sentence for the panel. */
+	verdict: string;
 }
 
 /**
@@ -142,5 +206,13 @@ export function bestFit(input: LevelInput, options?: AnalyzeOptions): BestFitRes
 		g: Math.max(0, channels.g.gain * s.g + channels.g.offsetMv),
 		b: Math.max(0, channels.b.gain * s.b + channels.b.offsetMv)
 	}));
-	return { channels, steps, report: analyzeLevels({ steps, fullScaleMv: valid.fullScaleMv }, options) };
+	const report = analyzeLevels({ steps, fullScaleMv: valid.fullScaleMv }, options);
+	const rescuable = report.band !== null && bandRank(report.band) <= bandRank(RUBRIC.rescue.band);
+	const worst = CHANNELS.reduce((a, c) => (channels[c].residualRmsIre > channels[a].residualRmsIre ? c : a), CHANNELS[0]);
+	const rms = channels[worst].residualRmsIre.toFixed(1);
+	const name = { r: 'red', g: 'green', b: 'blue' }[worst];
+	const verdict = rescuable
+		? `A source setting can rescue it: with the best gain and offset per channel the levels grade ${report.band}; what no setting removes is at most ${rms} IRE RMS (${name}).`
+		: `No source setting can rescue it: even the best gain and offset per channel leave ${rms} IRE RMS on ${name} (the curve itself is bent or steps are out of line), so it grades ${report.band ?? 'not graded'} at best.`;
+	return { channels, steps, report, rescuable, verdict };
 }

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { LevelInputError, RUBRIC, analyzeLevels, bandRank, type Band } from '../../../src/lib/levels';
+import { LevelInputError, RUBRIC, analyzeLevels, bandRank, readingsLookLikeVolts, type Band } from '../../../src/lib/levels';
 import { perfectExcept, ramp } from './helpers';
 
 const codes = (r: ReturnType<typeof analyzeLevels>) => r.findings.map((f) => f.code);
@@ -35,7 +35,7 @@ describe('trade rules of thumb (common practice, no published source)', () => {
 		expect(r.findings[0].text).toMatch(/^Levels are right/);
 		expect(r.warnings).toEqual([]);
 		expect(r.tint.white.direction).toBe('neutral');
-		expect(r.rubricVersion).toBe('sg-levels-1');
+		expect(r.rubricVersion).toBe('sg-levels-2');
 	});
 
 	it.each([25, 30])('%i mV at 10 IRE (where 70 mV is expected) is failing, with a shadows finding citing the numbers', (mv) => {
@@ -50,7 +50,7 @@ describe('trade rules of thumb (common practice, no published source)', () => {
 
 	it("blue at 770 mV with red and green at 700 mV at 100 IRE is at best 'poor' and the tint says blue", () => {
 		const r = analyzeLevels(perfectExcept(100, [700, 700, 770]));
-		expect(bandRank(r.band)).toBeGreaterThanOrEqual(bandRank('poor'));
+		expect(bandRank(r.band!)).toBeGreaterThanOrEqual(bandRank('poor'));
 		expect(r.tint.white.direction).toBe('blue');
 		expect(r.tint.white.words).toMatch(/blue cast$/);
 		expect(r.tint.summary).toMatch(/White has a .*blue cast/);
@@ -58,17 +58,33 @@ describe('trade rules of thumb (common practice, no published source)', () => {
 		expect(f.text).toContain('Blue runs high: 770 mV at 100 IRE where red and green read 700 mV');
 		// the whole ramp with blue 10 % high: also blue, mid grey too
 		const all = analyzeLevels(ramp((i) => [7 * i, 7 * i, 7.7 * i]));
-		expect(bandRank(all.band)).toBeGreaterThanOrEqual(bandRank('poor'));
+		expect(bandRank(all.band!)).toBeGreaterThanOrEqual(bandRank('poor'));
 		expect(all.tint.midGrey.direction).toBe('blue');
 	});
 
-	it("doubled readings (about 1400 mV at white: no 75 ohm load) raise 'possibly-unterminated'", () => {
+	it("doubled readings (about 1400 mV at white: no 75 ohm load, which halves the level into a matched load) are not graded", () => {
+		// A 75 ohm source into 75 ohm delivers half its open-circuit voltage (voltage divider); without the load the scope reads double.
 		const r = analyzeLevels(ramp((i) => [14 * i, 14 * i, 14 * i]));
 		expect(r.warnings).toContain('possibly-unterminated');
+		expect(r).toMatchObject({ graded: false, notGradedReason: 'unterminated', band: null, score: null, failReasons: [] });
 		expect(r.findings[0].code).toBe('possibly-unterminated');
-		expect(r.findings[0].text).toContain('1400 mV');
-		expect(r.findings[0].text).toContain('75 ohm');
-		expect(analyzeLevels(ramp((i) => [7.7 * i, 7.7 * i, 7.7 * i])).warnings).not.toContain('possibly-unterminated');
+		expect(r.findings[0].severity).toBe('critical');
+		expect(r.findings[0].text).toMatch(/^Not graded: white reads 1400 mV, about twice the 700 mV expected/);
+		expect(r.findings[0].text).toContain('Measure again into 75 ohm');
+		// nothing is judged against the wrong scale: no shadow, highlight or level findings
+		expect(codes(r)).toEqual(['possibly-unterminated']);
+		// even when the doubled run also has crushed shadows (25 mV doubled to 50 at 10 IRE)
+		const crushed = analyzeLevels(ramp((i) => (i === 10 ? [50, 50, 50] : [14 * i, 14 * i, 14 * i])));
+		expect(crushed.band).toBeNull();
+		expect(codes(crushed)).not.toContain('shadows-dark');
+		// missing steps are still said (they do not depend on the scale)
+		const missing = analyzeLevels({ steps: ramp((i) => [14 * i, 14 * i, 14 * i]).steps.filter((s) => s.ire !== 30) });
+		expect(codes(missing)).toEqual(['possibly-unterminated', 'missing-steps']);
+		// 1.1 x full scale is a hot converter, graded as such
+		const hot = analyzeLevels(ramp((i) => [7.7 * i, 7.7 * i, 7.7 * i]));
+		expect(hot.warnings).not.toContain('possibly-unterminated');
+		expect(hot.graded).toBe(true);
+		expect(hot.band).not.toBeNull();
 	});
 });
 
@@ -148,14 +164,14 @@ describe('score', () => {
 		const b = analyzeLevels(perfectExcept(50, [356, 356, 356]));
 		expect(a.band).toBe('exact');
 		expect(b.band).toBe('exact');
-		expect(a.score).toBeGreaterThan(b.score);
+		expect(a.score!).toBeGreaterThan(b.score!);
 	});
 	it('penalises spread at equal worst deviation', () => {
 		const same = analyzeLevels(perfectExcept(50, [357, 357, 357]));
 		const split = analyzeLevels(perfectExcept(50, [357, 350, 350]));
 		const apart = analyzeLevels(perfectExcept(50, [357, 350, 343]));
 		expect(same.score).toBeGreaterThan(0);
-		expect(split.score).toBeGreaterThan(apart.score);
+		expect(split.score!).toBeGreaterThan(apart.score!);
 	});
 	it('stays within 0..100', () => {
 		expect(analyzeLevels(ramp((i) => [0, 0, 19 * i])).score).toBe(0);
@@ -272,10 +288,28 @@ describe('bad input', () => {
 		bad(perfectExcept(50, [350, Infinity, 350]), /green reading must be a finite number/);
 		bad(perfectExcept(50, [350, 350, '350' as unknown as number]), /blue reading must be a finite number/);
 	});
-	it('negative readings (beyond -5 mV of black noise) and absurd readings', () => {
-		bad(perfectExcept(0, [-50, 0, 0]), /red reading is negative/);
+	it('black a little below blanking is a reading; beyond the rubric tolerance (1 IRE, 7 mV at 700 mV) it is refused, and so are absurd readings', () => {
+		// Scopes read a few mV either side of 0 at black (common practice).
 		expect(analyzeLevels(perfectExcept(0, [-1, 0, 0])).band).toBe('exact');
+		const near = analyzeLevels(perfectExcept(0, [-6.5, -7, -3]));
+		expect(near.graded).toBe(true);
+		expect(near.steps[0].g).toBe(-7);
+		bad(perfectExcept(0, [-7.5, 0, 0]), /step 0 IRE: red reads -7.5 mV, more than 7 mV \(1 IRE\) below blanking/);
+		bad(perfectExcept(0, [-50, 0, 0]), /red reads -50 mV, more than 7 mV/);
+		// the tolerance is 1 IRE of the run's own full scale: 10 mV at 1000 mV
+		expect(analyzeLevels(ramp((i) => [10 * i - (i === 0 ? 9 : 0), 10 * i, 10 * i], 1000)).graded).toBe(true);
+		bad(ramp((i) => [10 * i - (i === 0 ? 11 : 0), 10 * i, 10 * i], 1000), /more than 10 mV/);
 		bad(perfectExcept(100, [700, 2500, 700]), /above 2000 mV/);
+	});
+	it('readings that look like volts are refused, never graded as millivolts', () => {
+		bad(ramp((i) => [0.007 * i, 0.007 * i, 0.007 * i]), /look like volts \(white reads 0.7\): enter millivolts, e.g. 700 for 0.7 V/);
+		// unterminated volts (1.4 at white) too
+		bad(ramp((i) => [0.014 * i, 0.014 * i, 0.014 * i]), /look like volts/);
+		expect(readingsLookLikeVolts(ramp((i) => [0.007 * i, 0.007 * i, 0.0071 * i]).steps)).toBe(true);
+		// a dead output (every step near 0 mV) is a reading, not volts: it grades failing
+		expect(readingsLookLikeVolts(ramp(() => [0.2, 0.2, 0.2]).steps)).toBe(false);
+		expect(analyzeLevels(ramp(() => [0.2, 0.2, 0.2])).band).toBe('failing');
+		expect(readingsLookLikeVolts(ramp().steps)).toBe(false);
 	});
 	it('duplicate and unknown steps', () => {
 		const dup = ramp();
@@ -303,7 +337,7 @@ describe('bad input', () => {
 	it('lists every problem in issues', () => {
 		expect.assertions(1);
 		try {
-			analyzeLevels(ramp((i) => (i === 20 ? [NaN, -100, 3000] : [7 * i, 7 * i, 7 * i])));
+			analyzeLevels(ramp((i) => (i === 20 ? [NaN, -3000, 3000] : [7 * i, 7 * i, 7 * i])));
 		} catch (e) {
 			expect((e as LevelInputError).issues).toHaveLength(3);
 		}

@@ -42,7 +42,7 @@ describe('score monotonicity (fast-check)', () => {
 					after[k][c] = Math.min(next, 2000);
 					const a = analyzeLevels({ steps: before });
 					const b = analyzeLevels({ steps: after });
-					expect(b.score).toBeLessThanOrEqual(a.score);
+					expect(b.score!).toBeLessThanOrEqual(a.score!);
 				}
 			),
 			{ numRuns: 400 }
@@ -67,7 +67,7 @@ describe('score monotonicity (fast-check)', () => {
 
 	it('the generator yields non-trivial scores (guards the property above against the 0 clamp)', () => {
 		const scores = fc.sample(readings, { numRuns: 200, seed: 42 }).map((d) => analyzeLevels({ steps: build(d) }).score);
-		expect(scores.filter((s) => s > 0).length).toBeGreaterThan(40);
+		expect(scores.filter((s) => s! > 0).length).toBeGreaterThan(40);
 	});
 
 	it('the score is always within 0..100 and the band is always one of the five', () => {
@@ -80,5 +80,53 @@ describe('score monotonicity (fast-check)', () => {
 			}),
 			{ numRuns: 200 }
 		);
+	});
+});
+
+// Property (house rubric sg-levels-2, RUBRIC.score.colour): the score counts
+// the visible colour error. A run whose channels disagree (a cast) never
+// scores above the run that carries, at every step, the mean of its three
+// deviations on all three channels: the same error, with no cast. (A run
+// with a larger deviation on all channels cannot be the comparison: by the
+// property above, moving readings further away never raises the score.)
+describe('visible colour error in the score (fast-check)', () => {
+	const meanOnAll = (steps: LevelStepInput[]): LevelStepInput[] =>
+		steps.map((s) => {
+			const m = (s.r + s.g + s.b) / 3;
+			return { ire: s.ire, r: m, g: m, b: m };
+		});
+
+	it('a cast never scores above the same mean deviation on all three channels', () => {
+		fc.assert(
+			fc.property(readings, (devs) => {
+				const cast = build(devs);
+				const a = analyzeLevels({ steps: cast });
+				const b = analyzeLevels({ steps: meanOnAll(cast) });
+				fc.pre(a.graded && b.graded);
+				expect(a.score!).toBeLessThanOrEqual(b.score!);
+			}),
+			{ numRuns: 400 }
+		);
+	});
+
+	it('a cast scores strictly lower when it is visible (worked example: blue +10.5 mV at white, 1.5 IRE)', () => {
+		const cast = build(STEPS.map((ire) => (ire === 100 ? [0, 0, 10.5] : [0, 0, 0])));
+		const neutral = meanOnAll(cast);
+		const a = analyzeLevels({ steps: cast });
+		const b = analyzeLevels({ steps: neutral });
+		expect(a.worstCastDeltaE00).toBeGreaterThan(1);
+		expect(b.worstCastDeltaE00).toBeLessThan(1e-6);
+		expect(a.score!).toBeLessThan(b.score!);
+		// and within one band both ways: the same band, the cast ranks lower
+		expect(a.band).toBe('close');
+		expect(b.band).toBe('exact');
+	});
+
+	it('the colour term uses the reference display: display options change dE00 figures, never the score', () => {
+		const steps = build(STEPS.map((ire) => (ire === 50 ? [2, -1, 3] : [0, 0, 0])));
+		const a = analyzeLevels({ steps });
+		const b = analyzeLevels({ steps }, { lw: 250, lb: 0.5, gamma: 2.2 });
+		expect(b.worstDeltaE00).not.toBeCloseTo(a.worstDeltaE00, 3);
+		expect(b.score).toBe(a.score);
 	});
 });

@@ -135,17 +135,8 @@ export function readTraces(uploads: TraceUpload[], fullScaleMv = 700): Omit<Trac
 			}
 		};
 	}
-	// A black level a hair below blanking is noise; the stored readings start at 0 mV.
-	let clamped = false;
-	for (const st of merged.steps)
-		for (const c of CH) {
-			const v = st[c];
-			if (v !== undefined && v < 0 && v >= -5) {
-				st[c] = 0;
-				clamped = true;
-			}
-		}
-	if (clamped) merged.warnings.push('below-blanking-read-as-0-mV');
+	// A black level a hair below blanking is a valid reading (the engine's
+	// RUBRIC.readings.belowBlankingToleranceIre); it is kept as read.
 	// The engine grades three channels; a partial trace still previews (channels copied, said so).
 	let report: LevelReport | null = null;
 	let reportError: string | null = null;
