@@ -3,9 +3,10 @@
  * always what the level engine (src/lib/levels) computes from the stored readings.
  * Free of `$lib`/`$env` imports so the seed and jobs can use it under tsx.
  */
-import { and, eq, inArray } from 'drizzle-orm';
+import { and, eq, gt, inArray, isNotNull, isNull, ne, or } from 'drizzle-orm';
 import type { PgDatabase, PgQueryResultHKT } from 'drizzle-orm/pg-core';
-import { aggregateRuns, analyzeLevels, type LevelReport } from '../levels/index';
+import { RUBRIC_VERSION, aggregateRuns, analyzeLevels, type LevelReport } from '../levels/index';
+import { audit } from './audit';
 import * as t from './db/schema';
 import { bandReasonOf } from '../components/bands';
 
@@ -94,6 +95,7 @@ export async function regradeRevision(db: Db, revisionId: number, now = new Date
 			fullScaleMv: run.fullScaleMv
 		})
 	);
+	// Runs that are not graded (band null, e.g. measured unterminated) are left out by the engine.
 	const agg = aggregateRuns(reports);
 	// The band mark's marker: the worst deviation of the run the band was taken from.
 	const lead = reports[agg.medianRunIndex];
@@ -113,4 +115,72 @@ export async function regradeRevision(db: Db, revisionId: number, now = new Date
 		})
 		.where(eq(t.revisions.id, revisionId));
 	return agg;
+}
+
+/**
+ * The data step that follows a rubric change (run by scripts/migrate.ts after the schema
+ * migrations, so every existing database catches up on its own): every bench run whose
+ * stored report was made with another rubric version is analysed again from its readings,
+ * and every revision graded with another version is regraded. A regrade that moves a
+ * revision's band is written to the audit log (entity 'revision', action 'regraded'), which
+ * is the revision's history. Idempotent: a second call finds nothing to do.
+ */
+export async function regradeStaleReports(db: Db, now = new Date()): Promise<{ runs: number; revisions: number; bandChanges: number }> {
+	const stale = await db
+		.select({ id: t.benchRuns.id, revisionId: t.benchRuns.revisionId, fullScaleMv: t.benchRuns.fullScaleMv })
+		.from(t.benchRuns)
+		.where(or(isNull(t.benchRuns.rubricVersion), ne(t.benchRuns.rubricVersion, RUBRIC_VERSION)));
+	const touched = new Set<number>();
+	if (stale.length) {
+		const readings = await db
+			.select()
+			.from(t.benchReadings)
+			.where(inArray(t.benchReadings.benchRunId, stale.map((r) => r.id)));
+		const byRun = new Map<number, Array<{ ire: number; r: number; g: number; b: number }>>();
+		for (const x of readings) {
+			const list = byRun.get(x.benchRunId) ?? [];
+			list.push({ ire: x.ire, r: x.rMv, g: x.gMv, b: x.bMv });
+			byRun.set(x.benchRunId, list);
+		}
+		for (const run of stale) {
+			const report = analyzeLevels({ steps: byRun.get(run.id) ?? [], fullScaleMv: run.fullScaleMv });
+			await db
+				.update(t.benchRuns)
+				.set({ report, band: report.band, score: report.score, rubricVersion: report.rubricVersion })
+				.where(eq(t.benchRuns.id, run.id));
+			touched.add(run.revisionId);
+		}
+	}
+	const staleRevisions = await db
+		.select({ id: t.revisions.id })
+		.from(t.revisions)
+		.where(and(isNotNull(t.revisions.rubricVersion), ne(t.revisions.rubricVersion, RUBRIC_VERSION), gt(t.revisions.runCount, 0)));
+	for (const r of staleRevisions) touched.add(r.id);
+
+	let bandChanges = 0;
+	for (const revisionId of [...touched].sort((a, b) => a - b)) {
+		const [before] = await db
+			.select({ band: t.revisions.band, score: t.revisions.score, runCount: t.revisions.runCount, rubricVersion: t.revisions.rubricVersion })
+			.from(t.revisions)
+			.where(eq(t.revisions.id, revisionId));
+		if (!before) continue;
+		await regradeRevision(db, revisionId, now);
+		const [after] = await db
+			.select({ band: t.revisions.band, score: t.revisions.score, runCount: t.revisions.runCount, rubricVersion: t.revisions.rubricVersion })
+			.from(t.revisions)
+			.where(eq(t.revisions.id, revisionId));
+		if (after.band !== before.band) {
+			bandChanges++;
+			await audit(db, {
+				actorId: null,
+				action: 'regraded',
+				entity: 'revision',
+				entityId: revisionId,
+				before,
+				after: { ...after, rubricVersion: RUBRIC_VERSION },
+				reason: `Regraded under rubric ${RUBRIC_VERSION} (was ${before.rubricVersion ?? 'none'}): the band changed from ${before.band ?? 'not graded'} to ${after.band ?? 'not graded'}.`
+			});
+		}
+	}
+	return { runs: stale.length, revisions: touched.size, bandChanges };
 }
