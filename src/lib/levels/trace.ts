@@ -225,6 +225,80 @@ function parseField(f: string, decimalComma: boolean): number {
 	return Number.isFinite(v) ? v : NaN;
 }
 
+/** Exact powers of ten (10^0 .. 10^22 are exactly representable as doubles). */
+const POW10 = Float64Array.from({ length: 23 }, (_, i) => 10 ** i);
+
+/**
+ * The number in text[a, b), or NaN when the field is not a plain decimal
+ * number. Reads the digits in place (no substring per field). Up to 15
+ * significant digits and a power of ten up to 22 either way, the value is
+ * one correctly rounded multiplication or division of exact doubles, so it
+ * equals what Number() gives (Clinger's fast path); anything longer falls
+ * back to Number().
+ */
+function numberAt(text: string, a: number, b: number, decimalComma: boolean): number {
+	while (a < b && text.charCodeAt(a) === 32) a++;
+	while (b > a && text.charCodeAt(b - 1) === 32) b--;
+	let i = a;
+	let c = text.charCodeAt(i);
+	const neg = c === 45;
+	if (neg || c === 43) i++;
+	const point = decimalComma ? 44 : 46;
+	let m = 0;
+	let sig = 0;
+	let exp = 0;
+	let digits = 0;
+	let seenPoint = false;
+	for (; i < b; i++) {
+		c = text.charCodeAt(i);
+		if (c >= 48 && c <= 57) {
+			digits++;
+			if (m === 0 && c === 48) {
+				if (seenPoint) exp--;
+				continue;
+			}
+			if (++sig > 15) return slowNumber(text, a, b, decimalComma);
+			m = m * 10 + (c - 48);
+			if (seenPoint) exp--;
+		} else if (c === point && !seenPoint) seenPoint = true;
+		else break;
+	}
+	if (digits === 0) return NaN;
+	if (i < b) {
+		if (c !== 101 && c !== 69) return NaN; // e, E
+		i++;
+		let eneg = false;
+		c = text.charCodeAt(i);
+		if (c === 45 || c === 43) {
+			eneg = c === 45;
+			i++;
+		}
+		let e = 0;
+		let edigits = 0;
+		for (; i < b; i++) {
+			c = text.charCodeAt(i);
+			if (c < 48 || c > 57) return NaN;
+			e = e * 10 + (c - 48);
+			edigits++;
+			if (e > 400) return slowNumber(text, a, b, decimalComma);
+		}
+		if (edigits === 0) return NaN;
+		exp += eneg ? -e : e;
+	}
+	let v: number;
+	if (m === 0) v = 0;
+	else if (exp >= 0 && exp <= 22) v = m * POW10[exp];
+	else if (exp < 0 && exp >= -22) v = m / POW10[-exp];
+	else return slowNumber(text, a, b, decimalComma);
+	return neg ? -v : v;
+}
+
+function slowNumber(text: string, a: number, b: number, decimalComma: boolean): number {
+	const f = text.slice(a, b);
+	const v = Number(decimalComma ? f.replace(',', '.') : f);
+	return Number.isFinite(v) ? v : NaN;
+}
+
 /** Separator and decimal mark, from lines in the middle of the file (data, not preamble). */
 function detectLayout(sample: string[]): Layout {
 	const count = (ch: string) => sample.filter((l) => l.includes(ch)).length;
@@ -269,6 +343,36 @@ function lineStarts(text: string): { starts: Int32Array | Float64Array; count: n
 
 // ---------------------------------------------------------------- plateaus
 
+/**
+ * 1 where max - min of xs over [i - half, i + half] is at most thr (0 near
+ * the ends): sliding minimum and maximum with monotonic deques, O(n).
+ */
+function flatMask(xs: Float64Array, half: number, thr: number): Uint8Array {
+	const n = xs.length;
+	const out = new Uint8Array(n);
+	const span = 2 * half + 1;
+	if (n < span) return out;
+	const maxQ = new Int32Array(n);
+	const minQ = new Int32Array(n);
+	let maxHead = 0;
+	let maxTail = 0;
+	let minHead = 0;
+	let minTail = 0;
+	for (let j = 0; j < n; j++) {
+		const v = xs[j];
+		while (maxTail > maxHead && xs[maxQ[maxTail - 1]] <= v) maxTail--;
+		maxQ[maxTail++] = j;
+		while (minTail > minHead && xs[minQ[minTail - 1]] >= v) minTail--;
+		minQ[minTail++] = j;
+		const start = j - span + 1; // window [start, j], centred on start + half
+		if (start < 0) continue;
+		while (maxQ[maxHead] < start) maxHead++;
+		while (minQ[minHead] < start) minHead++;
+		if (xs[maxQ[maxHead]] - xs[minQ[minHead]] <= thr) out[start + half] = 1;
+	}
+	return out;
+}
+
 interface Run {
 	start: number; // sample index
 	end: number; // exclusive
@@ -305,18 +409,10 @@ function findSteps(
 	const mergeThr = Math.max(6 * sigma, 3);
 	const minLen = Math.max(2 * w, Math.round(n / 150));
 
-	// Flat where the smoothed signal moves less than flatThr across a window.
-	const flat = new Uint8Array(n);
-	for (let i = h; i < n - h; i++) {
-		let lo = Infinity;
-		let hi = -Infinity;
-		for (let j = i - h; j <= i + h; j++) {
-			const v = s[j];
-			if (v < lo) lo = v;
-			if (v > hi) hi = v;
-		}
-		flat[i] = hi - lo <= flatThr ? 1 : 0;
-	}
+	// Flat where the smoothed signal moves less than flatThr across a stretch
+	// of fixed duration (a fraction of the line, so an edge is never missed
+	// however finely it is sampled).
+	const flat = flatMask(s, Math.max(h, Math.round(n / 600)), flatThr);
 	const levelOf = (p: { start: number; end: number }) => {
 		const [a, b] = central(p);
 		return medianOf(mv, a, b, scratch);
@@ -519,9 +615,8 @@ export function importTrace(csvText: string, options: ImportTraceOptions = {}): 
 			while (c < width) {
 				let b = text.indexOf(sep, a);
 				if (b === -1 || b > e) b = e;
-				const f = text.slice(a, b);
-				const v = f.length === 0 ? NaN : Number(dc ? f.replace(',', '.') : f);
-				if (!Number.isFinite(v)) {
+				const v = numberAt(text, a, b, dc);
+				if (v !== v) {
 					bad = true;
 					break;
 				}
