@@ -3,7 +3,7 @@
  * always what the level engine (src/lib/levels) computes from the stored readings.
  * Free of `$lib`/`$env` imports so the seed and jobs can use it under tsx.
  */
-import { and, eq, gt, inArray, isNotNull, isNull, ne, or } from 'drizzle-orm';
+import { and, desc, eq, gt, inArray, isNotNull, isNull, ne, or } from 'drizzle-orm';
 import type { PgDatabase, PgQueryResultHKT } from 'drizzle-orm/pg-core';
 import { RUBRIC_VERSION, aggregateRuns, analyzeLevels, type LevelReport } from '../levels/index';
 import { audit } from './audit';
@@ -183,4 +183,15 @@ export async function regradeStaleReports(db: Db, now = new Date()): Promise<{ r
 		}
 	}
 	return { runs: stale.length, revisions: touched.size, bandChanges };
+}
+
+/** A revision's grade history: the regrades that moved its band, newest first (from the audit log). */
+export async function gradeHistory(db: Db, revisionId: number) {
+	const rows = await db
+		.select({ at: t.auditLog.at, before: t.auditLog.before, after: t.auditLog.after, reason: t.auditLog.reason })
+		.from(t.auditLog)
+		.where(and(eq(t.auditLog.entity, 'revision'), eq(t.auditLog.entityId, String(revisionId)), eq(t.auditLog.action, 'regraded')))
+		.orderBy(desc(t.auditLog.at));
+	type Grade = { band: t.Band | null; score: number | null; rubricVersion: string | null };
+	return rows.map((r) => ({ at: r.at, before: r.before as Grade, after: r.after as Grade, reason: r.reason ?? '' }));
 }

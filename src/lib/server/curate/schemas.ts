@@ -72,7 +72,7 @@ const readingShape = Object.fromEntries(
 			readingKey(c, ire),
 			z
 				.number({ message: 'A number in mV.' })
-				.min(0, 'Not below 0 mV: readings are mV above blanking.')
+				.min(-100, 'Not more than 100 mV below blanking: readings are mV above blanking (0 mV).')
 				.max(2000, 'Not above 2000 mV.')
 				.optional()
 		])

@@ -2,6 +2,7 @@ import { error, fail, redirect } from '@sveltejs/kit';
 import { requireRole } from '$lib/server/auth/guard';
 import { db } from '$lib/server/db';
 import { runsOfRevision, supersedeBenchRun } from '$lib/server/curate/bench';
+import { gradeHistory } from '$lib/server/grading';
 import { getRevision, listChips, setRevisionRetired, updateRevision } from '$lib/server/curate/catalogue';
 import { attempt, emptyForm, idParam, invalid, validate } from '$lib/server/curate/forms';
 import { revisionSchema, supersedeSchema } from '$lib/server/curate/schemas';
@@ -13,10 +14,11 @@ export const load: PageServerLoad = async (event) => {
 	const found = await getRevision(db, id);
 	if (!found) error(404, 'No such revision.');
 	const { revision } = found;
-	const [runs, chips] = await Promise.all([runsOfRevision(db, id), listChips(db)]);
+	const [runs, chips, history] = await Promise.all([runsOfRevision(db, id), listChips(db), gradeHistory(db, id)]);
 	return {
 		...found,
 		runs,
+		history,
 		chips: chips.map((c) => ({ value: c.id, label: `${c.name} (${c.maker})${c.retiredAt ? ', retired' : ''}` })),
 		form: await emptyForm(revisionSchema, {
 			converterId: revision.converterId,
