@@ -1,7 +1,7 @@
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { LevelInputError, analyzeLevels, importTrace, traceToLevelInput } from '../../../src/lib/levels';
+import { LevelInputError, TRACE_WARNING_WORDS, analyzeLevels, importTrace, traceToLevelInput } from '../../../src/lib/levels';
 import { renderCsv, synthesize } from '../../../fixtures/traces/generate';
 import { LINE, TRACE_SPECS } from '../../../fixtures/traces/specs';
 
@@ -44,10 +44,14 @@ describe('importTrace recovers the levels within 2 mV', () => {
 			c.levels.forEach((mv, k) => {
 				expect(Math.abs(t.steps[k][c.name]! - mv)).toBeLessThan(2);
 				expect(plateaus[k].ire).toBe(10 * k);
-				// the stretch used lies inside the nominal step (common-practice line timing in specs.ts)
-				const start = spec.t0 + (LINE.leadBlankUs + LINE.syncUs + LINE.backPorchUs + k * LINE.stepUs) * 1e-6;
-				expect(plateaus[k].start).toBeGreaterThanOrEqual(start - (k === 0 ? 6e-6 : 0.2e-6));
-				expect(plateaus[k].end).toBeLessThanOrEqual(start + LINE.stepUs * 1e-6 + 0.2e-6);
+				// the stretch used lies inside the nominal step (common-practice line timing in specs.ts);
+				// on a falling staircase 0 IRE is the last step in time, next to the front porch
+				const slot = spec.descending ? 10 - k : k;
+				const start = spec.t0 + (LINE.leadBlankUs + LINE.syncUs + LINE.backPorchUs + slot * LINE.stepUs) * 1e-6;
+				const blankSide = spec.descending ? 0 : k === 0 ? 6e-6 : 0;
+				const porchSide = spec.descending && k === 0 ? 20e-6 : 0;
+				expect(plateaus[k].start).toBeGreaterThanOrEqual(start - blankSide - 0.2e-6);
+				expect(plateaus[k].end).toBeLessThanOrEqual(start + LINE.stepUs * 1e-6 + porchSide + 0.2e-6);
 			});
 		}
 		// the noise it saw is the noise we added
@@ -112,6 +116,45 @@ describe('importTrace recovers the levels within 2 mV', () => {
 		const report = analyzeLevels(traceToLevelInput(crushed, { copyMissing: true }));
 		expect(report.band).toBe('failing');
 		expect(report.findings.find((f) => f.code === 'shadows-dark')!.text).toMatch(/^Shadows too dark: 28(\.\d)? mV at 10 IRE/);
+	});
+});
+
+describe('scope exports as they really come (fixtures made by generate.ts, our own invented layouts)', () => {
+	it('skips a preamble of scope settings and a sample-number column, and says so', () => {
+		const t = importTrace(read('preamble-index-3ch.csv'));
+		expect(t.warnings).toEqual(expect.arrayContaining(['preamble-skipped', 'index-column-skipped']));
+		expect(t.channels.map((c) => c.column)).toEqual(['Red (V)', 'Green (V)', 'Blue (V)']);
+		expect(t.steps[10]).toMatchObject({ ire: 100 });
+		expect(t.steps[10].r!).toBeCloseTo(702, -0.5);
+		// the time column (not the index) dates the plateaus: microseconds, not sample numbers
+		expect(t.plateaus.g![0].start).toBeLessThan(1e-3);
+	});
+	it('semicolon with a decimal point and a units row under the names', () => {
+		const t = importTrace(read('semicolon-point-unitsrow-3ch.csv'));
+		expect(t.channels[0]).toMatchObject({ channel: 'r', column: 'Red', unit: 'mV', unitFrom: 'header' });
+		expect(t.steps[10].g!).toBeCloseTo(680, -0.5);
+	});
+	it('tab separator with a decimal comma and trailing empty fields', () => {
+		const t = importTrace(read('tab-comma-trailing-3ch.csv'));
+		expect(t.channels.map((c) => c.unit)).toEqual(['V', 'V', 'V']);
+		expect(t.steps[10].b!).toBeCloseTo(730, -0.5);
+		expect(t.warnings).not.toContain('rows-skipped');
+	});
+	it('a falling staircase is read in IRE order (0 IRE first) with a warning', () => {
+		const t = importTrace(read('descending-3ch.csv'));
+		expect(t.warnings).toContain('descending-staircase');
+		expect(t.steps.map((s) => s.ire)).toEqual([0, 10, 20, 30, 40, 50, 60, 70, 80, 90, 100]);
+		expect(t.steps[2].b!).toBeCloseTo(150, -0.5); // the odd step keeps its place
+		expect(t.steps[10].r!).toBeCloseTo(700, -0.5);
+		expect(t.plateaus.r![0].start).toBeGreaterThan(t.plateaus.r![10].start);
+		expect(TRACE_WARNING_WORDS['descending-staircase']).toMatch(/IRE order/);
+	});
+	it('a staircase with another step count is refused saying how many steps it found, never relabelled', () => {
+		rejects(read('bad-9-steps.csv'), /found 9 step levels rising one after another, expected 11/);
+		rejects(read('bad-16-steps.csv'), /^16 steps on green \(Green \(V\)\), expected 11: found a staircase of 16 levels/);
+		// falling the other way round too
+		const spec = TRACE_SPECS.find((s) => s.file === 'bad-16-steps.csv')!;
+		rejects(renderCsv({ ...spec, descending: true }), /^16 steps on green .* 16 levels falling/);
 	});
 });
 
