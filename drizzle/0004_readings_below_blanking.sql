@@ -1,0 +1,2 @@
+ALTER TABLE "bench_reading" DROP CONSTRAINT "bench_reading_mv_range";--> statement-breakpoint
+ALTER TABLE "bench_reading" ADD CONSTRAINT "bench_reading_mv_range" CHECK ("bench_reading"."r_mv" between -100 and 2000 and "bench_reading"."g_mv" between -100 and 2000 and "bench_reading"."b_mv" between -100 and 2000);
