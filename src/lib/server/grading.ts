@@ -97,8 +97,8 @@ export async function regradeRevision(db: Db, revisionId: number, now = new Date
 	);
 	// Runs that are not graded (band null, e.g. measured unterminated) are left out by the engine.
 	const agg = aggregateRuns(reports);
-	// The band mark's marker: the worst deviation of the run the band was taken from.
-	const lead = reports[agg.medianRunIndex];
+	// The band mark's marker: the worst deviation of the run the band was taken from (none when no run is graded).
+	const lead = agg.medianRunIndex === null ? null : reports[agg.medianRunIndex];
 	await db
 		.update(t.revisions)
 		.set({
@@ -106,8 +106,8 @@ export async function regradeRevision(db: Db, revisionId: number, now = new Date
 			score: agg.medianScore,
 			scoreMin: agg.minScore,
 			scoreMax: agg.maxScore,
-			deviationIre: lead.worstDeviationIre,
-			bandReason: bandReasonOf({ band: agg.band, worstDeviationIre: lead.worstDeviationIre, failReasons: lead.failReasons }),
+			deviationIre: lead?.worstDeviationIre ?? null,
+			bandReason: lead ? bandReasonOf({ band: agg.band, worstDeviationIre: lead.worstDeviationIre, failReasons: lead.failReasons }) : null,
 			runCount: agg.count,
 			rubricVersion: agg.rubricVersion,
 			gradedAt: now,
