@@ -9,7 +9,7 @@ import { FieldError, pick, type Actor, type Database } from './curate/common';
 import { auditLog, type chips } from './db/schema';
 import type * as schema from './db/schema';
 
-// eslint-disable-next-line @typescript-eslint/no-explicit-any
+// eslint-disable-next-line @typescript-eslint/no-explicit-any -- any pool or transaction handle over this schema (Drizzle's third type argument)
 type Db = PgDatabase<PgQueryResultHKT, typeof schema, any>;
 
 export interface AuditEntry {
