@@ -1,16 +1,21 @@
 #!/usr/bin/env node
 // `npm test`: bootstrap like `npm start`, then vitest (unit + integration against a real
 // PostgreSQL, fake SMTP and fake shops) and Playwright against the built app.
-// Extra arguments pick parts: `npm test -- check` (svelte-check), `npm test -- unit` (vitest)
-// or `npm test -- e2e` (Playwright).
-import { existsSync, mkdirSync, readFileSync, rmSync } from 'node:fs';
+// Extra arguments pick parts: `npm test -- lint` (Prettier + ESLint), `npm test -- check`
+// (svelte-check), `npm test -- unit` (vitest) or `npm test -- e2e` (Playwright).
+import { mkdirSync, readFileSync, rmSync } from 'node:fs';
 import { resolve } from 'node:path';
 import { appEnv, profile, ROOT } from './lib/profiles.mjs';
 import { log, portIsFree, run, startService, stopAll, waitForHttp } from './lib/run.mjs';
 import { ensureChromium, ensureDatabase, ensureJava, ensureNodeModules, startCluster, stopCluster } from './lib/bootstrap.mjs';
 
+// The switch for lint in a plain `npm test`: off until the whole tree has been through
+// `npm run format` once (one commit, after the parallel branches have landed); then set it to
+// true so `npm test` runs `npm run lint` first. `npm test -- lint` runs it either way.
+const LINT_IN_FULL_RUN = false;
+
 const parts = process.argv.slice(2);
-const want = (part) => parts.length === 0 || parts.includes(part);
+const want = (part) => (parts.length === 0 ? part !== 'lint' || LINT_IN_FULL_RUN : parts.includes(part));
 
 const p = profile('test');
 const e2e = { ...p, database: 'scopegrade_e2e', databaseUrl: p.databaseUrl.replace(/\/scopegrade_test$/, '/scopegrade_e2e') };
@@ -30,6 +35,16 @@ function readJson(file) {
 }
 
 async function main() {
+	if (want('lint')) {
+		log('lint: Prettier (formatting) and ESLint');
+		try {
+			run('npm', ['run', 'lint', '--silent'], { cwd: ROOT });
+		} catch {
+			failed = true;
+		}
+		// Lint alone needs no database or services.
+		if (parts.length === 1) return;
+	}
 	for (const port of [p.appPort, p.inboxPort, p.smtpPort, p.shopsPort, p.s3Port]) {
 		if (!(await portIsFree(port))) throw new Error(`port ${port} is in use: is another test run going on?`);
 	}

@@ -7,7 +7,7 @@
  * and an equal-tailed credible interval from the Beta quantile function (jStat.beta.inv).
  */
 // jstat 1.9.6 ships no type declarations; its CommonJS export is the jStat object itself.
-// @ts-ignore -- untyped package, typed locally below
+// @ts-expect-error -- untyped package (no declaration file), typed locally below
 import jStatModule from 'jstat';
 
 interface JStatBeta {

@@ -2,10 +2,12 @@
  * Money across regions: converting prices through dated exchange rates and picking the best
  * buyable offer for a visitor's region. Pure: the database side is src/lib/server/queries/offers.ts.
  */
-import { minorDigits } from './feeds/currency';
+import { REGIONS, type Region, type StockState } from './enums';
+import { formatMoney, minorDigits, toMinor } from './money';
 
-export type Region = 'na' | 'eu' | 'uk' | 'jp' | 'au';
-export const REGION_CODES: readonly Region[] = ['na', 'eu', 'uk', 'jp', 'au'];
+export { REGIONS as REGION_CODES, type Region, type StockState };
+// Formatting and parsing money is the money helper's (src/lib/money.ts); re-exported for callers here.
+export { formatMoney, toMinor };
 export const REGION_LABELS: Record<Region, string> = {
 	na: 'North America',
 	eu: 'European Union',
@@ -30,21 +32,6 @@ export function convertMinor(amountMinor: number, from: string, to: string, rate
 	const major = amountMinor / 10 ** minorDigits(from);
 	return Math.round((major / rFrom) * rTo * 10 ** minorDigits(to));
 }
-
-/** Format minor units for people: "12.90 EUR", "3,480 JPY". */
-export function formatMoney(amountMinor: number, currency: string): string {
-	const digits = minorDigits(currency);
-	const major = amountMinor / 10 ** digits;
-	return `${major.toLocaleString('en-GB', { minimumFractionDigits: digits, maximumFractionDigits: digits })} ${currency}`;
-}
-
-/** Parse "12.90" in a currency into minor units; null when it is not a positive amount. */
-export function toMinor(major: number, currency: string): number | null {
-	if (!Number.isFinite(major) || major <= 0) return null;
-	return Math.round(major * 10 ** minorDigits(currency));
-}
-
-export type StockState = 'in_stock' | 'out_of_stock' | 'preorder' | 'backorder' | 'discontinued' | 'unknown';
 
 /** In stock and preorder can be bought now; the rest cannot. */
 export function isBuyable(stock: StockState): boolean {

@@ -1,6 +1,6 @@
-/** Roles in ascending order of power; a higher role can do everything a lower one can. */
-export const ROLES = ['member', 'curator', 'admin'] as const;
-export type Role = (typeof ROLES)[number];
+import { ROLES, type Role } from './enums';
+
+export { ROLES, type Role };
 
 /** True when `role` is at least `needed` (admin >= curator >= member). */
 export function hasRole(role: Role | null | undefined, needed: Role): boolean {

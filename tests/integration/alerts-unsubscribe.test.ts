@@ -21,7 +21,7 @@ vi.mock('$env/dynamic/private', () => ({ env: process.env }));
 
 let env: Awaited<ReturnType<typeof seededDatabase>>;
 let mail: Awaited<ReturnType<typeof fakeMail>>;
-// eslint-disable-next-line @typescript-eslint/no-explicit-any
+// eslint-disable-next-line @typescript-eslint/no-explicit-any -- the route module, imported at run time
 let route: any;
 const hook = createAlertHook({ quietHours: 0 });
 const t0 = new Date(Date.now() + hours(1));

@@ -6,7 +6,7 @@
 import { eq } from 'drizzle-orm';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import * as t from '../../src/lib/server/db/schema';
-import { addRate, changeRole, createShop, updateShop } from '../../src/lib/server/curate/admin';
+import { addRate, changeRole, createShop, updateShop } from '../../src/lib/server/admin';
 import { browseAudit } from '../../src/lib/server/curate/audit-log';
 import {
 	createChip,

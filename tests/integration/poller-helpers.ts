@@ -29,12 +29,22 @@ export async function startShopsOnFreePorts(options: Omit<FakeShopsOptions, 'por
 	throw lastErr;
 }
 
+/** What the fake shops' control endpoint answers; each endpoint fills the members it concerns. */
+export interface ControlReply {
+	clock: number;
+	listings: { path: string; status: string; priceMinor: number; stock: string }[];
+	faults: { kind: string; source: string }[];
+	requests: RequestLogEntry[];
+	cleared: number;
+	error: string;
+}
+
 export interface World {
 	db: Database;
 	url: string;
 	shops: FakeShops;
 	clock: { now: () => Date; set(d: Date): void; advance(ms: number): void };
-	control(method: string, path: string, body?: unknown): Promise<any>;
+	control(method: string, path: string, body?: unknown): Promise<ControlReply>;
 	/** Requests the fake shops logged since the last `markRequests()` (optionally one shop's). */
 	requests(shop?: string): Promise<RequestLogEntry[]>;
 	markRequests(): Promise<void>;
@@ -59,7 +69,7 @@ export async function createWorld(dbName: string, shopOptions: Omit<FakeShopsOpt
 			headers: body === undefined ? undefined : { 'Content-Type': 'application/json' },
 			body: body === undefined ? undefined : JSON.stringify(body)
 		});
-		return res.json();
+		return (await res.json()) as ControlReply;
 	};
 	const world: World = {
 		db: database.db,

@@ -11,6 +11,7 @@ import { LISTINGS, SHOPS } from '../../src/lib/demo/scenario';
 import { extractOffer, isAllowed, parseRobots, robotsFromFetch, type ExtractResult } from '../../src/lib/feeds';
 import { FAKE_SHOP_FEEDS } from '../../fixtures/shops/feeds';
 import { startFakeShops, type FakeShops } from '../../fixtures/shops/server';
+import type { ControlReply } from './poller-helpers';
 
 const UA = 'ScopegradeBot/0.1 (+https://scopegrade.test/bot; test)';
 let shops: FakeShops;
@@ -35,7 +36,7 @@ const control = async (method: string, path: string, body?: unknown) => {
 		headers: body === undefined ? undefined : { 'Content-Type': 'application/json' },
 		body: body === undefined ? undefined : JSON.stringify(body)
 	});
-	return { status: res.status, json: (await res.json()) as any };
+	return { status: res.status, json: (await res.json()) as ControlReply };
 };
 
 const get = (shop: string, path: string, init: RequestInit = {}) =>
@@ -71,7 +72,7 @@ describe('every shop serves its listings in its own format', () => {
 		const { status, result } = await read(shop as string, path as string);
 		expect(status).toBe(200);
 		const s = SHOPS.find((x) => x.slug === shop)!;
-		expect(result).toMatchObject({ ok: true, priceMinor: (listing as any).priceMinor, currency: s.currency, stock: (listing as any).stock, via: s.format });
+		expect(result).toMatchObject({ ok: true, priceMinor: (listing as (typeof LISTINGS)[number]).priceMinor, currency: s.currency, stock: (listing as (typeof LISTINGS)[number]).stock, via: s.format });
 	});
 
 	it('kumo-parts prices are integer yen (ISO 4217: JPY has 0 minor digits)', async () => {
@@ -137,7 +138,7 @@ describe('scenario clock and scripted changes', () => {
 		expect((await get('kanalhaus', '/artikel/q-cast-mini')).status).toBe(410);
 		await control('POST', '/listing', { shop: 'kumo-parts', path: '/api/products/KP-1002', status: 'gone404' });
 		expect((await get('kumo-parts', '/api/products/KP-1002')).status).toBe(404);
-		expect((await control('GET', '/state')).json.listings.find((l: any) => l.path === '/artikel/q-cast-mini').status).toBe('gone410');
+		expect((await control('GET', '/state')).json.listings.find((l) => l.path === '/artikel/q-cast-mini')?.status).toBe('gone410');
 	});
 
 	it('a redirect answers 301 with Location, and the new path serves the product (RFC 9110 15.4.2)', async () => {
@@ -279,7 +280,7 @@ describe('conditional requests and the request log', () => {
 		const etag = first.headers.get('etag')!;
 		await get('wattle-and-wire', '/shop/beam-bridge-pro', { headers: { 'If-None-Match': etag } });
 		const { json } = await control('GET', '/requests?shop=wattle-and-wire');
-		const entries = json.requests.filter((e: any) => e.path === '/shop/beam-bridge-pro');
+		const entries = json.requests.filter((e) => e.path === '/shop/beam-bridge-pro');
 		expect(entries).toHaveLength(2);
 		expect(entries[0]).toMatchObject({ shop: 'wattle-and-wire', method: 'GET', userAgent: UA, status: 200, ifNoneMatch: null, minute: 0 });
 		expect(entries[1]).toMatchObject({ status: 304, ifNoneMatch: etag });
@@ -292,7 +293,7 @@ describe('conditional requests and the request log', () => {
 		await control('POST', '/listing', { shop: 'thamesbit', path: '/item/loop-rgb', priceMinor: 999 });
 		const { json } = await control('POST', '/reset');
 		expect(json.faults).toEqual([]);
-		expect(json.listings.find((l: any) => l.path === '/item/loop-rgb').priceMinor).toBe(1595);
+		expect(json.listings.find((l) => l.path === '/item/loop-rgb')?.priceMinor).toBe(1595);
 		expect((await control('GET', '/requests')).json.requests).toEqual([]);
 	});
 });

@@ -4,11 +4,11 @@
  * band's deviation limit and a marker at the worst deviation. Order is best to worst.
  * Pure TypeScript: safe to import anywhere (the browser, the e-mail templates, the API).
  */
+import { BANDS, isOneOf, type Band } from '../enums';
 import { RUBRIC } from '../levels/rubric';
 
-export const BANDS = ['exact', 'close', 'fair', 'poor', 'failing'] as const;
-
-export type Band = (typeof BANDS)[number];
+// The list itself is declared once, in src/lib/enums.ts.
+export { BANDS, type Band };
 
 export const BAND_LABELS: Readonly<Record<Band, string>> = {
 	exact: 'Exact',
@@ -28,7 +28,7 @@ export const BAND_SUMMARIES: Readonly<Record<Band, string>> = {
 };
 
 export function isBand(value: unknown): value is Band {
-	return typeof value === 'string' && (BANDS as readonly string[]).includes(value);
+	return isOneOf(BANDS, value);
 }
 
 /** "Exact" ... "Failing"; null or unknown -> "Not graded". */
@@ -39,16 +39,6 @@ export function bandLabel(band: Band | null | undefined): string {
 /** 0 for Exact ... 4 for Failing; ungraded sorts last (5). */
 export function bandRank(band: Band | null | undefined): number {
 	return band && isBand(band) ? BANDS.indexOf(band) : BANDS.length;
-}
-
-/** Sort comparator, best band first, ungraded last. */
-export function compareBands(a: Band | null | undefined, b: Band | null | undefined): number {
-	return bandRank(a) - bandRank(b);
-}
-
-/** True when `band` is `min` or better (e.g. "Close or better"). */
-export function bandAtLeast(band: Band | null | undefined, min: Band): boolean {
-	return bandRank(band) <= bandRank(min);
 }
 
 /** A band set by a rule or a limit rather than by where the deviation falls on the ruler. */

@@ -1,14 +1,7 @@
-/** Stock states of a shop listing (schema.org ItemAvailability maps onto these). */
-export const STOCK_STATES = [
-	'in_stock',
-	'preorder',
-	'backorder',
-	'out_of_stock',
-	'discontinued',
-	'unknown'
-] as const;
+/** Stock states of a shop listing in the UI; the list itself is in src/lib/enums.ts. */
+import { isOneOf, STOCK_STATES, type StockState } from '../enums';
 
-export type StockState = (typeof STOCK_STATES)[number];
+export { STOCK_STATES, type StockState };
 
 export const STOCK_LABELS: Readonly<Record<StockState, string>> = {
 	in_stock: 'In stock',
@@ -20,14 +13,9 @@ export const STOCK_LABELS: Readonly<Record<StockState, string>> = {
 };
 
 export function isStockState(value: unknown): value is StockState {
-	return typeof value === 'string' && (STOCK_STATES as readonly string[]).includes(value);
+	return isOneOf(STOCK_STATES, value);
 }
 
 export function stockLabel(state: string | null | undefined): string {
 	return isStockState(state) ? STOCK_LABELS[state] : STOCK_LABELS.unknown;
-}
-
-/** Can someone place an order now (in stock, pre-order or backorder)? */
-export function isBuyable(state: string | null | undefined): boolean {
-	return state === 'in_stock' || state === 'preorder' || state === 'backorder';
 }

@@ -6,17 +6,12 @@
  * the fake shops (fixtures/shops) and tests all read one source of truth.
  */
 
-export type Region = 'na' | 'eu' | 'uk' | 'jp' | 'au';
-export type FeedFormat = 'jsonld' | 'microdata' | 'selectors' | 'api';
-export type DemoStock = 'in_stock' | 'out_of_stock' | 'preorder' | 'backorder' | 'discontinued';
+import type { Region, StockState } from '../enums';
 
-export const REGIONS: Record<Region, { label: string; currency: string }> = {
-	na: { label: 'North America', currency: 'USD' },
-	eu: { label: 'European Union', currency: 'EUR' },
-	uk: { label: 'United Kingdom', currency: 'GBP' },
-	jp: { label: 'Japan', currency: 'JPY' },
-	au: { label: 'Australia', currency: 'AUD' }
-};
+export type { Region };
+export type FeedFormat = 'jsonld' | 'microdata' | 'selectors' | 'api';
+/** A shop page always says something about stock; `unknown` is only what we conclude from an unreadable one. */
+export type DemoStock = Exclude<StockState, 'unknown'>;
 
 /** Chip behaviour used to synthesise bench readings: out = gain * expected + offset, per channel. */
 export interface DemoChip {

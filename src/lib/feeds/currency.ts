@@ -2,52 +2,10 @@
  * Money on shop pages: ISO 4217 minor units, currency symbols, and turning price text into an
  * integer amount of minor units. Integers all the way: a float cent is how price history drifts.
  */
+import { formatMinor, isKnownCurrencyCode, MINOR_UNITS, minorDigits } from '../money';
 
-/**
- * ISO 4217 minor-unit digits (the "exponent") for the currencies we expect, plus a few with 0 or 3
- * digits so the table is not accidentally "everything is 2". Unknown codes default to 2.
- */
-export const MINOR_UNITS: Readonly<Record<string, number>> = {
-	USD: 2,
-	EUR: 2,
-	GBP: 2,
-	JPY: 0,
-	AUD: 2,
-	CAD: 2,
-	CHF: 2,
-	SEK: 2,
-	NOK: 2,
-	DKK: 2,
-	PLN: 2,
-	NZD: 2,
-	KRW: 0,
-	CZK: 2,
-	HUF: 2,
-	CNY: 2,
-	HKD: 2,
-	SGD: 2,
-	INR: 2,
-	MXN: 2,
-	BRL: 2,
-	ISK: 0,
-	CLP: 0,
-	VND: 0,
-	BHD: 3,
-	KWD: 3,
-	JOD: 3,
-	OMR: 3,
-	TND: 3
-};
-
-/** Minor-unit digits for an ISO 4217 code (default 2 for codes not in the table). */
-export function minorDigits(currency: string): number {
-	return MINOR_UNITS[currency.toUpperCase()] ?? 2;
-}
-
-/** True when the string looks like an ISO 4217 alphabetic code we know. */
-export function isKnownCurrencyCode(code: string): boolean {
-	return Object.prototype.hasOwnProperty.call(MINOR_UNITS, code.toUpperCase());
-}
+// Minor digits and plain decimal formatting live in the one money helper (src/lib/money.ts).
+export { formatMinor, isKnownCurrencyCode, MINOR_UNITS, minorDigits };
 
 /**
  * Symbols and local abbreviations, longest first so "A$" wins over "$". A symbol maps to every
@@ -237,14 +195,6 @@ function fromDecimalParts(decimal: string, digits: number, currency: string, not
 	if (!Number.isSafeInteger(minor)) return { ok: false, reason: `price ${decimal} is too large` };
 	if (minor <= 0) return { ok: false, reason: `price ${decimal} is zero; treating it as unreadable, not free` };
 	return { ok: true, minor, notes };
-}
-
-/** Format integer minor units as a plain decimal string ("2499" JPY -> "2499", 2499 USD -> "24.99"). */
-export function formatMinor(minor: number, currency: string): string {
-	const digits = minorDigits(currency);
-	if (digits === 0) return String(minor);
-	const s = String(Math.abs(minor)).padStart(digits + 1, '0');
-	return `${minor < 0 ? '-' : ''}${s.slice(0, -digits)}.${s.slice(-digits)}`;
 }
 
 export type PriceParse =

@@ -3,17 +3,9 @@
  * poller job and the curator's "test read" run exactly the same code.
  */
 
-/** What a listing's stock looks like to a buyer. Mirrors the vocabulary in the design notes. */
-export type StockState = 'in_stock' | 'out_of_stock' | 'preorder' | 'backorder' | 'discontinued' | 'unknown';
+import { STOCK_STATES, type StockState } from '../enums';
 
-export const STOCK_STATES: readonly StockState[] = [
-	'in_stock',
-	'out_of_stock',
-	'preorder',
-	'backorder',
-	'discontinued',
-	'unknown'
-] as const;
+export { STOCK_STATES, type StockState };
 
 /** How a shop publishes its offers; the listing's configured format says what we expect to find. */
 export type OfferFormat = 'jsonld' | 'microdata' | 'selectors' | 'api';

@@ -15,10 +15,10 @@
  *   reading; readings that look like volts are refused.
  */
 
-export type Band = 'exact' | 'close' | 'fair' | 'poor' | 'failing';
+import { BANDS, type Band } from '../enums';
 
-/** Bands from best to worst; index = rank (0 best). */
-export const BANDS: readonly Band[] = ['exact', 'close', 'fair', 'poor', 'failing'] as const;
+/** Bands from best to worst (declared in src/lib/enums.ts); index = rank (0 best). */
+export { BANDS, type Band };
 
 export const RUBRIC = {
 	version: 'sg-levels-2',

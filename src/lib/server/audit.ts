@@ -1,12 +1,15 @@
 /**
  * The audit log: every curator and admin change records who, when, what, before and after.
- * Call inside the same transaction as the change so the two land together or not at all.
+ * Call inside the same transaction as the change so the two land together or not at all;
+ * `auditedUpdate` does the whole lock-update-log step for an edit of one row.
  */
-import type { PgDatabase, PgQueryResultHKT } from 'drizzle-orm/pg-core';
-import { auditLog } from './db/schema';
+import { eq, type InferInsertModel, type InferSelectModel } from 'drizzle-orm';
+import type { AnyPgColumn, PgDatabase, PgQueryResultHKT, PgTable } from 'drizzle-orm/pg-core';
+import { FieldError, pick, type Actor, type Database } from './curate/common';
+import { auditLog, type chips } from './db/schema';
 import type * as schema from './db/schema';
 
-// eslint-disable-next-line @typescript-eslint/no-explicit-any
+// eslint-disable-next-line @typescript-eslint/no-explicit-any -- any pool or transaction handle over this schema (Drizzle's third type argument)
 type Db = PgDatabase<PgQueryResultHKT, typeof schema, any>;
 
 export interface AuditEntry {
@@ -36,4 +39,53 @@ export async function audit(db: Db, entry: AuditEntry) {
 /** Dates and bigints survive as strings; the log stores plain JSON. */
 function toJson(value: unknown) {
 	return JSON.parse(JSON.stringify(value, (_k, v) => (typeof v === 'bigint' ? v.toString() : v)));
+}
+
+/** A table whose rows have an integer `id` (every audited curator and admin table but `user`). */
+type TableWithId = PgTable & { id: AnyPgColumn };
+
+export interface AuditedUpdate<T extends TableWithId> {
+	table: T;
+	/** Audit entity name; also names the row in the 404 ("That shop does not exist."). */
+	entity: string;
+	id: number;
+	/** The columns snapshotted before and after. */
+	fields: readonly (keyof InferSelectModel<T>)[];
+	/** The new values, from the locked row; may throw a FieldError to refuse the change. */
+	set: (before: InferSelectModel<T>) => Partial<InferInsertModel<T>>;
+	/** Past-tense verb for the log, default 'updated'; a function can read the change. */
+	action?: string | ((before: InferSelectModel<T>, after: InferSelectModel<T>) => string);
+	reason?: string | null;
+}
+
+/**
+ * The audited update, written once: in one transaction, lock the row (404 FieldError when it is
+ * not there), update it, and log the chosen fields before and after. Returns the updated row.
+ */
+export async function auditedUpdate<T extends TableWithId>(db: Database, actor: Actor, spec: AuditedUpdate<T>): Promise<InferSelectModel<T>> {
+	type Row = InferSelectModel<T>;
+	// Drizzle cannot type queries over a generic table; every table here has an integer id, as chips do.
+	const table = spec.table as unknown as typeof chips;
+	return db.transaction(async (tx) => {
+		const [locked] = await tx.select().from(table).where(eq(table.id, spec.id)).for('update');
+		if (!locked) throw new FieldError(null, `That ${spec.entity} does not exist.`, 404);
+		const before = locked as unknown as Row;
+		const [updated] = await tx
+			.update(table)
+			.set(spec.set(before) as never)
+			.where(eq(table.id, spec.id))
+			.returning();
+		const after = updated as unknown as Row;
+		const action = typeof spec.action === 'function' ? spec.action(before, after) : (spec.action ?? 'updated');
+		await audit(tx, {
+			actorId: actor.id,
+			action,
+			entity: spec.entity,
+			entityId: spec.id,
+			before: pick(before, spec.fields),
+			after: pick(after, spec.fields),
+			reason: spec.reason
+		});
+		return after;
+	});
 }

@@ -11,7 +11,7 @@ import * as t from './db/schema';
 import { bandReasonOf } from '../components/bands';
 
 // Accepts both the pool-level db and a transaction.
-// eslint-disable-next-line @typescript-eslint/no-explicit-any
+// eslint-disable-next-line @typescript-eslint/no-explicit-any -- any pool or transaction handle over this schema (Drizzle's third type argument)
 type Db = PgDatabase<PgQueryResultHKT, typeof t, any>;
 
 export interface Reading {

@@ -1,9 +1,7 @@
 import { fail, redirect } from '@sveltejs/kit';
-import { count } from 'drizzle-orm';
+import { changeRole, listUsers, roleCounts } from '$lib/server/admin';
 import { requireRole } from '$lib/server/auth/guard';
 import { db } from '$lib/server/db';
-import { users } from '$lib/server/db/schema';
-import { changeRole, listUsers } from '$lib/server/curate/admin';
 import { attempt, validate } from '$lib/server/curate/forms';
 import { roleChangeSchema } from '$lib/server/curate/schemas';
 import type { Actions, PageServerLoad } from './$types';
@@ -12,7 +10,7 @@ export const load: PageServerLoad = async (event) => {
 	const me = requireRole(event, 'admin');
 	const q = (event.url.searchParams.get('q') ?? '').trim().slice(0, 100);
 	const [byRole, people] = await Promise.all([
-		db.select({ role: users.role, n: count() }).from(users).groupBy(users.role),
+		roleCounts(db),
 		listUsers(db, q)
 	]);
 	return { byRole, people, q, meId: me.id };

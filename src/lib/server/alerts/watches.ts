@@ -6,7 +6,7 @@ import { and, asc, eq, inArray, sql } from 'drizzle-orm';
 import { z } from 'zod';
 import { BANDS } from '../../components/bands';
 import { REGION_CODES, toMinor } from '../../pricing';
-import { isKnownCurrencyCode, minorDigits } from '../../feeds/currency';
+import { fitsMinorUnits, isKnownCurrencyCode, minorDigits } from '../../money';
 import * as t from '../db/schema';
 import type { Db } from './db';
 import { isTimeZone } from './schedule';
@@ -49,7 +49,7 @@ export const watchFormSchema = z
 				.refine(isKnownCurrencyCode, { message: 'Use a three-letter currency code such as EUR.' })
 				.optional()
 		),
-		region: z.preprocess(emptyToUndefined, z.enum(REGION_CODES as [string, ...string[]], { message: 'Pick a region from the list.' }).optional()),
+		region: z.preprocess(emptyToUndefined, z.enum(REGION_CODES, { message: 'Pick a region from the list.' }).optional()),
 		needsAudio: checkbox,
 		alsoPriceDrops: checkbox,
 		shopIds: z.preprocess(
@@ -62,10 +62,8 @@ export const watchFormSchema = z
 			ctx.addIssue({ code: 'custom', path: ['priceCurrency'], message: 'Say which currency the price limit is in.' });
 		}
 		if (v.maxPrice !== undefined && v.priceCurrency) {
-			const digits = minorDigits(v.priceCurrency);
-			const scaled = v.maxPrice * 10 ** digits;
-			if (Math.abs(scaled - Math.round(scaled)) > 1e-6) {
-				ctx.addIssue({ code: 'custom', path: ['maxPrice'], message: `${v.priceCurrency} has ${digits} decimal places.` });
+			if (!fitsMinorUnits(v.maxPrice, v.priceCurrency)) {
+				ctx.addIssue({ code: 'custom', path: ['maxPrice'], message: `${v.priceCurrency} has ${minorDigits(v.priceCurrency)} decimal places.` });
 			}
 		}
 		if (!v.converterSlug && !v.minBand && v.maxPrice === undefined) {

@@ -50,13 +50,3 @@ export async function browseAudit(db: Database, filter: AuditFilter = {}) {
 		entities: entities.map((e) => e.entity)
 	};
 }
-
-/** The fields that changed between two snapshots (for a compact before/after view). */
-export function changedFields(before: unknown, after: unknown): Array<{ field: string; before: unknown; after: unknown }> {
-	const b = (before && typeof before === 'object' ? before : {}) as Record<string, unknown>;
-	const a = (after && typeof after === 'object' ? after : {}) as Record<string, unknown>;
-	const keys = [...new Set([...Object.keys(b), ...Object.keys(a)])];
-	return keys
-		.filter((k) => JSON.stringify(b[k]) !== JSON.stringify(a[k]))
-		.map((k) => ({ field: k, before: b[k], after: a[k] }));
-}

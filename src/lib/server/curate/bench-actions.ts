@@ -4,11 +4,10 @@
  * kept pending) and "save" (validate, store through the engine, regrade). Routes for
  * curators (/curate/revisions/[id]/runs/new) and members (/teardowns/bench-run) share them.
  */
-import { LevelInputError } from '../../levels/index';
 import type { Storage } from '../storage/index';
-import { readAndStoreTraces, formFromReadings, previewReadings, readingsFromForm, saveBenchRun, type TraceUpload } from './bench';
+import { readAndStoreTraces, formFromReadings, saveBenchRun, type TraceUpload } from './bench';
 import { FieldError, type Actor, type Database } from './common';
-import { attempt, fileFrom, validate, withMessage } from './forms';
+import { attempt, fileFrom, validate } from './forms';
 import { benchRunSchema } from './schemas';
 import { fail } from '@sveltejs/kit';
 
@@ -40,19 +39,6 @@ export async function readTraceAction(db: Database, storage: Storage, actor: Act
 	const preview = res.value;
 	Object.assign(form.data, formFromReadings(preview.steps), { traceFileId: preview.fileIds[0] ?? '' });
 	return { form, preview, traceFileIds: preview.fileIds };
-}
-
-/** Grade what is in the grid now, without saving (the "check levels" button). */
-export async function previewAction(data: FormData) {
-	const form = await validate(data, benchRunSchema);
-	form.errors = {};
-	try {
-		const report = previewReadings(readingsFromForm(form.data), Number.isFinite(form.data.fullScaleMv) ? form.data.fullScaleMv : 700);
-		return { form, report };
-	} catch (err) {
-		if (err instanceof LevelInputError) return fail(400, { form: withMessage(form, err.message, err.issues) });
-		throw err;
-	}
 }
 
 /** Save the run. Returns the new run id, or a 400 with field errors and every value kept. */

@@ -53,11 +53,6 @@ export function formFromReadings(steps: Array<{ ire: number; r?: number; g?: num
 	return out;
 }
 
-/** The engine's report for the grid, or the engine's own words for why it cannot grade it. */
-export function previewReadings(readings: Reading[], fullScaleMv: number): LevelReport {
-	return analyzeLevels({ steps: readings, fullScaleMv });
-}
-
 export interface TraceUpload {
 	/** 'all' for one file with every channel, or the channel a single-channel file carries. */
 	slot: 'all' | Channel;

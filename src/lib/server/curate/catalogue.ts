@@ -5,7 +5,7 @@
  */
 import { and, asc, eq, isNull, sql } from 'drizzle-orm';
 import type { z } from 'zod';
-import { audit } from '../audit';
+import { audit, auditedUpdate } from '../audit';
 import * as t from '../db/schema';
 import { FieldError, isUniqueViolation, pick, slugify, type Actor, type Database } from './common';
 import type { chipSchema, converterSchema, revisionSchema } from './schemas';
@@ -46,25 +46,15 @@ async function setRetired(
 	// One code path for three tables: Drizzle cannot type a union of tables, so use the chip
 	// table's shape (all three share id, retiredAt and updatedAt).
 	const { table, fields } = RETIRABLE[entity] as unknown as { table: typeof t.chips; fields: readonly (keyof typeof t.chips.$inferSelect)[] };
-	return db.transaction(async (tx) => {
-		const [before] = await tx.select().from(table).where(eq(table.id, id)).for('update');
-		if (!before) throw new FieldError(null, `That ${entity} does not exist.`, 404);
-		const now = new Date();
-		const [row] = await tx
-			.update(table)
-			.set({ retiredAt: retired ? (before.retiredAt ?? now) : null, updatedAt: now })
-			.where(eq(table.id, id))
-			.returning();
-		await audit(tx, {
-			actorId: actor.id,
-			action: retired ? 'retired' : 'restored',
-			entity,
-			entityId: id,
-			before: pick(before, fields),
-			after: pick(row, fields),
-			reason
-		});
-		return row;
+	const now = new Date();
+	return auditedUpdate(db, actor, {
+		table,
+		entity,
+		id,
+		fields,
+		set: (before) => ({ retiredAt: retired ? (before.retiredAt ?? now) : null, updatedAt: now }),
+		action: retired ? 'retired' : 'restored',
+		reason
 	});
 }
 
@@ -94,23 +84,12 @@ export async function createChip(db: Database, actor: Actor, input: ChipInput) {
 
 /** Edit a chip's name, maker and notes. The slug stays. */
 export async function updateChip(db: Database, actor: Actor, id: number, input: ChipInput) {
-	return db.transaction(async (tx) => {
-		const [before] = await tx.select().from(t.chips).where(eq(t.chips.id, id)).for('update');
-		if (!before) throw new FieldError(null, 'That chip does not exist.', 404);
-		const [row] = await tx
-			.update(t.chips)
-			.set({ name: input.name, maker: input.maker, notes: input.notes, updatedAt: new Date() })
-			.where(eq(t.chips.id, id))
-			.returning();
-		await audit(tx, {
-			actorId: actor.id,
-			action: 'updated',
-			entity: 'chip',
-			entityId: id,
-			before: pick(before, CHIP_FIELDS),
-			after: pick(row, CHIP_FIELDS)
-		});
-		return row;
+	return auditedUpdate(db, actor, {
+		table: t.chips,
+		entity: 'chip',
+		id,
+		fields: CHIP_FIELDS,
+		set: () => ({ name: input.name, maker: input.maker, notes: input.notes, updatedAt: new Date() })
 	});
 }
 
@@ -183,32 +162,21 @@ export async function createConverter(db: Database, actor: Actor, input: Convert
 /** Edit a converter (slug unchanged) and mark it reviewed now. */
 export async function updateConverter(db: Database, actor: Actor, id: number, input: ConverterInput, now = new Date()) {
 	try {
-		return await db.transaction(async (tx) => {
-			const [before] = await tx.select().from(t.converters).where(eq(t.converters.id, id)).for('update');
-			if (!before) throw new FieldError(null, 'That converter does not exist.', 404);
-			const [row] = await tx
-				.update(t.converters)
-				.set({
-					brand: input.brand,
-					model: input.model,
-					summary: input.summary,
-					hasAudioOut: input.hasAudioOut,
-					power: input.power,
-					outputs: input.outputs,
-					lastReviewedAt: now,
-					updatedAt: now
-				})
-				.where(eq(t.converters.id, id))
-				.returning();
-			await audit(tx, {
-				actorId: actor.id,
-				action: 'updated',
-				entity: 'converter',
-				entityId: id,
-				before: pick(before, CONVERTER_FIELDS),
-				after: pick(row, CONVERTER_FIELDS)
-			});
-			return row;
+		return await auditedUpdate(db, actor, {
+			table: t.converters,
+			entity: 'converter',
+			id,
+			fields: CONVERTER_FIELDS,
+			set: () => ({
+				brand: input.brand,
+				model: input.model,
+				summary: input.summary,
+				hasAudioOut: input.hasAudioOut,
+				power: input.power,
+				outputs: input.outputs,
+				lastReviewedAt: now,
+				updatedAt: now
+			})
 		});
 	} catch (err) {
 		if (err instanceof FieldError) throw err;
@@ -301,23 +269,12 @@ export async function createRevision(db: Database, actor: Actor, input: Revision
 export async function updateRevision(db: Database, actor: Actor, id: number, input: RevisionInput) {
 	await assertRevisionRefs(db, input);
 	try {
-		return await db.transaction(async (tx) => {
-			const [before] = await tx.select().from(t.revisions).where(eq(t.revisions.id, id)).for('update');
-			if (!before) throw new FieldError(null, 'That revision does not exist.', 404);
-			const [row] = await tx
-				.update(t.revisions)
-				.set({ ...revisionValues(input), updatedAt: new Date() })
-				.where(eq(t.revisions.id, id))
-				.returning();
-			await audit(tx, {
-				actorId: actor.id,
-				action: 'updated',
-				entity: 'revision',
-				entityId: id,
-				before: pick(before, REVISION_FIELDS),
-				after: pick(row, REVISION_FIELDS)
-			});
-			return row;
+		return await auditedUpdate(db, actor, {
+			table: t.revisions,
+			entity: 'revision',
+			id,
+			fields: REVISION_FIELDS,
+			set: () => ({ ...revisionValues(input), updatedAt: new Date() })
 		});
 	} catch (err) {
 		if (isUniqueViolation(err)) throw new FieldError('code', 'This converter already has a revision with that code.', 409);

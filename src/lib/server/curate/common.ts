@@ -4,6 +4,7 @@
  * call them directly; routes stay thin: parse the form, call one function, answer.
  */
 import type { Database } from '../db/client';
+import type { Role } from '../../enums';
 
 export type { Database };
 /** A transaction handle: what `db.transaction` passes to its callback. */
@@ -14,7 +15,7 @@ export type DbOrTx = Database | Tx;
 /** Who is acting: the signed-in user from locals. */
 export interface Actor {
 	id: string;
-	role: 'member' | 'curator' | 'admin';
+	role: Role;
 }
 
 /**
@@ -52,12 +53,6 @@ export function isUniqueViolation(err: unknown, constraint?: string): boolean {
 	const pg = e as { code?: string; constraint_name?: string; constraint?: string };
 	if (pg?.code !== '23505') return false;
 	return !constraint || pg.constraint_name === constraint || pg.constraint === constraint;
-}
-
-/** Check-constraint violation (23514). */
-export function isCheckViolation(err: unknown): boolean {
-	const e = ((err as { cause?: unknown })?.cause ?? err) as { code?: string };
-	return e?.code === '23514';
 }
 
 /** Pick only the listed keys (for audit before/after snapshots). */

@@ -11,20 +11,20 @@ import type { z } from 'zod';
 import { LevelInputError } from '../../levels/index';
 import { FieldError } from './common';
 
-// eslint-disable-next-line @typescript-eslint/no-explicit-any
+// eslint-disable-next-line @typescript-eslint/no-explicit-any -- superforms' zod adapter generics cannot be spelled for any schema
 type AnyForm = SuperValidated<any, any, any>;
-// eslint-disable-next-line @typescript-eslint/no-explicit-any
+// eslint-disable-next-line @typescript-eslint/no-explicit-any -- superforms' zod adapter generics cannot be spelled for any schema
 type AnySchema = z.ZodObject<any> | z.ZodType<any, any>;
 
 /** Validate posted form data against a schema (superforms, zod 4 adapter). */
 export async function validate<S extends AnySchema>(data: FormData | URLSearchParams | Request, schema: S) {
-	// eslint-disable-next-line @typescript-eslint/no-explicit-any
+	// eslint-disable-next-line @typescript-eslint/no-explicit-any -- superforms' zod adapter generics cannot be spelled for any schema
 	return superValidate(data as FormData, zod4(schema as any)) as Promise<SuperValidated<z.infer<S>, any, any>>;
 }
 
 /** An empty form for a load function, optionally pre-filled. */
 export async function emptyForm<S extends AnySchema>(schema: S, initial?: Partial<z.infer<S>>, id?: string) {
-	// eslint-disable-next-line @typescript-eslint/no-explicit-any
+	// eslint-disable-next-line @typescript-eslint/no-explicit-any -- superforms' zod adapter generics cannot be spelled for any schema
 	return superValidate(initial as any, zod4(schema as any), { errors: false, id }) as Promise<SuperValidated<z.infer<S>, any, any>>;
 }
 

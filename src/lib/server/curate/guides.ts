@@ -5,7 +5,7 @@
  */
 import { asc, desc, eq, sql } from 'drizzle-orm';
 import type { z } from 'zod';
-import { audit } from '../audit';
+import { audit, auditedUpdate } from '../audit';
 import * as t from '../db/schema';
 import { FieldError, isUniqueViolation, pick, slugify, type Actor, type Database } from './common';
 import type { guidePickSchema, guideSchema } from './schemas';
@@ -70,17 +70,18 @@ export async function createGuide(db: Database, actor: Actor, input: z.infer<typ
 /** Edit text; the slug may change only while the guide has never been published (links stay stable). */
 export async function updateGuide(db: Database, actor: Actor, id: number, input: z.infer<typeof guideSchema>) {
 	try {
-		return await db.transaction(async (tx) => {
-			const [before] = await tx.select().from(t.guides).where(eq(t.guides.id, id)).for('update');
-			if (!before) throw new FieldError(null, 'That guide does not exist.', 404);
-			const slug = input.slug && !before.publishedAt ? input.slug : before.slug;
-			const [row] = await tx
-				.update(t.guides)
-				.set({ slug, title: input.title, summary: input.summary, bodyMarkdown: input.bodyMarkdown, updatedAt: new Date() })
-				.where(eq(t.guides.id, id))
-				.returning();
-			await audit(tx, { actorId: actor.id, action: 'updated', entity: 'guide', entityId: id, before: pick(before, GUIDE_FIELDS), after: pick(row, GUIDE_FIELDS) });
-			return row;
+		return await auditedUpdate(db, actor, {
+			table: t.guides,
+			entity: 'guide',
+			id,
+			fields: GUIDE_FIELDS,
+			set: (before) => ({
+				slug: input.slug && !before.publishedAt ? input.slug : before.slug,
+				title: input.title,
+				summary: input.summary,
+				bodyMarkdown: input.bodyMarkdown,
+				updatedAt: new Date()
+			})
 		});
 	} catch (err) {
 		if (isUniqueViolation(err)) throw new FieldError('slug', 'That slug is taken by another guide.', 409);
@@ -90,20 +91,18 @@ export async function updateGuide(db: Database, actor: Actor, id: number, input:
 
 /** Publish, unpublish (back to draft) or retire a guide. */
 export async function setGuideStatus(db: Database, actor: Actor, id: number, status: 'draft' | 'published' | 'retired') {
-	return db.transaction(async (tx) => {
-		const [before] = await tx.select().from(t.guides).where(eq(t.guides.id, id)).for('update');
-		if (!before) throw new FieldError(null, 'That guide does not exist.', 404);
-		if (status === 'published' && before.bodyMarkdown.trim().length === 0)
-			throw new FieldError('bodyMarkdown', 'Write the guide before publishing it.');
-		const now = new Date();
-		const [row] = await tx
-			.update(t.guides)
-			.set({ status, publishedAt: status === 'published' ? (before.publishedAt ?? now) : before.publishedAt, updatedAt: now })
-			.where(eq(t.guides.id, id))
-			.returning();
-		const action = status === 'published' ? 'published' : status === 'retired' ? 'retired' : 'unpublished';
-		await audit(tx, { actorId: actor.id, action, entity: 'guide', entityId: id, before: pick(before, GUIDE_FIELDS), after: pick(row, GUIDE_FIELDS) });
-		return row;
+	const now = new Date();
+	return auditedUpdate(db, actor, {
+		table: t.guides,
+		entity: 'guide',
+		id,
+		fields: GUIDE_FIELDS,
+		set: (before) => {
+			if (status === 'published' && before.bodyMarkdown.trim().length === 0)
+				throw new FieldError('bodyMarkdown', 'Write the guide before publishing it.');
+			return { status, publishedAt: status === 'published' ? (before.publishedAt ?? now) : before.publishedAt, updatedAt: now };
+		},
+		action: status === 'published' ? 'published' : status === 'retired' ? 'retired' : 'unpublished'
 	});
 }
 

@@ -9,7 +9,7 @@
 import { and, asc, desc, eq, gte, sql } from 'drizzle-orm';
 import type { z } from 'zod';
 import { extractOffer, type ApiMapping, type ExtractResult, type OfferSelectors } from '../../feeds/index';
-import { audit } from '../audit';
+import { audit, auditedUpdate } from '../audit';
 import * as t from '../db/schema';
 import { FieldError, isUniqueViolation, type Actor, type Database } from './common';
 import { checkFeedUrl, type FeedUrlOptions } from './feed-url';
@@ -64,16 +64,12 @@ export async function updateListing(
 	id: number,
 	patch: { active?: boolean; pollIntervalMinutes?: number }
 ) {
-	return db.transaction(async (tx) => {
-		const [before] = await tx.select().from(t.listings).where(eq(t.listings.id, id)).for('update');
-		if (!before) throw new FieldError(null, 'That listing does not exist.', 404);
-		const [row] = await tx
-			.update(t.listings)
-			.set({ ...patch, updatedAt: new Date() })
-			.where(eq(t.listings.id, id))
-			.returning();
-		await audit(tx, { actorId: actor.id, action: 'updated', entity: 'listing', entityId: id, before: snap(before), after: snap(row) });
-		return row;
+	return auditedUpdate(db, actor, {
+		table: t.listings,
+		entity: 'listing',
+		id,
+		fields: LISTING_FIELDS,
+		set: () => ({ ...patch, updatedAt: new Date() })
 	});
 }
 

@@ -4,6 +4,7 @@
  * Messages are written for the person at the form, so they say what to type.
  */
 import { z } from 'zod';
+import { REGIONS, ROLES } from '../../enums';
 import { ALL_STEPS_IRE } from '../../levels/index';
 import { SLUG_RE } from './common';
 
@@ -142,7 +143,6 @@ export const teardownReviewSchema = z.object({
 // ------------------------------------------------------------------ listings and shops
 
 export const FEED_FORMATS = ['jsonld', 'microdata', 'selectors', 'api'] as const;
-export const REGIONS = ['na', 'eu', 'uk', 'jp', 'au'] as const;
 
 /** Feed config as JSON text in a textarea; '' means "use the shop's". */
 const jsonText = z
@@ -169,8 +169,6 @@ export const listingSchema = z.object({
 	feedConfig: jsonText
 });
 
-export const listingIdSchema = z.object({ id: z.number().int().positive() });
-
 export const shopSchema = z.object({
 	name: text('Shop name', 120),
 	slug: slugField,
@@ -196,7 +194,7 @@ export const rateSchema = z
 
 export const roleChangeSchema = z.object({
 	userId: z.string().min(1),
-	role: z.enum(['member', 'curator', 'admin']),
+	role: z.enum(ROLES),
 	reason: z.string().trim().min(3, 'Give a reason for the audit log.').max(500)
 });
 

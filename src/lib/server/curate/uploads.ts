@@ -55,7 +55,7 @@ function looksLikeText(b: Uint8Array): boolean {
 
 /** Drop a multi-byte character cut in half at the end of a slice. */
 function trimPartialUtf8(b: Uint8Array) {
-	let end = b.length;
+	const end = b.length;
 	for (let i = 1; i <= 3 && end - i >= 0; i++) {
 		const x = b[end - i];
 		if ((x & 0xc0) === 0xc0) return b.subarray(0, end - i);

@@ -32,21 +32,15 @@ import {
 	uuid,
 	type AnyPgColumn
 } from 'drizzle-orm/pg-core';
+import { BANDS, REGIONS, ROLES, STOCK_STATES } from '../../enums';
 
 // ---------------------------------------------------------------- enums
 
-export const roleEnum = pgEnum('role', ['member', 'curator', 'admin']);
-export const bandEnum = pgEnum('band', ['exact', 'close', 'fair', 'poor', 'failing']);
-/** Our stock states; schema.org ItemAvailability values map onto these. */
-export const stockStateEnum = pgEnum('stock_state', [
-	'in_stock',
-	'out_of_stock',
-	'preorder',
-	'backorder',
-	'discontinued',
-	'unknown'
-]);
-export const regionEnum = pgEnum('region', ['na', 'eu', 'uk', 'jp', 'au']);
+// Roles, bands, stock states and regions are declared once in src/lib/enums.ts.
+export const roleEnum = pgEnum('role', ROLES);
+export const bandEnum = pgEnum('band', BANDS);
+export const stockStateEnum = pgEnum('stock_state', STOCK_STATES);
+export const regionEnum = pgEnum('region', REGIONS);
 export const feedFormatEnum = pgEnum('feed_format', ['jsonld', 'microdata', 'selectors', 'api']);
 export const powerKindEnum = pgEnum('power_kind', ['usb-bus', 'usb-adapter', 'barrel']);
 export const runStatusEnum = pgEnum('run_status', ['pending', 'accepted', 'rejected', 'superseded']);

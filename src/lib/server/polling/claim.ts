@@ -66,7 +66,7 @@ export async function claimDue(db: Database, o: ClaimOptions): Promise<ClaimedLi
 	const only = o.onlyListingIds;
 	const ids = await db.transaction(async (tx) => {
 		await tx.execute(sql`select pg_advisory_xact_lock(${CLAIM_LOCK_KEY})`);
-		const rows = await tx.execute<{ listing_id: number }>(sql`
+		const rows = await tx.execute<{ listing_id: number; rn: number }>(sql`
 			with busy as (
 				select l.shop_id,
 					count(*) filter (where ls.lease_owner = ${o.owner}) as mine,
@@ -118,7 +118,7 @@ export async function claimDue(db: Database, o: ClaimOptions): Promise<ClaimedLi
 			where ls.listing_id = chosen.listing_id
 			returning ls.listing_id, chosen.rn
 		`);
-		return [...rows].sort((a: any, b: any) => Number(a.rn) - Number(b.rn)).map((r) => Number(r.listing_id));
+		return [...rows].sort((a, b) => Number(a.rn) - Number(b.rn)).map((r) => Number(r.listing_id));
 	});
 	if (!ids.length) return [];
 	const details = await db

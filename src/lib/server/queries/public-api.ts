@@ -1,4 +1,4 @@
-/** The /api/v1 JSON shapes of catalogue entries, converters and revisions (documented in public-openapi.ts). */
+/** The /api/v1 JSON shapes of catalogue entries, converters and revisions (documented in src/lib/server/api/openapi.ts). */
 import type { CatalogueEntry, CatalogueOffer } from '../../finder';
 import type { ConverterDetail, PublicRevision } from './public';
 

@@ -22,7 +22,7 @@ const flag = z.preprocess(
 );
 const money = z.preprocess(blank, z.coerce.number().positive('must be a positive amount').max(1e7).optional());
 
-export const regionSchema = z.enum(REGION_CODES as [Region, ...Region[]]);
+export const regionSchema = z.enum(REGION_CODES);
 export const currencySchema = z.enum(CURRENCIES as [string, ...string[]]);
 export const bandSchema = z.enum(BANDS);
 
@@ -49,8 +49,6 @@ export const finderParams = z.object({
 	band: z.preprocess(blank, bandSchema.optional())
 });
 export type FinderParams = z.infer<typeof finderParams>;
-
-export const historyRangeSchema = z.enum(['30d', '90d', '1y']);
 
 /** Plain object of the first value of each search parameter. */
 export function searchObject(url: URL): Record<string, string> {

@@ -13,7 +13,6 @@ import {
 	guidePicks,
 	guides,
 	listings,
-	listingStates,
 	shops,
 	stockEvents,
 	revisions

@@ -1,7 +1,7 @@
 import { redirect } from '@sveltejs/kit';
 import { requireRole } from '$lib/server/auth/guard';
 import { db } from '$lib/server/db';
-import { addRate, listRates } from '$lib/server/curate/admin';
+import { addRate, listRates } from '$lib/server/admin';
 import { attempt, emptyForm, invalid, validate } from '$lib/server/curate/forms';
 import { rateSchema } from '$lib/server/curate/schemas';
 import type { Actions, PageServerLoad } from './$types';

@@ -1,7 +1,7 @@
 import { redirect } from '@sveltejs/kit';
 import { requireRole } from '$lib/server/auth/guard';
 import { db } from '$lib/server/db';
-import { createShop, listShops } from '$lib/server/curate/admin';
+import { createShop, listShops } from '$lib/server/admin';
 import { attempt, emptyForm, invalid, validate } from '$lib/server/curate/forms';
 import { shopSchema } from '$lib/server/curate/schemas';
 import type { Actions, PageServerLoad } from './$types';

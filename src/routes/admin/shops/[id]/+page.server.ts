@@ -1,8 +1,7 @@
 import { error, redirect } from '@sveltejs/kit';
-import { eq } from 'drizzle-orm';
+import { shopById, updateShop } from '$lib/server/admin';
 import { requireRole } from '$lib/server/auth/guard';
-import { db, tables as t } from '$lib/server/db';
-import { updateShop } from '$lib/server/curate/admin';
+import { db } from '$lib/server/db';
 import { attempt, emptyForm, idParam, invalid, validate } from '$lib/server/curate/forms';
 import { shopSchema } from '$lib/server/curate/schemas';
 import type { Actions, PageServerLoad } from './$types';
@@ -10,7 +9,7 @@ import type { Actions, PageServerLoad } from './$types';
 export const load: PageServerLoad = async (event) => {
 	requireRole(event, 'admin');
 	const id = idParam(event.params.id);
-	const [shop] = await db.select().from(t.shops).where(eq(t.shops.id, id));
+	const shop = await shopById(db, id);
 	if (!shop) error(404, 'No such shop.');
 	const cfg = shop.feedConfig && Object.keys(shop.feedConfig as object).length ? JSON.stringify(shop.feedConfig, null, 2) : '';
 	return {

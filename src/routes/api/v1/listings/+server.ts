@@ -1,17 +1,9 @@
-import { z } from 'zod';
+import { listingsQuery as params } from '$lib/server/api/contract';
 import { db } from '$lib/server/db';
 import { loadListings } from '$lib/server/queries/public';
-import { currencySchema, regionSchema, searchObject, viewpoint } from '$lib/server/queries/public-params';
+import { searchObject, viewpoint } from '$lib/server/queries/public-params';
 import { badRequest, cachedJson, notFound } from '$lib/server/queries/public-http';
 import type { RequestHandler } from './$types';
-
-const params = z
-	.object({
-		converter: z.string({ error: 'converter (a converter slug) is required' }).regex(/^[a-z0-9]+(-[a-z0-9]+)*$/, 'must be a converter slug'),
-		region: regionSchema.optional(),
-		currency: currencySchema.optional()
-	})
-	.strict();
 
 /** Current state of every listing of one converter (all regions). */
 export const GET: RequestHandler = async ({ url, request }) => {

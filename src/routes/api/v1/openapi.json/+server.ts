@@ -1,4 +1,4 @@
-import { openApiDocument } from '$lib/server/queries/public-openapi';
+import { openApiDocument } from '$lib/server/api/openapi';
 import { cachedJson } from '$lib/server/queries/public-http';
 import type { RequestHandler } from './$types';
 

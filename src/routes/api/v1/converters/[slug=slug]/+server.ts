@@ -1,15 +1,14 @@
 import { db } from '$lib/server/db';
 import { loadConverterDetail } from '$lib/server/queries/public';
 import { apiConverterDetail } from '$lib/server/queries/public-api';
-import { catalogueParams, searchObject, viewpoint } from '$lib/server/queries/public-params';
+import { converterQuery as params } from '$lib/server/api/contract';
+import { searchObject, viewpoint } from '$lib/server/queries/public-params';
 import { badRequest, cachedJson, DATA_LICENCE, notFound } from '$lib/server/queries/public-http';
 import type { RequestHandler } from './$types';
 
-const params = catalogueParams.pick({ region: true, currency: true });
-
 /** One converter with its revisions' level reports and its listings. */
 export const GET: RequestHandler = async ({ params: route, url, request }) => {
-	const parsed = params.strict().safeParse(searchObject(url));
+	const parsed = params.safeParse(searchObject(url));
 	if (!parsed.success) return badRequest(parsed.error);
 	const view = viewpoint(parsed.data, null, request.headers.get('accept-language'));
 	const d = await loadConverterDetail(db, route.slug, view);

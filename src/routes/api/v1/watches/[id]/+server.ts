@@ -3,6 +3,7 @@
  * visitors, 400 for an id that is not a number.
  */
 import { error } from '@sveltejs/kit';
+import { watchPath } from '$lib/server/api/contract';
 import { requireApiRole } from '$lib/server/auth/guard';
 import { db } from '$lib/server/db';
 import { deleteWatch } from '$lib/server/alerts/watches';
@@ -10,8 +11,9 @@ import type { RequestHandler } from './$types';
 
 export const DELETE: RequestHandler = async (event) => {
 	const user = requireApiRole(event, 'member');
-	if (!/^[1-9][0-9]{0,9}$/.test(event.params.id)) error(400, 'A watch id is a positive whole number.');
-	const deleted = await deleteWatch(db, user.id, Number(event.params.id));
+	const id = watchPath.safeParse(event.params);
+	if (!id.success) error(400, 'A watch id is a positive whole number.');
+	const deleted = await deleteWatch(db, user.id, id.data.id);
 	if (!deleted) error(404, 'No such watch among yours.');
 	return new Response(null, { status: 204 });
 };

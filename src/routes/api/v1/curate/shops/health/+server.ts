@@ -3,13 +3,12 @@
  * `days` days, the last error, a Retry-After pause, and the listings failing now.
  */
 import { json } from '@sveltejs/kit';
-import { z } from 'zod';
+import { shopHealthQuery as query } from '$lib/server/api/contract';
 import { requireApiRole } from '$lib/server/auth/guard';
 import { db } from '$lib/server/db';
 import { shopHealth } from '$lib/server/queries/history';
 import type { RequestHandler } from './$types';
 
-const query = z.object({ days: z.coerce.number().int().min(1).max(90).default(7) });
 
 export const GET: RequestHandler = async (event) => {
 	requireApiRole(event, 'curator');

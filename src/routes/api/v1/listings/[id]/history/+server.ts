@@ -6,14 +6,10 @@
 import { json } from '@sveltejs/kit';
 import { z } from 'zod';
 import { db } from '$lib/server/db';
-import { HISTORY_RANGES, listingHistory } from '$lib/server/queries/history';
+import { listingHistoryPath as params, listingHistoryQuery as query } from '$lib/server/api/contract';
+import { listingHistory } from '$lib/server/queries/history';
 import type { RequestHandler } from './$types';
 
-const params = z.object({ id: z.coerce.number().int().positive().max(2_147_483_647) });
-const query = z.object({
-	range: z.enum(HISTORY_RANGES).default('90d'),
-	points: z.coerce.number().int().min(10).max(1000).default(300)
-});
 
 const issues = (err: z.ZodError) => err.issues.map((i) => ({ path: i.path.join('.'), message: i.message }));
 

@@ -1,14 +1,21 @@
 /**
  * Admin changes: people's roles, shops, exchange rates. Each is audited in its own
  * transaction. An admin cannot take away their own admin role (someone else must), so a
- * site never ends up with nobody able to grant roles by accident.
+ * site never ends up with nobody able to grant roles by accident. Free of `$env`/`$app` (like
+ * src/lib/server/curate/), so integration tests call it directly; the /admin routes only parse,
+ * guard and call these.
  */
-import { asc, desc, eq, ilike, or, sql } from 'drizzle-orm';
+import { asc, count, desc, eq, ilike, or, sql } from 'drizzle-orm';
 import type { z } from 'zod';
-import { audit } from '../audit';
+import { audit, auditedUpdate } from '../audit';
 import * as t from '../db/schema';
-import { FieldError, isUniqueViolation, pick, slugify, type Actor, type Database } from './common';
-import type { rateSchema, roleChangeSchema, shopSchema } from './schemas';
+import { FieldError, isUniqueViolation, pick, slugify, type Actor, type Database } from '../curate/common';
+import type { rateSchema, roleChangeSchema, shopSchema } from '../curate/schemas';
+
+/** How many people hold each role. */
+export async function roleCounts(db: Database) {
+	return db.select({ role: t.users.role, n: count() }).from(t.users).groupBy(t.users.role);
+}
 
 export async function listUsers(db: Database, q = '', limit = 100) {
 	const where = q ? or(ilike(t.users.email, `%${q}%`), ilike(t.users.name, `%${q}%`)) : undefined;
@@ -60,6 +67,11 @@ function shopValues(input: z.infer<typeof shopSchema>) {
 	};
 }
 
+export async function shopById(db: Database, id: number) {
+	const [shop] = await db.select().from(t.shops).where(eq(t.shops.id, id));
+	return shop ?? null;
+}
+
 export async function listShops(db: Database) {
 	return db.select().from(t.shops).orderBy(asc(t.shops.name));
 }
@@ -81,19 +93,12 @@ export async function createShop(db: Database, actor: Actor, input: z.infer<type
 
 /** Edit a shop (slug unchanged). */
 export async function updateShop(db: Database, actor: Actor, id: number, input: z.infer<typeof shopSchema>) {
-	return db.transaction(async (tx) => {
-		const [before] = await tx.select().from(t.shops).where(eq(t.shops.id, id)).for('update');
-		if (!before) throw new FieldError(null, 'That shop does not exist.', 404);
-		const [row] = await tx.update(t.shops).set({ ...shopValues(input), updatedAt: new Date() }).where(eq(t.shops.id, id)).returning();
-		await audit(tx, {
-			actorId: actor.id,
-			action: 'updated',
-			entity: 'shop',
-			entityId: id,
-			before: pick(before, SHOP_FIELDS),
-			after: pick(row, SHOP_FIELDS)
-		});
-		return row;
+	return auditedUpdate(db, actor, {
+		table: t.shops,
+		entity: 'shop',
+		id,
+		fields: SHOP_FIELDS,
+		set: () => ({ ...shopValues(input), updatedAt: new Date() })
 	});
 }
 

@@ -1,3 +1,5 @@
+import { formatMoney } from '$lib/money';
+
 /** Small display helpers for the workspace pages. */
 export function when(d: Date | string | null | undefined): string {
 	if (!d) return '—';
@@ -11,6 +13,5 @@ export function day(d: Date | string | null | undefined): string {
 }
 export function money(minor: number | null | undefined, currency: string | null | undefined): string {
 	if (minor === null || minor === undefined || !currency) return '—';
-	const digits = currency === 'JPY' ? 0 : 2;
-	return `${(minor / 10 ** digits).toFixed(digits)} ${currency}`;
+	return formatMoney(minor, currency);
 }
