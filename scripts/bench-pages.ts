@@ -18,8 +18,7 @@ import { gzipSync } from 'node:zlib';
 import postgres from 'postgres';
 import autocannon from 'autocannon';
 import { applyMigrations } from '../src/lib/server/db/migrate';
-import { analyzeLevels } from '../src/lib/levels/index';
-import { CHIPS, DEMO_RATES_PER_EUR, SHOPS, demoReadings } from '../src/lib/demo/scenario';
+import { loadBenchCatalogue } from './lib/bench-catalogue';
 // @ts-expect-error plain ES module without types
 import { profile, ROOT } from './lib/profiles.mjs';
 // @ts-expect-error plain ES module without types
@@ -28,7 +27,8 @@ import { startCluster, stopCluster } from './lib/bootstrap.mjs';
 const CONVERTERS = Number(process.env.BENCH_CONVERTERS || 2000);
 const PER = Number(process.env.BENCH_LISTINGS_PER || 10);
 const SECONDS = Number(process.env.BENCH_SECONDS || 10);
-const PORT = Number(process.env.BENCH_PORT || 4490);
+// SG_PORT_OFFSET moves the app port like every other port (the cluster moves with profile()).
+const PORT = Number(process.env.BENCH_PORT || 4490 + Number(process.env.SG_PORT_OFFSET || 0));
 const NAME = 'sg_bench_pages';
 
 const p = profile('test');
@@ -48,89 +48,7 @@ async function load() {
 	const sql = postgres(url, { max: 4, onnotice: () => {} });
 	const t0 = Date.now();
 	try {
-		// Chips and one stored report per chip (the engine's output for the demo readings).
-		for (const c of CHIPS) await sql`insert into chip (slug, name, maker, notes) values (${c.slug}, ${c.name}, ${c.maker}, ${c.notes})`;
-		const chipRows = await sql<{ id: number; slug: string }[]>`select id, slug from chip`;
-		const chipId = new Map(chipRows.map((r) => [r.slug, r.id]));
-		const graded = CHIPS.map((c) => {
-			const readings = demoReadings(c, 0);
-			return { chip: c.slug, readings, report: analyzeLevels({ steps: readings, fullScaleMv: 700 }) };
-		});
-		const shopRows = [];
-		for (const s of SHOPS) {
-			const [row] = await sql<{ id: number }[]>`
-				insert into shop (slug, name, region, currency, ships_to, base_url, default_format)
-				values (${s.slug}, ${s.name}, ${s.region}, ${s.currency}, ${sql.array(s.shipsTo)}::region[], ${'http://127.0.0.1:9'}, ${s.format})
-				returning id`;
-			shopRows.push({ id: row.id, currency: s.currency, format: s.format });
-		}
-		for (const [quote, rate] of Object.entries(DEMO_RATES_PER_EUR))
-			await sql`insert into exchange_rate (base, quote, day, rate, source) values ('EUR', ${quote}, current_date - 1, ${String(rate)}, 'bench')`;
-
-		// Converters, revisions (1 or 2), one accepted bench run per revision with readings.
-		const powers = ['usb-bus', 'usb-adapter', 'barrel'];
-		for (let start = 0; start < CONVERTERS; start += 500) {
-			const batch = Array.from({ length: Math.min(500, CONVERTERS - start) }, (_, k) => start + k);
-			const convRows = await sql<{ id: number }[]>`
-				insert into converter ${sql(
-					batch.map((i) => ({
-						slug: `bench-box-${i}`,
-						brand: `Benchbrand ${i % 97}`,
-						model: `Model ${i}`,
-						summary: 'Generated for the page benchmark.',
-						has_audio_out: i % 2 === 0,
-						power: powers[i % 3],
-						last_reviewed_at: new Date()
-					}))
-				)} returning id`;
-			const revs: Array<Record<string, unknown>> = [];
-			convRows.forEach((c, k) => {
-				const i = batch[k];
-				const n = i % 3 === 0 ? 2 : 1;
-				for (let r = 0; r < n; r++) {
-					const g = graded[(i + r) % graded.length];
-					revs.push({ converter_id: c.id, code: String.fromCharCode(65 + r), chip_id: chipId.get(g.chip), band: g.report.band, score: g.report.score, score_min: g.report.score, score_max: g.report.score, run_count: 1, rubric_version: g.report.rubricVersion, graded_at: new Date() });
-				}
-			});
-			const revRows = await sql<{ id: number; chip_id: number }[]>`insert into revision ${sql(revs)} returning id, chip_id`;
-			const runs = revRows.map((r) => {
-				const g = graded.find((x) => chipId.get(x.chip) === r.chip_id)!;
-				return { revision_id: r.id, status: 'accepted', measured_by: 'Bench generator', measured_on: '2026-01-15', test_source: 'generated', instrument: 'generated', report: sql.json(g.report as never), band: g.report.band, score: g.report.score, rubric_version: g.report.rubricVersion };
-			});
-			const runRows = await sql<{ id: number; revision_id: number }[]>`insert into bench_run ${sql(runs as never)} returning id, revision_id`;
-			const readings = runRows.flatMap((run) => {
-				const chip = revRows.find((r) => r.id === run.revision_id)!.chip_id;
-				const g = graded.find((x) => chipId.get(x.chip) === chip)!;
-				return g.readings.map((s) => ({ bench_run_id: run.id, ire: s.ire, r_mv: s.r, g_mv: s.g, b_mv: s.b }));
-			});
-			await sql`insert into bench_reading ${sql(readings)}`;
-		}
-
-		// Listings: PER per converter across the shops; state and a year of change points in SQL.
-		await sql`
-			insert into listing (shop_id, converter_id, url, format, poll_interval_minutes)
-			select s.id, c.id, 'http://127.0.0.1:9/' || c.slug || '/' || k, s.default_format, 60
-			from converter c
-			cross join generate_series(0, ${PER - 1}) k
-			join lateral (select id, default_format from shop order by id offset (k % ${SHOPS.length}) limit 1) s on true`;
-		// About one change point every 9 days for a year: price wanders, stock flips.
-		await sql`
-			insert into observation (listing_id, observed_at, price_minor, currency, stock)
-			select l.id, now() - interval '365 days' + (d * interval '9 days') + ((l.id % 24) * interval '1 hour'),
-			       (case when s.currency = 'JPY' then 2000 else 1200 end) + ((l.id * 37 + d * 11) % 900),
-			       s.currency,
-			       (case when (l.id + d) % 3 = 0 then 'out_of_stock' else 'in_stock' end)::stock_state
-			from listing l join shop s on s.id = l.shop_id
-			cross join generate_series(0, 40) d`;
-		await sql`
-			insert into listing_state (listing_id, next_poll_at, current_price_minor, current_currency, current_stock, current_since, last_checked_at, last_success_at)
-			select distinct on (o.listing_id) o.listing_id, now() + interval '1 day', o.price_minor, o.currency, o.stock, o.observed_at, now(), now()
-			from observation o order by o.listing_id, o.observed_at desc`;
-		await sql`
-			insert into stock_event (listing_id, observation_id, kind, at, price_minor, currency, previous_stock)
-			select listing_id, id, 'restock', observed_at, price_minor, currency, 'out_of_stock'
-			from (select o.*, lag(o.stock) over (partition by o.listing_id order by o.observed_at) as prev from observation o) x
-			where stock = 'in_stock' and prev = 'out_of_stock'`;
+		await loadBenchCatalogue(sql, { converters: CONVERTERS, per: PER });
 		await sql`analyze`;
 		const [counts] = await sql`select (select count(*)::int from converter) converters, (select count(*)::int from listing) listings, (select count(*)::int from observation) observations, (select count(*)::int from stock_event) restocks`;
 		console.log(`loaded ${JSON.stringify(counts)} in ${((Date.now() - t0) / 1000).toFixed(1)} s`);

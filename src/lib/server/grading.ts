@@ -9,6 +9,7 @@ import { RUBRIC_VERSION, aggregateRuns, analyzeLevels, type LevelReport } from '
 import { audit } from './audit';
 import * as t from './db/schema';
 import { bandReasonOf } from '../components/bands';
+import { refreshCards } from './queries/read-model';
 
 // Accepts both the pool-level db and a transaction.
 // eslint-disable-next-line @typescript-eslint/no-explicit-any -- any pool or transaction handle over this schema (Drizzle's third type argument)
@@ -70,17 +71,22 @@ export async function recordBenchRun(db: Db, run: NewBenchRun): Promise<{ id: nu
 	return { id: row.id, report };
 }
 
-/** Recompute a revision's cached grade from its accepted bench runs. */
+/**
+ * Recompute a revision's cached grade from its accepted bench runs, and its converter's public
+ * cards (read model) in the same transaction.
+ */
 export async function regradeRevision(db: Db, revisionId: number, now = new Date()) {
 	const runs = await db
 		.select({ id: t.benchRuns.id, fullScaleMv: t.benchRuns.fullScaleMv })
 		.from(t.benchRuns)
 		.where(and(eq(t.benchRuns.revisionId, revisionId), eq(t.benchRuns.status, 'accepted')));
 	if (runs.length === 0) {
-		await db
+		const cleared = await db
 			.update(t.revisions)
 			.set({ band: null, score: null, scoreMin: null, scoreMax: null, deviationIre: null, bandReason: null, runCount: 0, gradedAt: now, updatedAt: now })
-			.where(eq(t.revisions.id, revisionId));
+			.where(eq(t.revisions.id, revisionId))
+			.returning({ converterId: t.revisions.converterId });
+		await refreshCards(db, cleared.map((r) => r.converterId));
 		return null;
 	}
 	const readings = await db
@@ -99,7 +105,7 @@ export async function regradeRevision(db: Db, revisionId: number, now = new Date
 	const agg = aggregateRuns(reports);
 	// The band mark's marker: the worst deviation of the run the band was taken from (none when no run is graded).
 	const lead = agg.medianRunIndex === null ? null : reports[agg.medianRunIndex];
-	await db
+	const graded = await db
 		.update(t.revisions)
 		.set({
 			band: agg.band,
@@ -113,7 +119,9 @@ export async function regradeRevision(db: Db, revisionId: number, now = new Date
 			gradedAt: now,
 			updatedAt: now
 		})
-		.where(eq(t.revisions.id, revisionId));
+		.where(eq(t.revisions.id, revisionId))
+		.returning({ converterId: t.revisions.converterId });
+	await refreshCards(db, graded.map((r) => r.converterId));
 	return agg;
 }
 

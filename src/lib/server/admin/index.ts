@@ -9,6 +9,7 @@ import { asc, count, desc, eq, ilike, or, sql } from 'drizzle-orm';
 import type { z } from 'zod';
 import { audit, auditedUpdate } from '../audit';
 import * as t from '../db/schema';
+import { refreshCards } from '../queries/read-model';
 import { FieldError, isUniqueViolation, pick, slugify, type Actor, type Database } from '../curate/common';
 import type { rateSchema, roleChangeSchema, shopSchema } from '../curate/schemas';
 
@@ -129,6 +130,8 @@ export async function addRate(db: Database, actor: Actor, input: z.infer<typeof 
 			before: before ?? undefined,
 			after: row
 		});
+		// A rate can change which offer is cheapest anywhere: every public card, in this transaction.
+		await refreshCards(tx, 'all');
 		return row;
 	});
 }

@@ -18,6 +18,12 @@ const idSchema = z.coerce.number().int().positive().max(2_147_483_647);
 /** GET /converters and /converters/{slug}: the visitor's viewpoint, nothing else. */
 export const converterQuery = catalogueParams.pick({ region: true, currency: true }).strict();
 
+/** GET /converters: a page at a time (default 100 converters, by name). */
+export const converterListQuery = catalogueParams
+	.pick({ region: true, currency: true, page: true })
+	.extend({ limit: z.coerce.number().int().min(1).max(500).optional() })
+	.strict();
+
 /** GET /listings */
 export const listingsQuery = z
 	.object({
@@ -76,9 +82,9 @@ export const API_OPERATIONS: ApiOperation[] = [
 	{
 		path: '/converters',
 		method: 'get',
-		summary: 'Every converter with revisions, bands and the best offer in a region',
+		summary: 'Live converters by name with revisions, bands and the best offer in a region, a page at a time (page, limit; default 100)',
 		auth: 'public',
-		query: converterQuery,
+		query: converterListQuery,
 		ok: { status: 200, schema: 'ConverterList', description: 'Converter list', cached: true },
 		errors: [400]
 	},

@@ -164,7 +164,7 @@ export function openApiDocument(origin: string) {
 						lastReviewedAt: { type: ['string', 'null'], format: 'date-time' }
 					}
 				},
-				ConverterList: { type: 'object', properties: { region, currency: displayCurrency(), licence: { type: 'string' }, converters: { type: 'array', items: { $ref: '#/components/schemas/Converter' } } } },
+				ConverterList: { type: 'object', properties: { region, currency: displayCurrency(), licence: { type: 'string' }, total: { type: 'integer' }, page: { type: 'integer' }, pages: { type: 'integer' }, links: { type: 'object', properties: { next: { type: ['string', 'null'] }, prev: { type: ['string', 'null'] } } }, converters: { type: 'array', items: { $ref: '#/components/schemas/Converter' } } } },
 				RevisionDetail: {
 					type: 'object',
 					properties: {

@@ -663,6 +663,52 @@ export const rateLimits = pgTable('rate_limit', {
 	hits: integer('hits').notNull()
 });
 
+// ---------------------------------------------------------------- public read model
+
+/**
+ * What the public pages show per converter and region (the read model): the catalogue entry
+ * priced in the region's currency (`entry`, a CatalogueEntry) plus the columns the catalogue
+ * filters and sorts on. Written only by src/lib/server/queries/read-model.ts, in the
+ * transactions that change its inputs; triggers (migration 0006) mark converters in
+ * `card_dirty` when anything it reads changes, so no writer can leave a card stale.
+ */
+export const converterCards = pgTable(
+	'converter_card',
+	{
+		region: regionEnum('region').notNull(),
+		converterId: integer('converter_id')
+			.notNull()
+			.references(() => converters.id, { onDelete: 'cascade' }),
+		slug: text('slug').notNull(),
+		brand: text('brand').notNull(),
+		model: text('model').notNull(),
+		hasAudioOut: boolean('has_audio_out').notNull(),
+		power: powerKindEnum('power').notNull(),
+		/** bandRank of the lead band (ungraded = 5). */
+		bandRank: smallint('band_rank').notNull(),
+		/** The lead score, -1 when ungraded (the catalogue's sort treats it so). */
+		score: doublePrecision('score').notNull(),
+		/** The best buyable offer in EUR, unrounded (linear in any display currency); null when none. */
+		bestEur: doublePrecision('best_eur'),
+		/** 0 in stock at some shop of the region, 1 only orderable, 2 not buyable (finder order). */
+		buyable: smallint('buyable').notNull(),
+		inStockShops: integer('in_stock_shops').notNull(),
+		entry: jsonb('entry').notNull(),
+		refreshedAt: timestamp('refreshed_at', { withTimezone: true }).notNull().defaultNow()
+	},
+	(t) => [
+		primaryKey({ columns: [t.region, t.converterId] }),
+		index('converter_card_band_idx').on(t.region, t.bandRank, t.score.desc(), t.bestEur.asc().nullsLast()),
+		index('converter_card_price_idx').on(t.region, t.bestEur.asc().nullsLast(), t.bandRank),
+		index('converter_card_converter_idx').on(t.converterId)
+	]
+);
+
+/** Converters whose cards must be rebuilt (filled by triggers, emptied by the rebuild). */
+export const cardDirty = pgTable('card_dirty', {
+	converterId: integer('converter_id').primaryKey()
+});
+
 // ---------------------------------------------------------------- value types
 
 export type Role = (typeof roleEnum.enumValues)[number];

@@ -22,6 +22,7 @@ import { isBuyable } from '../../pricing';
 import { NOT_FOUND_DELIST_AFTER, RESTOCK_QUIET_PERIOD_MS } from './config';
 import type { ClaimedListing } from './claim';
 import { backoffDelayMs, nextPollAfterSuccess } from './schedule';
+import { refreshListingCards } from '../queries/read-model';
 
 /** The transaction handle the hook receives: use it for every write that must commit with the event. */
 export type PollerTx = Parameters<Parameters<Database['transaction']>[0]>[0];
@@ -183,6 +184,8 @@ export async function recordPoll(db: Database, c: ClaimedListing, verdict: PollV
 					target: [pollCounts.shopId, pollCounts.day, pollCounts.outcome],
 					set: { count: sql`${pollCounts.count} + 1`, lastAt: sql`greatest(${pollCounts.lastAt}, excluded.last_at)`, lastDetail: sql`excluded.last_detail` }
 				});
+			// The public cards (read model) commit with the change they show.
+			if (result.changed || result.delisted) await refreshListingCards(tx, [c.listingId]);
 			return result;
 		});
 	} catch (err) {

@@ -1,11 +1,11 @@
 /** Current offers and exchange rates from the database, for the pricing helpers in $lib/pricing. */
 import { and, desc, eq, inArray, isNull, lte, sql } from 'drizzle-orm';
-import type { Database } from '../db/client';
+import type { Db } from './catalogue-entries';
 import { exchangeRates, listingStates, listings, shops } from '../db/schema';
 import type { CurrentOffer, RatesPerEur, Region } from '../../pricing';
 
 /** Latest EUR-based rate per currency on or before `day` (YYYY-MM-DD). */
-export async function loadRates(db: Database, day = new Date().toISOString().slice(0, 10)): Promise<RatesPerEur> {
+export async function loadRates(db: Db, day = new Date().toISOString().slice(0, 10)): Promise<RatesPerEur> {
 	const rows = await db
 		.selectDistinctOn([exchangeRates.quote], { quote: exchangeRates.quote, rate: exchangeRates.rate })
 		.from(exchangeRates)
@@ -20,7 +20,7 @@ export async function loadRates(db: Database, day = new Date().toISOString().sli
  * Every active listing's current price and stock, optionally only for some converters and
  * only at shops based in or shipping to a region (filtered in SQL so a large catalogue reads less).
  */
-export async function currentOffers(db: Database, converterIds?: number[], region?: Region): Promise<CurrentOffer[]> {
+export async function currentOffers(db: Db, converterIds?: number[], region?: Region): Promise<CurrentOffer[]> {
 	const rows = await db
 		.select({
 			listingId: listings.id,

@@ -18,169 +18,23 @@ import {
 	revisions
 } from '../db/schema';
 import { currentOffers, loadRates } from './offers';
+import { iso, revisionsFor, toOffer, type Viewpoint } from './catalogue-entries';
+import { loadCataloguePage, loadEntries } from './read-model';
 import { aggregateRuns, type LevelInput, type LevelReport } from '../../levels/index';
-import { leadGrade, type CatalogueEntry, type CatalogueOffer, type CatalogueRevision, type PowerKind } from '../../finder';
-import {
-	bestOfferByConverter,
-	isBuyable,
-	servesRegion,
-	type CurrentOffer,
-	type PricedOffer,
-	type RatesPerEur,
-	type Region,
-	convertMinor
-} from '../../pricing';
+import { leadGrade, type CatalogueEntry, type CatalogueOffer, type CatalogueRevision } from '../../finder';
+import { isBuyable, servesRegion, type Region } from '../../pricing';
 import type { Band } from '../../components/bands';
 import { verifiedTeardowns } from '../curate/teardowns';
 import { revisionOdds, type ShopRevisionOdds } from '../../odds';
 
-const iso = (d: Date | string | null | undefined): string | null =>
-	d == null ? null : d instanceof Date ? d.toISOString() : new Date(d).toISOString();
+export type { Viewpoint } from './catalogue-entries';
 
-/** Where a visitor shops and which currency they read prices in. */
-export interface Viewpoint {
-	region: Region;
-	currency: string;
-}
-
-function toOffer(o: CurrentOffer | PricedOffer, currency: string, rates: RatesPerEur): CatalogueOffer {
-	const displayMinor =
-		'displayMinor' in o
-			? o.displayMinor
-			: o.priceMinor != null && o.currency
-				? convertMinor(o.priceMinor, o.currency, currency, rates)
-				: null;
-	return {
-		listingId: o.listingId,
-		shopSlug: o.shopSlug,
-		shopName: o.shopName,
-		shopRegion: o.shopRegion,
-		url: o.url,
-		priceMinor: o.priceMinor,
-		currency: o.currency,
-		displayMinor,
-		displayCurrency: currency,
-		stock: o.stock,
-		lastCheckedAt: iso(o.lastCheckedAt)
-	};
-}
-
-type ConverterRow = typeof converters.$inferSelect;
-
-function groupBy<T, K>(xs: T[], key: (x: T) => K): Map<K, T[]> {
-	const m = new Map<K, T[]>();
-	for (const x of xs) {
-		const k = key(x);
-		const list = m.get(k);
-		if (list) list.push(x);
-		else m.set(k, [x]);
-	}
-	return m;
-}
-
-async function revisionsFor(db: Database, converterIds: number[] | 'all') {
-	if (converterIds !== 'all' && converterIds.length === 0) return [];
-	return db
-		.select({
-			id: revisions.id,
-			converterId: revisions.converterId,
-			code: revisions.code,
-			chip: chips.name,
-			chipSlug: chips.slug,
-			chipMaker: chips.maker,
-			chipNotes: chips.notes,
-			boardMarking: revisions.boardMarking,
-			band: revisions.band,
-			score: revisions.score,
-			scoreMin: revisions.scoreMin,
-			scoreMax: revisions.scoreMax,
-			deviationIre: revisions.deviationIre,
-			bandReason: revisions.bandReason,
-			runs: revisions.runCount,
-			rubricVersion: revisions.rubricVersion,
-			gradedAt: revisions.gradedAt,
-			retiredAt: revisions.retiredAt,
-			seenFrom: revisions.seenFrom,
-			seenTo: revisions.seenTo,
-			notes: revisions.notes
-		})
-		.from(revisions)
-		.innerJoin(chips, eq(chips.id, revisions.chipId))
-		.where(converterIds === 'all' ? undefined : inArray(revisions.converterId, converterIds))
-		.orderBy(asc(revisions.converterId), asc(revisions.code));
-}
-
-function buildEntries(
-	rows: ConverterRow[],
-	revs: Awaited<ReturnType<typeof revisionsFor>>,
-	offers: CurrentOffer[],
-	view: Viewpoint,
-	rates: RatesPerEur
-): CatalogueEntry[] {
-	const best = bestOfferByConverter(offers, view.region, view.currency, rates);
-	// Group once: a catalogue of thousands must not scan every offer for every converter.
-	const revsBy = groupBy(revs, (r) => r.converterId);
-	const offersBy = groupBy(offers, (o) => o.converterId);
-	return rows.map((c) => {
-		const revisionsOf: CatalogueRevision[] = (revsBy.get(c.id) ?? [])
-			.map((r) => ({
-				id: r.id,
-				code: r.code,
-				chip: r.chip,
-				chipSlug: r.chipSlug,
-				boardMarking: r.boardMarking,
-				band: r.band,
-				score: r.score,
-				deviationIre: r.deviationIre,
-				bandReason: r.bandReason,
-				runs: r.runs,
-				retired: r.retiredAt !== null,
-				seenFrom: r.seenFrom,
-				seenTo: r.seenTo
-			}));
-		const lead = leadGrade(revisionsOf);
-		const inRegion = (offersBy.get(c.id) ?? []).filter((o) => servesRegion(o, view.region));
-		const bestOffer = best.get(c.id);
-		const priced = inRegion
-			.map((o) => toOffer(o, view.currency, rates))
-			.sort(
-				(a, b) =>
-					Number(isBuyable(b.stock)) - Number(isBuyable(a.stock)) ||
-					(a.displayMinor ?? Infinity) - (b.displayMinor ?? Infinity)
-			);
-		return {
-			id: c.id,
-			slug: c.slug,
-			brand: c.brand,
-			model: c.model,
-			summary: c.summary,
-			hasAudioOut: c.hasAudioOut,
-			power: c.power as PowerKind,
-			outputs: c.outputs,
-			lastReviewedAt: iso(c.lastReviewedAt),
-			revisions: revisionsOf,
-			bestBand: lead.band,
-			bestScore: lead.score,
-			bestDeviationIre: lead.deviationIre,
-			bestBandReason: lead.reason,
-			offers: priced,
-			best: bestOffer ? toOffer(bestOffer, view.currency, rates) : null,
-			inStockShops: new Set(inRegion.filter((o) => o.stock === 'in_stock').map((o) => o.shopSlug)).size
-		};
-	});
-}
-
-
-/** Every live converter as a catalogue entry priced for one viewpoint. */
+/**
+ * Every live converter as a catalogue entry priced for one viewpoint, read from the cards (the
+ * finder ranks them all; pages that show a list use loadCataloguePage instead).
+ */
 export async function loadCatalogue(db: Database, view: Viewpoint): Promise<CatalogueEntry[]> {
-	const rows = await db
-		.select()
-		.from(converters)
-		.where(isNull(converters.retiredAt))
-		.orderBy(asc(converters.brand), asc(converters.model));
-	// The whole catalogue: every revision, and only the offers of shops serving the region.
-	const [revs, offers, rates] = await Promise.all([revisionsFor(db, 'all'), currentOffers(db, undefined, view.region), loadRates(db)]);
-	return buildEntries(rows, revs, offers, view, rates);
+	return (await loadCataloguePage(db, view, { order: 'name' }, { pageSize: 100_000 })).entries;
 }
 
 export interface PublicBenchRun {
@@ -322,8 +176,13 @@ function publicRevision(
 export async function loadConverterDetail(db: Database, slug: string, view: Viewpoint): Promise<ConverterDetail | null> {
 	const [row] = await db.select().from(converters).where(and(eq(converters.slug, slug), isNull(converters.retiredAt)));
 	if (!row) return null;
-	const [revs, offers, rates] = await Promise.all([revisionsFor(db, [row.id]), currentOffers(db, [row.id]), loadRates(db)]);
-	const [entry] = buildEntries([row], revs, offers, view, rates);
+	const [revs, offers, rates, [entry]] = await Promise.all([
+		revisionsFor(db, [row.id]),
+		currentOffers(db, [row.id]),
+		loadRates(db),
+		loadEntries(db, view, [row.id])
+	]);
+	if (!entry) return null;
 	const runs = await runsFor(db, revs.map((r) => r.id));
 	const teardownRows = await verifiedTeardowns(db, { converterId: row.id });
 	const teardowns: TeardownRow[] = teardownRows.map((t) => ({
@@ -512,9 +371,7 @@ export async function loadGuide(db: Database, slug: string, view: Viewpoint) {
 		.where(eq(guidePicks.guideId, g.id))
 		.orderBy(asc(guidePicks.position), asc(guidePicks.converterId));
 	const ids = picks.map((p) => p.converterId);
-	const rows = ids.length ? await db.select().from(converters).where(inArray(converters.id, ids)) : [];
-	const [revs, offers, rates] = await Promise.all([revisionsFor(db, ids), currentOffers(db, ids), loadRates(db)]);
-	const entries = buildEntries(rows.filter((r) => r.retiredAt === null), revs, offers, view, rates);
+	const entries = await loadEntries(db, view, ids);
 	const pickViews: GuidePickView[] = picks.map((p) => {
 		const entry = entries.find((e) => e.id === p.converterId) ?? null;
 		return {

@@ -1,16 +1,33 @@
 import { db } from '$lib/server/db';
-import { loadCatalogue } from '$lib/server/queries/public';
+import { loadCataloguePage } from '$lib/server/queries/read-model';
 import { apiConverter } from '$lib/server/queries/public-api';
-import { converterQuery as params } from '$lib/server/api/contract';
+import { converterListQuery as params } from '$lib/server/api/contract';
 import { searchObject, viewpoint } from '$lib/server/queries/public-params';
 import { badRequest, cachedJson, DATA_LICENCE } from '$lib/server/queries/public-http';
 import type { RequestHandler } from './$types';
 
-/** Every live converter with its revisions, bands and the best offer in a region. */
+/** Converters per response unless `limit` says otherwise (a catalogue of thousands is read page by page). */
+const API_PAGE_SIZE = 100;
+
+/** Live converters by name with their revisions, bands and the best offer in a region, a page at a time. */
 export const GET: RequestHandler = async ({ url, request }) => {
 	const parsed = params.safeParse(searchObject(url));
 	if (!parsed.success) return badRequest(parsed.error);
 	const view = viewpoint(parsed.data, null, request.headers.get('accept-language'));
-	const converters = (await loadCatalogue(db, view)).map(apiConverter);
-	return cachedJson(request, { region: view.region, currency: view.currency, licence: DATA_LICENCE.name, converters });
+	const found = await loadCataloguePage(db, view, { sort: 'name' }, { page: parsed.data.page, pageSize: parsed.data.limit ?? API_PAGE_SIZE });
+	const link = (page: number) => {
+		const u = new URLSearchParams({ region: view.region, currency: view.currency, page: String(page) });
+		if (parsed.data.limit) u.set('limit', String(parsed.data.limit));
+		return `/api/v1/converters?${u}`;
+	};
+	return cachedJson(request, {
+		region: view.region,
+		currency: view.currency,
+		licence: DATA_LICENCE.name,
+		total: found.total,
+		page: found.page,
+		pages: found.pages,
+		links: { next: found.page < found.pages ? link(found.page + 1) : null, prev: found.page > 1 ? link(found.page - 1) : null },
+		converters: found.entries.map(apiConverter)
+	});
 };

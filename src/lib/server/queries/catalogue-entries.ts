@@ -1,0 +1,160 @@
+/**
+ * Building catalogue entries (a converter's revisions, lead grade and offers priced for one
+ * viewpoint) from the catalogue tables through the pure rules in $lib/finder and $lib/pricing.
+ * The read model (read-model.ts) stores what this builds; pages read the stored result.
+ */
+import { asc, eq, inArray } from 'drizzle-orm';
+import type { PgDatabase, PgQueryResultHKT } from 'drizzle-orm/pg-core';
+import * as schema from '../db/schema';
+import { chips, converters, revisions } from '../db/schema';
+import { leadGrade, type CatalogueEntry, type CatalogueOffer, type CatalogueRevision, type PowerKind } from '../../finder';
+import {
+	bestOfferByConverter,
+	convertMinor,
+	isBuyable,
+	servesRegion,
+	type CurrentOffer,
+	type PricedOffer,
+	type RatesPerEur,
+	type Region
+} from '../../pricing';
+
+/** The pool-level client or a transaction: every read here works inside a writer's transaction too. */
+// eslint-disable-next-line @typescript-eslint/no-explicit-any
+export type Db = PgDatabase<PgQueryResultHKT, typeof schema, any>;
+
+export const iso = (d: Date | string | null | undefined): string | null =>
+	d == null ? null : d instanceof Date ? d.toISOString() : new Date(d).toISOString();
+
+/** Where a visitor shops and which currency they read prices in. */
+export interface Viewpoint {
+	region: Region;
+	currency: string;
+}
+
+export function toOffer(o: CurrentOffer | PricedOffer, currency: string, rates: RatesPerEur): CatalogueOffer {
+	const displayMinor =
+		'displayMinor' in o
+			? o.displayMinor
+			: o.priceMinor != null && o.currency
+				? convertMinor(o.priceMinor, o.currency, currency, rates)
+				: null;
+	return {
+		listingId: o.listingId,
+		shopSlug: o.shopSlug,
+		shopName: o.shopName,
+		shopRegion: o.shopRegion,
+		url: o.url,
+		priceMinor: o.priceMinor,
+		currency: o.currency,
+		displayMinor,
+		displayCurrency: currency,
+		stock: o.stock,
+		lastCheckedAt: iso(o.lastCheckedAt)
+	};
+}
+
+type ConverterRow = typeof converters.$inferSelect;
+
+export function groupBy<T, K>(xs: T[], key: (x: T) => K): Map<K, T[]> {
+	const m = new Map<K, T[]>();
+	for (const x of xs) {
+		const k = key(x);
+		const list = m.get(k);
+		if (list) list.push(x);
+		else m.set(k, [x]);
+	}
+	return m;
+}
+
+export async function revisionsFor(db: Db, converterIds: number[] | 'all') {
+	if (converterIds !== 'all' && converterIds.length === 0) return [];
+	return db
+		.select({
+			id: revisions.id,
+			converterId: revisions.converterId,
+			code: revisions.code,
+			chip: chips.name,
+			chipSlug: chips.slug,
+			chipMaker: chips.maker,
+			chipNotes: chips.notes,
+			boardMarking: revisions.boardMarking,
+			band: revisions.band,
+			score: revisions.score,
+			scoreMin: revisions.scoreMin,
+			scoreMax: revisions.scoreMax,
+			deviationIre: revisions.deviationIre,
+			bandReason: revisions.bandReason,
+			runs: revisions.runCount,
+			rubricVersion: revisions.rubricVersion,
+			gradedAt: revisions.gradedAt,
+			retiredAt: revisions.retiredAt,
+			seenFrom: revisions.seenFrom,
+			seenTo: revisions.seenTo,
+			notes: revisions.notes
+		})
+		.from(revisions)
+		.innerJoin(chips, eq(chips.id, revisions.chipId))
+		.where(converterIds === 'all' ? undefined : inArray(revisions.converterId, converterIds))
+		.orderBy(asc(revisions.converterId), asc(revisions.code));
+}
+
+export function buildEntries(
+	rows: ConverterRow[],
+	revs: Awaited<ReturnType<typeof revisionsFor>>,
+	offers: CurrentOffer[],
+	view: Viewpoint,
+	rates: RatesPerEur
+): CatalogueEntry[] {
+	const best = bestOfferByConverter(offers, view.region, view.currency, rates);
+	// Group once: a catalogue of thousands must not scan every offer for every converter.
+	const revsBy = groupBy(revs, (r) => r.converterId);
+	const offersBy = groupBy(offers, (o) => o.converterId);
+	return rows.map((c) => {
+		const revisionsOf: CatalogueRevision[] = (revsBy.get(c.id) ?? [])
+			.map((r) => ({
+				id: r.id,
+				code: r.code,
+				chip: r.chip,
+				chipSlug: r.chipSlug,
+				boardMarking: r.boardMarking,
+				band: r.band,
+				score: r.score,
+				deviationIre: r.deviationIre,
+				bandReason: r.bandReason,
+				runs: r.runs,
+				retired: r.retiredAt !== null,
+				seenFrom: r.seenFrom,
+				seenTo: r.seenTo
+			}));
+		const lead = leadGrade(revisionsOf);
+		const inRegion = (offersBy.get(c.id) ?? []).filter((o) => servesRegion(o, view.region));
+		const bestOffer = best.get(c.id);
+		const priced = inRegion
+			.map((o) => toOffer(o, view.currency, rates))
+			.sort(
+				(a, b) =>
+					Number(isBuyable(b.stock)) - Number(isBuyable(a.stock)) ||
+					(a.displayMinor ?? Infinity) - (b.displayMinor ?? Infinity)
+			);
+		return {
+			id: c.id,
+			slug: c.slug,
+			brand: c.brand,
+			model: c.model,
+			summary: c.summary,
+			hasAudioOut: c.hasAudioOut,
+			power: c.power as PowerKind,
+			outputs: c.outputs,
+			lastReviewedAt: iso(c.lastReviewedAt),
+			revisions: revisionsOf,
+			bestBand: lead.band,
+			bestScore: lead.score,
+			bestDeviationIre: lead.deviationIre,
+			bestBandReason: lead.reason,
+			offers: priced,
+			best: bestOffer ? toOffer(bestOffer, view.currency, rates) : null,
+			inStockShops: new Set(inRegion.filter((o) => o.stock === 'in_stock').map((o) => o.shopSlug)).size
+		};
+	});
+}

@@ -1,0 +1,148 @@
+/**
+ * The public read model (src/lib/server/queries/read-model.ts) on a generated catalogue:
+ * a catalogue request runs the same few SQL statements at 50 and at 2,000 converters; the
+ * cards say what the catalogue rules ($lib/finder, $lib/pricing) say when computed straight from
+ * the tables; and a price, a grade or an exchange rate written by any path shows on the next read.
+ */
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import postgres from 'postgres';
+import { drizzle } from 'drizzle-orm/postgres-js';
+import { and, eq, sql as dsql } from 'drizzle-orm';
+import * as schema from '../../src/lib/server/db/schema';
+import { freshDatabase } from './helpers/db';
+import { loadBenchCatalogue } from '../../scripts/lib/bench-catalogue';
+import { loadCataloguePage, loadEntries, refreshCards, refreshListingCards } from '../../src/lib/server/queries/read-model';
+import { buildEntries, revisionsFor } from '../../src/lib/server/queries/catalogue-entries';
+import { currentOffers, loadRates } from '../../src/lib/server/queries/offers';
+import { regradeRevision } from '../../src/lib/server/grading';
+import { filterCatalogue, type CatalogueEntry, type CatalogueFilter } from '../../src/lib/finder';
+import { bandRank } from '../../src/lib/components/bands';
+import { REGION_CODES, type Region } from '../../src/lib/pricing';
+
+describe('public read model', () => {
+	let h: Awaited<ReturnType<typeof freshDatabase>>;
+	let counted: ReturnType<typeof postgres>;
+	let statements = 0;
+	let cdb: ReturnType<typeof drizzle<typeof schema>>;
+
+	beforeAll(async () => {
+		h = await freshDatabase('sg_it_read_model');
+		// postgres.js calls `debug` once per statement sent: the counter the scaling test reads.
+		counted = postgres(h.url, { max: 2, onnotice: () => {}, debug: () => void statements++ });
+		cdb = drizzle(counted, { schema });
+		await loadBenchCatalogue(h.sql, { converters: 50, per: 3, historyPoints: 3 });
+	}, 120_000);
+	afterAll(async () => {
+		await counted?.end({ timeout: 5 });
+		await h?.close();
+	});
+
+	async function statementsFor(run: () => Promise<unknown>) {
+		await run(); // the first read after a load rebuilds dirty cards
+		statements = 0;
+		await run();
+		return statements;
+	}
+
+	const requests: Array<[string, () => Promise<unknown>]> = [
+		['default page', () => loadCataloguePage(cdb, { region: 'eu', currency: 'EUR' }, { sort: 'band' }, { pageSize: 48 })],
+		['price filter in another currency, page 2', () => loadCataloguePage(cdb, { region: 'na', currency: 'GBP' }, { sort: 'price', priceMin: 500, priceMax: 5000, inStock: true }, { page: 2, pageSize: 48 })],
+		['by name, audio, Close or better', () => loadCataloguePage(cdb, { region: 'uk', currency: 'GBP' }, { sort: 'name', audio: true, minBand: 'close' }, { pageSize: 48 })]
+	];
+
+	it('runs as many SQL statements per catalogue request at 2,000 converters as at 50', async () => {
+		const small = [];
+		for (const [, run] of requests) small.push(await statementsFor(run));
+		await loadBenchCatalogue(h.sql, { converters: 1950, per: 3, historyPoints: 3, start: 50 });
+		const large = [];
+		for (const [, run] of requests) large.push(await statementsFor(run));
+		expect(large).toEqual(small);
+		// dirty probe, rates, counts, page, last checked
+		for (const n of large) expect(n).toBeLessThanOrEqual(5);
+		const page = await loadCataloguePage(cdb, { region: 'eu', currency: 'EUR' }, {}, { pageSize: 48 });
+		expect(page.total).toBe(2000);
+		expect(page.entries).toHaveLength(48);
+	}, 300_000);
+
+	/** The catalogue rules applied to entries built straight from the tables (no cards). */
+	async function direct(region: Region, currency: string): Promise<CatalogueEntry[]> {
+		const rows = await h.db.select().from(schema.converters).where(dsql`${schema.converters.retiredAt} is null`);
+		const [revs, offers, rates] = await Promise.all([revisionsFor(h.db, 'all'), currentOffers(h.db, undefined, region), loadRates(h.db)]);
+		return buildEntries(rows, revs, offers, { region, currency }, rates);
+	}
+
+	const filters: Array<[Region, string, CatalogueFilter]> = [
+		['eu', 'EUR', { sort: 'band' }],
+		['na', 'GBP', { sort: 'price', priceMin: 1000, priceMax: 1300 }],
+		['jp', 'EUR', { sort: 'band', inStock: true, minBand: 'fair', audio: true }],
+		['au', 'AUD', { sort: 'name', power: 'barrel' }]
+	];
+
+	it.each(filters)('finds and orders what the catalogue rules find for %s in %s (%j)', async (region, currency, f) => {
+		const expected = filterCatalogue(await direct(region, currency), f);
+		const got = await loadCataloguePage(h.db, { region, currency }, f, { pageSize: 5000 });
+		expect(got.matching).toBe(expected.length);
+		expect(got.entries.map((e) => e.slug).sort()).toEqual(expected.map((e) => e.slug).sort());
+		const want = new Map(expected.map((e) => [e.slug, e]));
+		for (const e of got.entries) {
+			const x = want.get(e.slug)!;
+			expect({ band: e.bestBand, score: e.bestScore, best: e.best?.listingId ?? null, shown: e.best?.displayMinor ?? null, stock: e.inStockShops }).toEqual({
+				band: x.bestBand,
+				score: x.bestScore,
+				best: x.best?.listingId ?? null,
+				shown: x.best?.displayMinor ?? null,
+				stock: x.inStockShops
+			});
+		}
+		// SQL order never contradicts the rules' order (ties may fall either way).
+		for (let i = 1; i < got.entries.length; i++) {
+			const a = got.entries[i - 1];
+			const b = got.entries[i];
+			if (f.sort === 'band') expect(bandRank(a.bestBand) <= bandRank(b.bestBand)).toBe(true);
+			if (f.sort === 'price') expect((a.best?.displayMinor ?? Infinity) <= (b.best?.displayMinor ?? Infinity) + 1).toBe(true);
+			if (f.sort === 'name') expect(`${a.brand} ${a.model}`.localeCompare(`${b.brand} ${b.model}`, 'en') <= 0).toBe(true);
+		}
+	}, 120_000);
+
+	it('shows a new price, a new grade and a new exchange rate on the next read', async () => {
+		const view = { region: 'eu' as Region, currency: 'EUR' };
+		const [box] = await h.db.select().from(schema.converters).where(eq(schema.converters.slug, 'bench-box-7'));
+		const [before] = await loadEntries(h.db, view, [box.id]);
+		expect(before.best).not.toBeNull();
+
+		// A price drop written the poller's way: state change and card refresh in one transaction.
+		await h.db.transaction(async (tx) => {
+			await tx.update(schema.listingStates).set({ currentPriceMinor: 1, currentStock: 'in_stock' }).where(eq(schema.listingStates.listingId, before.best!.listingId));
+			await refreshListingCards(tx, [before.best!.listingId]);
+		});
+		const [cheap] = await loadEntries(h.db, view, [box.id]);
+		expect(cheap.best).toMatchObject({ listingId: before.best!.listingId, priceMinor: 1 });
+
+		// A grade: the revision loses its runs (as if superseded) and is regraded to none.
+		const [rev] = await h.db.select().from(schema.revisions).where(eq(schema.revisions.converterId, box.id));
+		await h.db.transaction(async (tx) => {
+			await tx.update(schema.benchRuns).set({ status: 'superseded' }).where(eq(schema.benchRuns.revisionId, rev.id));
+			await regradeRevision(tx, rev.id);
+		});
+		const [ungraded] = await loadEntries(h.db, view, [box.id]);
+		expect(ungraded.revisions.find((r) => r.id === rev.id)!.band).toBeNull();
+
+		// An exchange rate written by a plain statement (no refresh call): the next read catches it.
+		const gbpListing = (await currentOffers(h.db, [box.id])).find((o) => o.currency === 'GBP' && o.priceMinor != null);
+		if (gbpListing) {
+			const shownBefore = (await loadEntries(h.db, { region: 'uk', currency: 'EUR' }, [box.id]))[0].offers.find((o) => o.listingId === gbpListing.listingId)!.displayMinor!;
+			await h.db.insert(schema.exchangeRates).values({ base: 'EUR', quote: 'GBP', day: new Date().toISOString().slice(0, 10), rate: '0.5', source: 'test' })
+				.onConflictDoUpdate({ target: [schema.exchangeRates.base, schema.exchangeRates.quote, schema.exchangeRates.day], set: { rate: '0.5' } });
+			const after = (await loadEntries(h.db, { region: 'uk', currency: 'EUR' }, [box.id]))[0].offers.find((o) => o.listingId === gbpListing.listingId)!;
+			expect(after.displayMinor).toBe(Math.round(gbpListing.priceMinor! / 100 / 0.5 * 100));
+			expect(after.displayMinor).not.toBe(shownBefore);
+		}
+		// A retired converter leaves the catalogue.
+		await h.db.update(schema.converters).set({ retiredAt: new Date() }).where(eq(schema.converters.id, box.id));
+		expect(await loadEntries(h.db, view, [box.id])).toEqual([]);
+		await refreshCards(h.db, [box.id]);
+		const cards = await h.db.select().from(schema.converterCards).where(and(eq(schema.converterCards.converterId, box.id)));
+		expect(cards).toEqual([]);
+		expect(REGION_CODES).toContain(view.region);
+	}, 120_000);
+});
