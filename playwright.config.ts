@@ -33,7 +33,7 @@ export default defineConfig({
 		}
 	},
 	webServer: {
-		command: `node ${process.env.SG_BUILD_DIR || 'build'}`,
+		command: `node scripts/serve.mjs ${process.env.SG_BUILD_DIR || 'build'}`,
 		url: `${origin}/`,
 		reuseExistingServer: false,
 		timeout: 60_000,

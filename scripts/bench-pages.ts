@@ -4,14 +4,19 @@
  * Loads a generated catalogue (2,000 converters, 20,000 listings, a year of price and stock
  * history) into a scratch database `sg_bench_pages` on the test cluster, builds the app into
  * .data/bench/build, runs it on loopback, and measures with autocannon (32 connections, one
- * run per URL): requests per second and p50/p99 latency for /converters, a converter page and
- * /api/v1/converters, each also as a ratio to the same server answering /robots.txt (a static
- * file). Also prints the JavaScript the catalogue page ships (gzip bytes).
+ * run per URL) through scripts/serve.mjs: requests per second and p50/p99 latency for /converters,
+ * a converter page and /api/v1/converters, each as a ratio to the same server answering
+ * /robots.txt (a static file) in the same run, once with the page cache warm and once with it off
+ * (PAGE_CACHE=off); the first request after an invalidation (a real price change); bytes on the
+ * wire (brotli or gzip); and the JavaScript each page loads before any section is opened.
+ * Lines for scripts: `<url> rps x<ratio>[ cache off] p99 <ms> ms`.
  *
- * Options: BENCH_CONVERTERS (2000), BENCH_LISTINGS_PER (10), BENCH_SECONDS (10), BENCH_PORT (4490),
- * BENCH_SKIP_BUILD=1 to reuse an existing .data/bench/build.
+ * Options: BENCH_CACHE (on|off; both when unset), BENCH_CONVERTERS (2000), BENCH_LISTINGS_PER (10),
+ * BENCH_SECONDS (10), BENCH_PORT (4490 + SG_PORT_OFFSET), BENCH_SKIP_BUILD=1 to reuse
+ * .data/bench/build, BENCH_SKIP_LOAD=1 to reuse the loaded database.
  */
 import { spawn, spawnSync } from 'node:child_process';
+import http from 'node:http';
 import { existsSync } from 'node:fs';
 import { resolve } from 'node:path';
 import { gzipSync } from 'node:zlib';
@@ -41,6 +46,14 @@ const url = (() => {
 
 async function load() {
 	const admin = postgres(adminUrl, { max: 1, onnotice: () => {} });
+	if (process.env.BENCH_SKIP_LOAD) {
+		const [row] = await admin`select 1 from pg_database where datname = ${NAME}`;
+		if (row) {
+			await admin.end();
+			await applyMigrations(url);
+			return;
+		}
+	}
 	await admin.unsafe(`drop database if exists ${NAME} with (force)`);
 	await admin.unsafe(`create database ${NAME}`);
 	await admin.end();
@@ -130,46 +143,105 @@ async function shippedJs(base: string, path: string) {
 	}
 }
 
+/** Bytes on the wire for one URL with `Accept-Encoding: br, gzip` (Node's fetch would decompress). */
+function wireBytes(target: string): Promise<{ bytes: number; encoding: string }> {
+	return new Promise((ok, fail) => {
+		http
+			.get(target, { headers: { 'Accept-Encoding': 'br, gzip' } }, (res) => {
+				let bytes = 0;
+				res.on('data', (c: Buffer) => (bytes += c.length));
+				res.on('end', () => ok({ bytes, encoding: String(res.headers['content-encoding'] ?? 'identity') }));
+			})
+			.on('error', fail);
+	});
+}
+
+function startApp(out: string, port: number, cache: boolean) {
+	const origin = `http://127.0.0.1:${port}`;
+	const child = spawn(process.execPath, [resolve(ROOT, 'scripts/serve.mjs'), out], {
+		cwd: ROOT,
+		env: { ...process.env, DATABASE_URL: url, HOST: '127.0.0.1', PORT: String(port), ORIGIN: origin, AUTH_SECRET: 'bench-secret-not-for-production-0123456789', NODE_ENV: 'production', PAGE_CACHE: cache ? 'on' : 'off' },
+		stdio: ['ignore', 'ignore', 'inherit']
+	});
+	return { origin, child };
+}
+
+const TARGETS = [
+	['/converters/bench-box-42', '/converters/bench-box-42'],
+	['/converters', '/converters?region=eu'],
+	['/api/v1/converters', '/api/v1/converters?region=eu']
+] as const;
+
+async function measure(origin: string, cache: boolean) {
+	const tag = cache ? '' : ' cache off';
+	const results: Record<string, Result> = {};
+	for (const [, path] of TARGETS) await fetch(origin + path); // warm up (the first read builds the cards)
+	results.static = await cannon(`${origin}/robots.txt`);
+	await drain(origin);
+	for (const [label, path] of TARGETS) {
+		results[label] = await cannon(origin + path);
+		await drain(origin);
+	}
+	const line = (label: string, r: Result) =>
+		console.log(`${(label + tag).padEnd(36)} ${r.rps.toFixed(1).padStart(9)} req/s   p50 ${String(r.p50).padStart(5)} ms   p99 ${String(r.p99).padStart(5)} ms${r.errors ? `   (${r.errors} errors/non-2xx)` : ''}`);
+	line('static /robots.txt', results.static);
+	for (const [label] of TARGETS) line(label, results[label]);
+	// One line per figure, for scripts: `<url> rps x<ratio>` (and p99 in ms).
+	for (const [label] of TARGETS) {
+		const r = results[label];
+		console.log(`${label} rps x${(r.rps / results.static.rps).toFixed(3)}${tag} p99 ${r.p99} ms`);
+	}
+}
+
+/** Time of the first request to each URL after a real change (a listing's price) invalidated every cache. */
+async function afterInvalidation(origin: string) {
+	const sql = postgres(url, { max: 1, onnotice: () => {} });
+	try {
+		for (const [label, path] of TARGETS) {
+			await fetch(origin + path);
+			await sql`
+				update listing_state set current_price_minor = current_price_minor + 1
+				where listing_id = (select l.id from listing l join converter c on c.id = l.converter_id where c.slug = 'bench-box-42' order by l.id limit 1)`;
+			await new Promise((r) => setTimeout(r, 500)); // the NOTIFY reaches the app
+			const t = performance.now();
+			const res = await fetch(origin + path);
+			await res.arrayBuffer();
+			console.log(`${label} first request after an invalidation ${Math.round(performance.now() - t)} ms (${res.headers.get('x-page-cache')})`);
+		}
+	} finally {
+		await sql.end();
+	}
+}
+
 async function main() {
 	const started = await startCluster(p, { fast: true });
 	const out = resolve(ROOT, '.data', 'bench', 'build');
-	let app: ReturnType<typeof spawn> | null = null;
+	const modes = process.env.BENCH_CACHE === 'off' ? [false] : process.env.BENCH_CACHE === 'on' ? [true] : [true, false];
+	let app: ReturnType<typeof startApp> | null = null;
 	try {
 		await load();
 		build(out);
-		const origin = `http://127.0.0.1:${PORT}`;
-		app = spawn(process.execPath, [out], {
-			cwd: ROOT,
-			env: { ...process.env, DATABASE_URL: url, HOST: '127.0.0.1', PORT: String(PORT), ORIGIN: origin, AUTH_SECRET: 'bench-secret-not-for-production-0123456789', NODE_ENV: 'production' },
-			stdio: ['ignore', 'ignore', 'inherit']
-		});
-		await waitFor(`${origin}/robots.txt`);
-		const targets = [
-			['static /robots.txt', '/robots.txt'],
-			['/converters/bench-box-42', '/converters/bench-box-42'],
-			['/converters', '/converters?region=eu'],
-			['/api/v1/converters', '/api/v1/converters?region=eu']
-		] as const;
-		for (const [, path] of targets) await fetch(origin + path); // warm up
-		const results: Record<string, Result> = {};
-		for (const [label, path] of targets) {
-			results[label] = await cannon(origin + path);
-			await drain(origin);
-			const r = results[label];
-			console.log(`${label.padEnd(28)} ${r.rps.toFixed(1).padStart(9)} req/s   p50 ${String(r.p50).padStart(5)} ms   p99 ${String(r.p99).padStart(5)} ms${r.errors ? `   (${r.errors} errors/non-2xx)` : ''}`);
+		for (const cache of modes) {
+			app = startApp(out, PORT, cache);
+			await waitFor(`${app.origin}/robots.txt`);
+			await measure(app.origin, cache);
+			if (cache) {
+				await afterInvalidation(app.origin);
+				for (const [label, path] of TARGETS) {
+					const w = await wireBytes(app.origin + path);
+					console.log(`${label} bytes on the wire ${w.bytes} (${w.encoding})`);
+				}
+				const js = await shippedJs(app.origin, '/converters');
+				console.log(`\nJavaScript shipped to /converters: ${js.files} files, ${js.raw} bytes, ${js.gz} bytes gzip; chart code included: ${js.chart ? 'yes' : 'no'}`);
+				const jsDetail = await shippedJs(app.origin, '/converters/bench-box-42');
+				console.log(`JavaScript on a converter page before any section is opened: ${jsDetail.files} files, ${jsDetail.gz} bytes gzip; chart code included: ${jsDetail.chart ? 'yes' : 'no'}\n`);
+			}
+			app.child.kill('SIGTERM');
+			await new Promise((r) => app!.child.once('exit', r));
+			app = null;
 		}
-		const base = results['static /robots.txt'];
-		console.log('\nratio to the static file (rps, p50, p99):');
-		for (const [label] of targets.slice(1)) {
-			const r = results[label];
-			console.log(`  ${label.padEnd(28)} rps ×${(r.rps / base.rps).toFixed(3)}   p50 ×${(r.p50 / Math.max(base.p50, 1)).toFixed(1)}   p99 ×${(r.p99 / Math.max(base.p99, 1)).toFixed(1)}`);
-		}
-		const js = await shippedJs(origin, '/converters');
-		console.log(`\nJavaScript shipped to /converters: ${js.files} files, ${js.raw} bytes, ${js.gz} bytes gzip; chart code included: ${js.chart ? 'yes' : 'no'}`);
-		const jsDetail = await shippedJs(origin, '/converters/bench-box-42');
-		console.log(`JavaScript on a converter page, charts included (loaded on demand): ${jsDetail.files} files, ${jsDetail.gz} bytes gzip; chart code included: ${jsDetail.chart ? 'yes' : 'no'}`);
 	} finally {
-		app?.kill('SIGTERM');
+		app?.child.kill('SIGTERM');
 		if (started) stopCluster(p);
 	}
 }

@@ -96,7 +96,7 @@ try {
 	const shops = startService('shops', tsx, ['fixtures/shops/server.ts'], { cwd: ROOT, env });
 	children.push(mail, shops);
 	await waitForHttp(`http://127.0.0.1:${p.inboxPort}/api/health`, 30_000, mail);
-	const app = startService('app', process.execPath, ['build'], { cwd: ROOT, env });
+	const app = startService('app', process.execPath, ['scripts/serve.mjs', 'build'], { cwd: ROOT, env });
 	const jobs = startService('jobs', tsx, ['jobs/index.ts'], { cwd: ROOT, env });
 	children.push(app, jobs);
 	await waitForHttp(`${p.origin}/`, 60_000, app);

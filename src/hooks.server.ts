@@ -6,6 +6,7 @@ import { isForbiddenCrossSiteForm, isForeignOriginApiWrite } from '$lib/server/c
 import { applySecurityHeaders } from '$lib/server/security/headers';
 import { authEndpointLimit } from '$lib/server/security/auth-endpoint';
 import { asProblem, problem } from '$lib/server/http/problem';
+import { pageCacheHandle } from '$lib/server/page-cache';
 
 /** Refuse cross-site form posts (see $lib/server/csrf for the one exemption) and foreign-origin API writes. */
 const originCheck: Handle = async ({ event, resolve }) => {
@@ -42,4 +43,4 @@ const securityHeaders: Handle = async ({ event, resolve }) => {
 	return applySecurityHeaders(response, Boolean(event.locals.user) || event.url.pathname.startsWith('/auth/'));
 };
 
-export const handle = sequence(originCheck, securityHeaders, authEndpointLimit, authHandle, userHandle);
+export const handle = sequence(pageCacheHandle, originCheck, securityHeaders, authEndpointLimit, authHandle, userHandle);

@@ -79,7 +79,10 @@ test.describe('converter page', () => {
 		await expect(revB.getByTestId('findings')).toContainText('Shadows too dark');
 		await expect(revB.getByTestId('run-count')).toContainText('Graded from 2 bench runs');
 
+		// Chart code loads only when the section is reached.
 		const chart = revB.locator('[data-testid=level-chart]');
+		await expect(chart).toHaveCount(0);
+		await revB.getByLabel('Level chart for revision B').scrollIntoViewIfNeeded();
 		await expect(chart).toHaveAttribute('data-ready', 'true');
 		const canvas = chart.locator('canvas');
 		expect(await paintedPixels(canvas)).toBeGreaterThan(2000);
@@ -100,7 +103,9 @@ test.describe('converter page', () => {
 		await expect(whatIf.getByText('Best per-channel correction')).toBeVisible();
 		expect(typeof before).toBe('string');
 
+		await revB.getByLabel('Picture preview for revision B').scrollIntoViewIfNeeded();
 		const preview = revB.getByTestId('preview-output');
+		await expect(preview).toBeVisible();
 		expect(await distinctColours(preview)).toBeGreaterThan(8);
 
 		// Every listing with a nofollow link out.
@@ -109,6 +114,7 @@ test.describe('converter page', () => {
 		await expect(links.first()).toHaveAttribute('rel', 'nofollow noopener');
 
 		// History: fetched in the browser; switching range fetches again.
+		await page.getByRole('heading', { name: 'Price and stock history' }).scrollIntoViewIfNeeded();
 		const history = page.getByTestId('history');
 		await expect(history).toHaveAttribute('data-status', 'ready');
 		await history.getByRole('button', { name: '1 year' }).click();

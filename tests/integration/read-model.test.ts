@@ -15,6 +15,7 @@ import { loadCataloguePage, loadEntries, refreshCards, refreshListingCards } fro
 import { buildEntries, revisionsFor } from '../../src/lib/server/queries/catalogue-entries';
 import { currentOffers, loadRates } from '../../src/lib/server/queries/offers';
 import { regradeRevision } from '../../src/lib/server/grading';
+import { loadConverterDetail } from '../../src/lib/server/queries/public';
 import { filterCatalogue, type CatalogueEntry, type CatalogueFilter } from '../../src/lib/finder';
 import { bandRank } from '../../src/lib/components/bands';
 import { REGION_CODES, type Region } from '../../src/lib/pricing';
@@ -130,12 +131,17 @@ describe('public read model', () => {
 		// An exchange rate written by a plain statement (no refresh call): the next read catches it.
 		const gbpListing = (await currentOffers(h.db, [box.id])).find((o) => o.currency === 'GBP' && o.priceMinor != null);
 		if (gbpListing) {
-			const shownBefore = (await loadEntries(h.db, { region: 'uk', currency: 'EUR' }, [box.id]))[0].offers.find((o) => o.listingId === gbpListing.listingId)!.displayMinor!;
+			const shown = async () => (await loadConverterDetail(h.db, 'bench-box-7', { region: 'uk', currency: 'EUR' }))!.listings.find((o) => o.listingId === gbpListing.listingId)!;
+			const shownBefore = (await shown()).displayMinor;
+			const refreshed = async () => (await h.db.select({ at: schema.converterCards.refreshedAt }).from(schema.converterCards).where(eq(schema.converterCards.converterId, box.id)))[0].at.getTime();
+			const cardBefore = await refreshed();
 			await h.db.insert(schema.exchangeRates).values({ base: 'EUR', quote: 'GBP', day: new Date().toISOString().slice(0, 10), rate: '0.5', source: 'test' })
 				.onConflictDoUpdate({ target: [schema.exchangeRates.base, schema.exchangeRates.quote, schema.exchangeRates.day], set: { rate: '0.5' } });
-			const after = (await loadEntries(h.db, { region: 'uk', currency: 'EUR' }, [box.id]))[0].offers.find((o) => o.listingId === gbpListing.listingId)!;
+			const after = await shown();
 			expect(after.displayMinor).toBe(Math.round(gbpListing.priceMinor! / 100 / 0.5 * 100));
 			expect(after.displayMinor).not.toBe(shownBefore);
+			// Every card was rebuilt with the new rate (the rate trigger marked them all).
+			expect(await refreshed()).toBeGreaterThan(cardBefore);
 		}
 		// A retired converter leaves the catalogue.
 		await h.db.update(schema.converters).set({ retiredAt: new Date() }).where(eq(schema.converters.id, box.id));

@@ -1,6 +1,7 @@
 import { redirect } from '@sveltejs/kit';
 import { db } from '$lib/server/db';
-import { loadCatalogue, loadCompare } from '$lib/server/queries/public';
+import { loadCompare } from '$lib/server/queries/public';
+import { listConverterNames } from '$lib/server/queries/read-model';
 import { viewpoint } from '$lib/server/queries/public-params';
 import type { PageServerLoad } from './$types';
 
@@ -22,7 +23,7 @@ export const load: PageServerLoad = async ({ url, cookies, request }) => {
 		redirect(303, next.length ? `/compare?c=${next.join(',')}` : '/compare');
 	}
 	const view = viewpoint({}, cookies, request.headers.get('accept-language'));
-	const [items, all] = await Promise.all([loadCompare(db, slugs, view), loadCatalogue(db, view)]);
+	const [items, all] = await Promise.all([loadCompare(db, slugs, view), listConverterNames(db)]);
 	return {
 		view,
 		items,

@@ -10,5 +10,7 @@ export const load: PageServerLoad = async ({ url, cookies, request }) => {
 	const { data: params, issues } = parseLenient(catalogueParams, searchObject(url));
 	const view = viewpoint(params, cookies, request.headers.get('accept-language'));
 	const found = await loadCataloguePage(db, view, toCatalogueFilter(params, view.currency), { page: params.page, pageSize: PAGE_SIZE });
-	return { view, params, issues, total: found.total, matching: found.matching, page: found.page, pages: found.pages, converters: found.entries };
+	// Cards show the best offer only: the region's other listings stay off the page's data.
+	const converters = found.entries.map((e) => ({ ...e, offers: [] }));
+	return { view, params, issues, total: found.total, matching: found.matching, page: found.page, pages: found.pages, converters };
 };

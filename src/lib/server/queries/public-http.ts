@@ -17,6 +17,9 @@ export const DATA_LICENCE = {
 	notice: 'Scopegrade bench data, licensed CC BY 4.0 (https://creativecommons.org/licenses/by/4.0/). Grades use Scopegrade\'s own rubric, not a published standard.'
 } as const;
 
+/** Shared caches may keep public answers briefly; browsers revalidate (ETag, 304) every time. */
+export const PUBLIC_CACHE_CONTROL = 'public, max-age=0, s-maxage=5, stale-while-revalidate=30';
+
 export function etagOf(body: string): string {
 	return `"${createHash('sha256').update(body).digest('base64url').slice(0, 27)}"`;
 }
@@ -39,7 +42,7 @@ export function cachedResponse(
 	const etag = etagOf(body);
 	const headers: Record<string, string> = {
 		ETag: etag,
-		'Cache-Control': 'public, max-age=60, must-revalidate',
+		'Cache-Control': PUBLIC_CACHE_CONTROL,
 		Vary: 'Accept-Encoding',
 		...extra
 	};

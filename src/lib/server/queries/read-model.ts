@@ -19,7 +19,7 @@ import { currentOffers, loadRates } from './offers';
 import { bandRank } from '../../components/bands';
 import { minorDigits } from '../../feeds/currency';
 import { convertMinor, REGION_CODES, REGION_CURRENCY, type RatesPerEur } from '../../pricing';
-import type { CatalogueEntry, CatalogueFilter, CatalogueOffer, CatalogueSort } from '../../finder';
+import { rankFinder, type CatalogueEntry, type CatalogueFilter, type CatalogueOffer, type CatalogueSort, type FinderInput, type FinderResult } from '../../finder';
 
 const BATCH = 400;
 
@@ -256,6 +256,23 @@ export async function loadEntries(db: Db, view: Viewpoint, ids: number[]): Promi
 	]);
 	const byId = new Map(rows.map((r) => [r.id, r.entry]));
 	return hydrate(db, ids.filter((id) => byId.has(id)).map((id) => byId.get(id)), view, rates);
+}
+
+/** Finder results shown at most: the best matches of a catalogue of thousands, ranked. */
+export const FINDER_LIMIT = 100;
+
+/**
+ * The finder: filters and the ranking order (band, buyable now, score, price, name) in SQL, then
+ * the pure rankFinder explains the top FINDER_LIMIT matches in words.
+ */
+export async function loadFinder(db: Db, view: Viewpoint, input: FinderInput): Promise<FinderResult[]> {
+	const { entries } = await loadCataloguePage(
+		db,
+		view,
+		{ order: 'finder', minBand: input.minBand, audio: input.needsAudio, inStock: input.inStockNow, priceMax: input.budgetMinor },
+		{ pageSize: FINDER_LIMIT }
+	);
+	return rankFinder(entries, input);
 }
 
 /** Slug and name of every live converter (pickers), from the cards of one region. */

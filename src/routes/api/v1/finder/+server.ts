@@ -1,8 +1,8 @@
 import { db } from '$lib/server/db';
-import { loadCatalogue } from '$lib/server/queries/public';
+import { loadFinder } from '$lib/server/queries/read-model';
 import { finderParams, searchObject, toFinderInput, viewpoint } from '$lib/server/queries/public-params';
 import { badRequest, cachedJson, DATA_LICENCE } from '$lib/server/queries/public-http';
-import { finderItem, rankFinder } from '$lib/finder';
+import { finderItem } from '$lib/finder';
 import type { RequestHandler } from './$types';
 
 /** Ranked converters for a region, budget and needs; explained in words. */
@@ -12,6 +12,6 @@ export const GET: RequestHandler = async ({ url, request }) => {
 	// The API never sets cookies: region comes from the query or Accept-Language.
 	const view = viewpoint(parsed.data, null, request.headers.get('accept-language'));
 	const input = toFinderInput(parsed.data, view);
-	const results = rankFinder(await loadCatalogue(db, view), input).map(finderItem);
+	const results = (await loadFinder(db, view, input)).map(finderItem);
 	return cachedJson(request, { region: view.region, currency: view.currency, input, results, licence: DATA_LICENCE.name });
 };

@@ -1,0 +1,39 @@
+#!/usr/bin/env node
+// The app's HTTP server: adapter-node's request handler behind the `compression` middleware, so
+// HTML, JSON, CSV and the Atom feed go out gzip- or brotli-compressed as the client asks
+// (Accept-Encoding); static assets are precompressed at build (svelte.config.js) and sent as is.
+// Usage: node scripts/serve.mjs [build folder]  (default SG_BUILD_DIR, else build). HOST, PORT,
+// ORIGIN, BODY_SIZE_LIMIT and the rest of adapter-node's environment apply as with `node build`.
+import http from 'node:http';
+import { resolve } from 'node:path';
+import { pathToFileURL } from 'node:url';
+import compression from 'compression';
+
+const dir = resolve(process.argv[2] || process.env.SG_BUILD_DIR || 'build');
+const { handler } = await import(pathToFileURL(resolve(dir, 'handler.js')).href);
+
+// Below 1 kB compressing costs more than it saves; brotli quality 4 keeps it cheap on the CPU.
+const compress = compression({ threshold: 1024 });
+const server = http.createServer((req, res) => {
+	compress(req, res, (err) => {
+		if (err) {
+			res.statusCode = 500;
+			res.end();
+			return;
+		}
+		handler(req, res);
+	});
+});
+server.keepAliveTimeout = 65_000;
+
+const host = process.env.HOST || '0.0.0.0';
+const port = Number(process.env.PORT || 3000);
+server.listen(port, host, () => console.log(`Listening on http://${host}:${port}`));
+
+function stop() {
+	server.close(() => process.exit(0));
+	server.closeIdleConnections?.();
+	setTimeout(() => process.exit(0), Number(process.env.SHUTDOWN_TIMEOUT || 30) * 1000).unref();
+}
+process.on('SIGTERM', stop);
+process.on('SIGINT', stop);
