@@ -15,6 +15,7 @@
  * PAGE_CACHE_TTL_SECONDS (60: bounds how old "last checked" times on a cached page can be).
  */
 import { createHash } from 'node:crypto';
+import zlib, { brotliCompressSync, gzipSync } from 'node:zlib';
 import type { Cookies, Handle } from '@sveltejs/kit';
 import { LRUCache } from 'lru-cache';
 import { env } from '$env/dynamic/private';
@@ -36,13 +37,30 @@ interface Stored {
 	status: number;
 	headers: [string, string][];
 	body: Uint8Array;
+	/** Compressed once when stored, so a hit costs no compression (scripts/serve.mjs skips encoded answers). */
+	br: Uint8Array;
+	gzip: Uint8Array;
 	etag: string;
 }
 
+/** The encoding to send: brotli when accepted, else gzip, else none (RFC 9110 section 12.5.3, q=0 honoured). */
+function pickEncoding(header: string | null): 'br' | 'gzip' | null {
+	const accepted = new Map(
+		(header ?? '').split(',').map((part) => {
+			const [name, ...params] = part.trim().toLowerCase().split(';');
+			const q = params.map((x) => x.trim()).find((x) => x.startsWith('q='));
+			return [name, q ? Number(q.slice(2)) : 1] as const;
+		})
+	);
+	const ok = (name: string) => (accepted.get(name) ?? accepted.get('*') ?? 0) > 0;
+	return ok('br') ? 'br' : ok('gzip') ? 'gzip' : null;
+}
+
 const enabled = env.PAGE_CACHE !== 'off';
+const EMPTY = new Uint8Array(0);
 const cache = new LRUCache<string, Stored>({
 	maxSize: Number(env.PAGE_CACHE_MB || 32) * 1024 * 1024,
-	sizeCalculation: (v) => v.body.byteLength + 256 + v.headers.reduce((n, [k, x]) => n + k.length + x.length, 0),
+	sizeCalculation: (v) => v.body.byteLength + v.br.byteLength + v.gzip.byteLength + 256 + v.headers.reduce((n, [k, x]) => n + k.length + x.length, 0),
 	ttl: Number(env.PAGE_CACHE_TTL_SECONDS || 60) * 1000
 });
 /** Bumped on every invalidation: a render that began before it is not stored. */
@@ -118,7 +136,10 @@ function answer(request: Request, s: Stored, hit: boolean, url: URL, cookies: Co
 		for (const h of ['content-type', 'content-length']) headers.delete(h);
 		return new Response(null, { status: 304, headers });
 	}
-	return new Response(s.body as BodyInit, { status: s.status, headers });
+	const encoding = s.body.byteLength >= 1024 ? pickEncoding(request.headers.get('accept-encoding')) : null;
+	if (!encoding || !s.br.byteLength) return new Response(s.body as BodyInit, { status: s.status, headers });
+	headers.set('Content-Encoding', encoding);
+	return new Response((encoding === 'br' ? s.br : s.gzip) as BodyInit, { status: s.status, headers });
 }
 
 export const pageCacheHandle: Handle = async ({ event, resolve }) => {
@@ -139,7 +160,15 @@ export const pageCacheHandle: Handle = async ({ event, resolve }) => {
 	const response = await resolve(event);
 	if (response.status !== 200 || !onlyViewpointCookies(response.headers)) return response;
 	const body = new Uint8Array(await response.arrayBuffer());
-	const stored: Stored = { status: response.status, headers: [], body, etag: response.headers.get('etag') ?? etagOf(body) };
+	const stored: Stored = {
+		status: response.status,
+		headers: [],
+		body,
+		// With the cache off, scripts/serve.mjs compresses per request instead.
+		br: enabled ? brotliCompressSync(body, { params: { [zlib.constants.BROTLI_PARAM_QUALITY]: 5, [zlib.constants.BROTLI_PARAM_SIZE_HINT]: body.byteLength } }) : EMPTY,
+		gzip: enabled ? gzipSync(body, { level: 6 }) : EMPTY,
+		etag: response.headers.get('etag') ?? etagOf(body)
+	};
 	const headers = new Headers(response.headers);
 	headers.set('ETag', stored.etag);
 	headers.set('Cache-Control', PUBLIC_CACHE_CONTROL);

@@ -4,5 +4,6 @@ import { building } from '$app/environment';
 import { createDb } from './client';
 
 const url = building ? 'postgres://build@127.0.0.1:1/build' : env.DATABASE_URL;
-export const { db, sql } = createDb(url);
+// DATABASE_POOL_MAX: connections per app instance (README, "Running on several machines").
+export const { db, sql } = createDb(url, { max: Number(env.DATABASE_POOL_MAX || 10) });
 export * as tables from './schema';
