@@ -6,7 +6,7 @@
  *   revalidates), and 304 on a matching If-None-Match (RFC 9110 sections 8.8.3, 13.1.2).
  * - Their rendered responses are kept in an in-process LRU (lru-cache, bounded in bytes), keyed
  *   by path, query, region and currency. Every change to what public pages show NOTIFYs
- *   `sg_public` in its own transaction (triggers of migration 0003); each instance LISTENs and
+ *   `sg_public` in its own transaction (triggers of migration 0006); each instance LISTENs and
  *   drops the whole cache when one arrives, so a change written by the poller, a curator or
  *   another instance is gone from every instance's cache as soon as it commits.
  * - A request with a session cookie is never served from or stored in the cache and its
