@@ -5,6 +5,7 @@ import { ROLES, type Role } from '$lib/roles';
 import { isForbiddenCrossSiteForm, isForeignOriginApiWrite } from '$lib/server/csrf';
 import { applySecurityHeaders } from '$lib/server/security/headers';
 import { authEndpointLimit } from '$lib/server/security/auth-endpoint';
+import { inputGuard } from '$lib/server/security/input-guard';
 import { asProblem, problem } from '$lib/server/http/problem';
 import { pageCacheHandle } from '$lib/server/page-cache';
 
@@ -43,4 +44,4 @@ const securityHeaders: Handle = async ({ event, resolve }) => {
 	return applySecurityHeaders(response, Boolean(event.locals.user) || event.url.pathname.startsWith('/auth/'));
 };
 
-export const handle = sequence(pageCacheHandle, originCheck, securityHeaders, authEndpointLimit, authHandle, userHandle);
+export const handle = sequence(pageCacheHandle, originCheck, securityHeaders, inputGuard, authEndpointLimit, authHandle, userHandle);

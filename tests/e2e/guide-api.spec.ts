@@ -18,16 +18,19 @@ test('converters list: shape, region pricing and ETag 304', async ({ request }) 
 	expect(other.status()).toBe(200);
 });
 
-test('validation errors are 400 with { error, issues }', async ({ request }) => {
+test('validation errors are 400 problem details (RFC 9457) with field messages in errors', async ({ request }) => {
 	for (const url of ['/api/v1/converters?region=mars', '/api/v1/finder?budget=-5', '/api/v1/listings', '/api/v1/finder?band=great']) {
 		const res = await request.get(url);
 		expect(res.status(), url).toBe(400);
+		expect(res.headers()['content-type'], url).toContain('application/problem+json');
 		const body = await res.json();
-		expect(typeof body.error).toBe('string');
-		expect(body.issues.length, url).toBeGreaterThan(0);
-		expect(body.issues[0]).toMatchObject({ path: expect.any(String), message: expect.any(String) });
+		expect(body).toMatchObject({ type: 'about:blank', title: expect.any(String), status: 400, detail: expect.any(String) });
+		expect(Object.keys(body.errors).length, url).toBeGreaterThan(0);
+		expect(typeof Object.values(body.errors)[0], url).toBe('string');
 	}
-	expect((await request.get('/api/v1/converters/no-such-box')).status()).toBe(404);
+	const missing = await request.get('/api/v1/converters/no-such-box');
+	expect(missing.status()).toBe(404);
+	expect(missing.headers()['content-type']).toContain('application/problem+json');
 	expect((await request.get('/api/v1/revisions/0')).status()).toBe(404);
 });
 

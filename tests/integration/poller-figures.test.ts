@@ -122,12 +122,12 @@ describe('API routes', () => {
 		vi.doMock('../../src/lib/server/db/index', () => ({ db: w.db }));
 	});
 	it('history: 400 for a bad id or query, 404 for an unknown listing, 200 with points', async () => {
-		const { GET } = await import('../../src/routes/api/v1/listings/[id]/history/+server');
+		const { GET } = await import('../../src/routes/api/v1/listings/[id=int]/history/+server');
 		const call = (id: string, qs = '') => GET({ params: { id }, url: new URL(`http://x/api/v1/listings/${id}/history${qs}`) } as never) as Promise<Response>;
 		expect((await call('abc')).status).toBe(400);
 		const bad = await call(String(listingId), '?range=2w');
 		expect(bad.status).toBe(400);
-		expect((await bad.json()).error).toMatch(/range/);
+		expect((await bad.json()).detail).toMatch(/range/);
 		expect((await call(String(listingId), '?points=5')).status).toBe(400);
 		expect((await call('999999')).status).toBe(404);
 		const ok = await call(String(listingId), '?range=all&points=10');

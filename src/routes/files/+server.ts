@@ -1,4 +1,6 @@
-import { error, json } from '@sveltejs/kit';
+import { json } from '@sveltejs/kit';
+import { readForm } from '$lib/server/http/body';
+import { problem } from '$lib/server/http/problem';
 import { requireApiRole } from '$lib/server/auth/guard';
 import { db } from '$lib/server/db';
 import { FieldError } from '$lib/server/curate/common';
@@ -13,14 +15,15 @@ import type { RequestHandler } from './$types';
  */
 export const POST: RequestHandler = async (event) => {
 	const user = requireApiRole(event, 'member');
-	const data = await event.request.formData().catch(() => error(400, 'Send the photo as multipart form data.'));
+	const data = await readForm(event.request).catch(() => null);
+	if (!data) return problem(400, 'Send the photo as multipart form data.');
 	const file = await fileFrom(data, 'photo');
-	if (!file) return json({ message: 'Choose a photo to upload.' }, { status: 400 });
+	if (!file) return problem(400, 'Choose a photo to upload.', { errors: { photo: 'Choose a photo to upload.' } });
 	try {
 		const stored = await storePhoto(db, appStorage(), user, file);
 		return json(stored, { status: 201 });
 	} catch (err) {
-		if (err instanceof FieldError) return json({ message: err.message }, { status: err.status });
+		if (err instanceof FieldError) return problem(err.status, err.message, { errors: { photo: err.message } });
 		throw err;
 	}
 };

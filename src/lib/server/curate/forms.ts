@@ -9,6 +9,8 @@ import { setError, superValidate, type SuperValidated } from 'sveltekit-superfor
 import { zod4 } from 'sveltekit-superforms/adapters';
 import type { z } from 'zod';
 import { LevelInputError } from '../../levels/index';
+import { BodyError, readForm } from '../http/body';
+import { numberFields, PG_INT_MAX, strictNumberProblem } from '../http/numbers';
 import { FieldError } from './common';
 
 // eslint-disable-next-line @typescript-eslint/no-explicit-any -- superforms' zod adapter generics cannot be spelled for any schema
@@ -16,10 +18,32 @@ type AnyForm = SuperValidated<any, any, any>;
 // eslint-disable-next-line @typescript-eslint/no-explicit-any -- superforms' zod adapter generics cannot be spelled for any schema
 type AnySchema = z.ZodObject<any> | z.ZodType<any, any>;
 
-/** Validate posted form data against a schema (superforms, zod 4 adapter). */
+/**
+ * Validate posted form data against a schema (superforms, zod 4 adapter). A body that is not
+ * form data is a 400. Number fields are checked strictly first: superforms reads them with
+ * parseInt/parseFloat, which would take "1.5" as 1 and " 5 " as 5.
+ */
 export async function validate<S extends AnySchema>(data: FormData | URLSearchParams | Request, schema: S) {
+	let fields: FormData | URLSearchParams;
+	try {
+		fields = data instanceof Request ? await readForm(data) : data;
+	} catch (err) {
+		if (err instanceof BodyError) error(400, err.message);
+		throw err;
+	}
 	// eslint-disable-next-line @typescript-eslint/no-explicit-any -- superforms' zod adapter generics cannot be spelled for any schema
-	return superValidate(data as FormData, zod4(schema as any)) as Promise<SuperValidated<z.infer<S>, any, any>>;
+	const form = (await superValidate(fields as FormData, zod4(schema as any))) as SuperValidated<z.infer<S>, any, any>;
+	for (const { key, integer } of numberFields(schema)) {
+		for (const raw of fields.getAll(key)) {
+			const problem = typeof raw === 'string' ? strictNumberProblem(raw, integer) : 'Expected a number, not a file.';
+			if (problem) {
+				form.valid = false;
+				(form.errors as Record<string, string[]>)[key] = [problem];
+				break;
+			}
+		}
+	}
+	return form;
 }
 
 /** An empty form for a load function, optionally pre-filled. */
@@ -54,6 +78,20 @@ export async function attempt<F extends AnyForm, R>(
 	}
 }
 
+/**
+ * Run `work` for an action that has no form to put a message on (retire, restore, poll now,
+ * remove a pick): a FieldError becomes an HTTP error with its status (404 for a missing row),
+ * never a 500.
+ */
+export async function orHttpError<R>(work: () => Promise<R>): Promise<R> {
+	try {
+		return await work();
+	} catch (err) {
+		if (err instanceof FieldError) error(err.status as Parameters<typeof error>[0], err.message);
+		throw err;
+	}
+}
+
 /** Put a form-level error message on the form (shown above the fields). */
 export function withMessage<F extends AnyForm>(form: F, message: string, issues: string[] = []): F {
 	form.valid = false;
@@ -76,6 +114,6 @@ export async function fileFrom(data: FormData, field: string): Promise<{ name: s
 /** A numeric route id, or 404 (before any query runs). */
 export function idParam(raw: string | undefined): number {
 	const n = Number(raw);
-	if (!raw || !/^\d{1,9}$/.test(raw) || !Number.isSafeInteger(n) || n <= 0) error(404, 'Not found.');
+	if (!raw || !/^[1-9]\d{0,9}$/.test(raw) || n > PG_INT_MAX) error(404, 'Not found.');
 	return n;
 }

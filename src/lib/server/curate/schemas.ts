@@ -7,6 +7,7 @@ import { z } from 'zod';
 import { REGIONS, ROLES } from '../../enums';
 import { ALL_STEPS_IRE } from '../../levels/index';
 import { SLUG_RE } from './common';
+import { PG_INT_MAX } from '../http/numbers';
 
 const text = (label: string, max = 200) =>
 	z.string().trim().min(1, `${label} is required.`).max(max, `${label} is at most ${max} characters.`);
@@ -19,8 +20,10 @@ const slugField = z
 	.max(80)
 	.refine((s) => s === '' || SLUG_RE.test(s), 'Lower-case letters, digits and single hyphens, like "beam-bridge-2".')
 	.default('');
-const id = (label: string) => z.number({ message: `Choose ${label}.` }).int().positive(`Choose ${label}.`);
-const optId = z.number().int().positive().optional();
+// Ids fit PostgreSQL's integer (larger ones would fail in the database, not here).
+const id = (label: string) => z.number({ message: `Choose ${label}.` }).int().positive(`Choose ${label}.`).max(PG_INT_MAX, `Choose ${label}.`);
+const optId = z.number().int().positive().max(PG_INT_MAX).optional();
+const rowId = () => z.number().int().positive().max(PG_INT_MAX);
 
 // ------------------------------------------------------------------ catalogue
 
@@ -97,13 +100,13 @@ export type ReadingKey = `${'r' | 'g' | 'b'}${number}`;
 export type BenchRunForm = z.infer<typeof benchRunSchema> & Partial<Record<ReadingKey, number>>;
 
 export const reviewSchema = z.object({
-	id: z.number().int().positive(),
+	id: rowId(),
 	decision: z.enum(['accept', 'reject']),
 	reason: z.string().trim().min(3, 'Give a short reason (it is kept in the audit log and shown to the submitter).').max(500)
 });
 
 export const supersedeSchema = z.object({
-	id: z.number().int().positive(),
+	id: rowId(),
 	supersededById: optId,
 	reason: z.string().trim().min(3, 'Say why this run no longer counts.').max(500)
 });
@@ -133,7 +136,7 @@ export const teardownSchema = z
 	});
 
 export const teardownReviewSchema = z.object({
-	id: z.number().int().positive(),
+	id: rowId(),
 	decision: z.enum(['verify', 'reject']),
 	reason: z.string().trim().min(3, 'Give a short reason (kept in the audit log).').max(500),
 	revisionId: optId,

@@ -1,12 +1,11 @@
 /**
  * HTTP helpers for the open-data API: JSON with a strong ETag and 304 on a matching
- * If-None-Match (RFC 9110 sections 8.8.3 and 13.1.2), 400 bodies of the form
- * { error, issues }, and CSV (RFC 4180: CRLF line ends, quotes doubled).
+ * If-None-Match (RFC 9110 sections 8.8.3 and 13.1.2), 400/404 as RFC 9457 problem details
+ * (src/lib/server/http/problem.ts), and CSV (RFC 4180: CRLF line ends, quotes doubled).
  */
 import { createHash } from 'node:crypto';
-import { json } from '@sveltejs/kit';
 import type { z } from 'zod';
-import { issuesOf } from './public-params';
+import { invalidInput, problem } from '../http/problem';
 import { isFormulaLike, neutraliseCell } from '../security/csv';
 
 /** Licence of Scopegrade's own data (catalogue, grades, readings). */
@@ -55,13 +54,13 @@ export function cachedJson(request: Request, data: unknown, extra: Record<string
 	return cachedResponse(request, JSON.stringify(data), 'application/json; charset=utf-8', extra);
 }
 
-/** 400 with the zod issues. */
+/** 400 problem details (RFC 9457) with the field messages in `errors`. */
 export function badRequest(err: z.ZodError, what = 'invalid query parameters'): Response {
-	return json({ error: what, issues: issuesOf(err) }, { status: 400 });
+	return invalidInput(err, what);
 }
 
 export function notFound(what: string): Response {
-	return json({ error: `${what} not found`, issues: [] }, { status: 404 });
+	return problem(404, `${what} not found`);
 }
 
 function csvCell(v: unknown): string {

@@ -22,6 +22,7 @@ import {
 	WatchInputError
 } from '$lib/server/alerts/watches';
 import type { Actions, PageServerLoad } from './$types';
+import { formOr400 } from '$lib/server/http/body';
 
 export const load: PageServerLoad = async (event) => {
 	const user = requireRole(event, 'member');
@@ -65,7 +66,7 @@ function watchId(form: FormData): number | null {
 export const actions: Actions = {
 	create: async (event) => {
 		const user = requireRole(event, 'member');
-		const form = await event.request.formData();
+		const form = await formOr400(event.request);
 		const { values, parsed } = parseWatch(form);
 		if (!parsed.success) return fail(400, { form: 'create', values, errors: fieldErrors(parsed.error) });
 		try {
@@ -78,7 +79,7 @@ export const actions: Actions = {
 	},
 	update: async (event) => {
 		const user = requireRole(event, 'member');
-		const form = await event.request.formData();
+		const form = await formOr400(event.request);
 		const id = watchId(form);
 		const { values, parsed } = parseWatch(form);
 		if (id == null) return fail(400, { form: `edit-${form.get('id')}`, values, errors: { form: 'That watch id is not valid.' } });
@@ -93,7 +94,7 @@ export const actions: Actions = {
 	},
 	pause: async (event) => {
 		const user = requireRole(event, 'member');
-		const form = await event.request.formData();
+		const form = await formOr400(event.request);
 		const id = watchId(form);
 		if (id == null) return fail(400, { form: 'list', errors: { form: 'That watch id is not valid.' } });
 		const paused = form.get('paused') === 'true';
@@ -102,7 +103,7 @@ export const actions: Actions = {
 	},
 	delete: async (event) => {
 		const user = requireRole(event, 'member');
-		const form = await event.request.formData();
+		const form = await formOr400(event.request);
 		const id = watchId(form);
 		if (id == null) return fail(400, { form: 'list', errors: { form: 'That watch id is not valid.' } });
 		if (!(await deleteWatch(db, user.id, id))) return fail(404, { form: 'list', errors: { form: 'That watch is no longer there.' } });
@@ -110,7 +111,7 @@ export const actions: Actions = {
 	},
 	prefs: async (event) => {
 		const user = requireRole(event, 'member');
-		const form = await event.request.formData();
+		const form = await formOr400(event.request);
 		const values = {
 			alertMode: String(form.get('alertMode') ?? ''),
 			quietFrom: String(form.get('quietFrom') ?? ''),

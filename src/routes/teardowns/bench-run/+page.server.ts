@@ -7,6 +7,7 @@ import { emptyForm } from '$lib/server/curate/forms';
 import { benchRunSchema } from '$lib/server/curate/schemas';
 import { appStorage } from '$lib/server/storage/app';
 import type { Actions, PageServerLoad } from './$types';
+import { formOr400 } from '$lib/server/http/body';
 
 // Members' bench runs are stored as pending: they count only after a curator accepts them.
 export const load: PageServerLoad = async (event) => {
@@ -21,11 +22,11 @@ export const load: PageServerLoad = async (event) => {
 export const actions: Actions = {
 	readTrace: async (event) => {
 		const user = requireRole(event, 'member');
-		return readTraceAction(db, appStorage(), user, await event.request.formData());
+		return readTraceAction(db, appStorage(), user, await formOr400(event.request));
 	},
 	save: async (event) => {
 		const user = requireRole(event, 'member');
-		const res = await saveRunAction(db, user, await event.request.formData());
+		const res = await saveRunAction(db, user, await formOr400(event.request));
 		if (!res.ok) return res.failure;
 		redirect(303, '/teardowns?sent=run');
 	}

@@ -9,6 +9,7 @@ import { submitTeardown } from '$lib/server/curate/teardowns';
 import { storePhoto } from '$lib/server/curate/uploads';
 import { appStorage } from '$lib/server/storage/app';
 import type { Actions, PageServerLoad } from './$types';
+import { formOr400 } from '$lib/server/http/body';
 
 export const load: PageServerLoad = async (event) => {
 	requireRole(event, 'member');
@@ -19,7 +20,7 @@ export const load: PageServerLoad = async (event) => {
 export const actions: Actions = {
 	default: async (event) => {
 		const user = requireRole(event, 'member');
-		const data = await event.request.formData();
+		const data = await formOr400(event.request);
 		const form = await validate(data, teardownSchema);
 		if (!form.valid) return invalid(form);
 		const res = await attempt(form, async () => {

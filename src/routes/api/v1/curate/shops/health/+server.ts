@@ -6,15 +6,17 @@ import { json } from '@sveltejs/kit';
 import { shopHealthQuery as query } from '$lib/server/api/contract';
 import { requireApiRole } from '$lib/server/auth/guard';
 import { db } from '$lib/server/db';
+import { invalidInput, problem } from '$lib/server/http/problem';
+import { looseWholeNumbers } from '$lib/server/http/numbers';
 import { shopHealth } from '$lib/server/queries/history';
 import type { RequestHandler } from './$types';
 
 
 export const GET: RequestHandler = async (event) => {
 	requireApiRole(event, 'curator');
+	const loose = looseWholeNumbers(event.url.searchParams, ['days']);
+	if (loose) return problem(400, 'invalid query parameters: days is 1-90', { errors: loose });
 	const q = query.safeParse(Object.fromEntries(event.url.searchParams));
-	if (!q.success) {
-		return json({ error: 'invalid query parameters: days is 1-90', issues: q.error.issues.map((i) => ({ path: i.path.join('.'), message: i.message })) }, { status: 400 });
-	}
+	if (!q.success) return invalidInput(q.error, 'invalid query parameters: days is 1-90');
 	return json(await shopHealth(db, { days: q.data.days }), { headers: { 'Cache-Control': 'private, no-store' } });
 };

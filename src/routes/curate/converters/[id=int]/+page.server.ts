@@ -10,11 +10,12 @@ import {
 	setConverterRetired,
 	updateConverter
 } from '$lib/server/curate/catalogue';
-import { attempt, emptyForm, idParam, invalid, validate } from '$lib/server/curate/forms';
+import { attempt, emptyForm, idParam, invalid, validate, orHttpError } from '$lib/server/curate/forms';
 import { converterSchema, revisionSchema } from '$lib/server/curate/schemas';
 import type { Actions, PageServerLoad } from './$types';
+import { formOr400 } from '$lib/server/http/body';
 
-const retireSchema = z.object({ reason: z.string().trim().max(500).default('') });
+const retireSchema = z.object({ reason: z.string().trim().max(500, 'A reason is at most 500 characters.').default('') });
 
 export const load: PageServerLoad = async (event) => {
 	requireRole(event, 'curator');
@@ -52,7 +53,7 @@ export const actions: Actions = {
 	addRevision: async (event) => {
 		const user = requireRole(event, 'curator');
 		const id = idParam(event.params.id);
-		const data = await event.request.formData();
+		const data = await formOr400(event.request);
 		data.set('converterId', String(id));
 		const revisionForm = await validate(data, revisionSchema);
 		if (!revisionForm.valid) return fail(400, { revisionForm });
@@ -63,14 +64,16 @@ export const actions: Actions = {
 	retire: async (event) => {
 		const user = requireRole(event, 'curator');
 		const id = idParam(event.params.id);
-		const { reason } = retireSchema.parse(Object.fromEntries(await event.request.formData()));
-		await setConverterRetired(db, user, id, true, reason || undefined);
+		const parsed = retireSchema.safeParse(Object.fromEntries(await formOr400(event.request)));
+		if (!parsed.success) return fail(400, { retireError: parsed.error.issues[0].message });
+		const { reason } = parsed.data;
+		await orHttpError(() => setConverterRetired(db, user, id, true, reason || undefined));
 		redirect(303, `/curate/converters/${id}`);
 	},
 	restore: async (event) => {
 		const user = requireRole(event, 'curator');
 		const id = idParam(event.params.id);
-		await setConverterRetired(db, user, id, false);
+		await orHttpError(() => setConverterRetired(db, user, id, false));
 		redirect(303, `/curate/converters/${id}`);
 	}
 };

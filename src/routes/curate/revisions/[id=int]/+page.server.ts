@@ -4,7 +4,7 @@ import { db } from '$lib/server/db';
 import { runsOfRevision, supersedeBenchRun } from '$lib/server/curate/bench';
 import { gradeHistory } from '$lib/server/grading';
 import { getRevision, listChips, setRevisionRetired, updateRevision } from '$lib/server/curate/catalogue';
-import { attempt, emptyForm, idParam, invalid, validate } from '$lib/server/curate/forms';
+import { attempt, emptyForm, idParam, invalid, validate, orHttpError } from '$lib/server/curate/forms';
 import { revisionSchema, supersedeSchema } from '$lib/server/curate/schemas';
 import type { Actions, PageServerLoad } from './$types';
 
@@ -57,13 +57,13 @@ export const actions: Actions = {
 	retire: async (event) => {
 		const user = requireRole(event, 'curator');
 		const id = idParam(event.params.id);
-		await setRevisionRetired(db, user, id, true);
+		await orHttpError(() => setRevisionRetired(db, user, id, true));
 		redirect(303, `/curate/revisions/${id}`);
 	},
 	restore: async (event) => {
 		const user = requireRole(event, 'curator');
 		const id = idParam(event.params.id);
-		await setRevisionRetired(db, user, id, false);
+		await orHttpError(() => setRevisionRetired(db, user, id, false));
 		redirect(303, `/curate/revisions/${id}`);
 	}
 };

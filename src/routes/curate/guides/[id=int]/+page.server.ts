@@ -3,10 +3,12 @@ import { z } from 'zod';
 import { requireRole } from '$lib/server/auth/guard';
 import { db } from '$lib/server/db';
 import { catalogueOptions } from '$lib/server/curate/catalogue';
-import { attempt, emptyForm, idParam, invalid, validate } from '$lib/server/curate/forms';
+import { attempt, emptyForm, idParam, invalid, validate, orHttpError } from '$lib/server/curate/forms';
 import { getGuide, removePick, renderGuideMarkdown, savePick, setGuideStatus, updateGuide } from '$lib/server/curate/guides';
 import { guidePickSchema, guideSchema } from '$lib/server/curate/schemas';
 import type { Actions, PageServerLoad } from './$types';
+import { formOr400 } from '$lib/server/http/body';
+import { dbId } from '$lib/server/http/numbers';
 
 export const load: PageServerLoad = async (event) => {
 	requireRole(event, 'curator');
@@ -42,7 +44,7 @@ export const actions: Actions = {
 	status: async (event) => {
 		const user = requireRole(event, 'curator');
 		const id = idParam(event.params.id);
-		const parsed = z.object({ status: z.enum(['draft', 'published', 'retired']) }).safeParse(Object.fromEntries(await event.request.formData()));
+		const parsed = z.object({ status: z.enum(['draft', 'published', 'retired']) }).safeParse(Object.fromEntries(await formOr400(event.request)));
 		if (!parsed.success) return fail(400, { statusError: 'Choose publish, unpublish or retire.' });
 		const form = await emptyForm(guideSchema);
 		const res = await attempt(form, () => setGuideStatus(db, user, id, parsed.data.status));
@@ -61,9 +63,10 @@ export const actions: Actions = {
 	removePick: async (event) => {
 		const user = requireRole(event, 'curator');
 		const id = idParam(event.params.id);
-		const converterId = Number((await event.request.formData()).get('converterId'));
-		if (!Number.isInteger(converterId) || converterId <= 0) return fail(400, { statusError: 'No pick chosen.' });
-		await removePick(db, user, id, converterId);
+		const parsed = z.object({ converterId: dbId('No pick chosen.') }).safeParse(Object.fromEntries(await formOr400(event.request)));
+		if (!parsed.success) return fail(400, { statusError: 'No pick chosen.' });
+		const { converterId } = parsed.data;
+		await orHttpError(() => removePick(db, user, id, converterId));
 		redirect(303, `/curate/guides/${id}`);
 	}
 };

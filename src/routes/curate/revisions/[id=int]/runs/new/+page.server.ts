@@ -7,6 +7,7 @@ import { emptyForm, idParam } from '$lib/server/curate/forms';
 import { benchRunSchema } from '$lib/server/curate/schemas';
 import { appStorage } from '$lib/server/storage/app';
 import type { Actions, PageServerLoad } from './$types';
+import { formOr400 } from '$lib/server/http/body';
 
 export const load: PageServerLoad = async (event) => {
 	const user = requireRole(event, 'curator');
@@ -27,14 +28,14 @@ export const actions: Actions = {
 	readTrace: async (event) => {
 		const user = requireRole(event, 'curator');
 		const id = idParam(event.params.id);
-		const data = await event.request.formData();
+		const data = await formOr400(event.request);
 		data.set('revisionId', String(id));
 		return readTraceAction(db, appStorage(), user, data);
 	},
 	save: async (event) => {
 		const user = requireRole(event, 'curator');
 		const id = idParam(event.params.id);
-		const res = await saveRunAction(db, user, await event.request.formData(), id);
+		const res = await saveRunAction(db, user, await formOr400(event.request), id);
 		if (!res.ok) return res.failure;
 		redirect(303, `/curate/revisions/${id}?run=${res.id}`);
 	}

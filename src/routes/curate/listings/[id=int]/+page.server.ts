@@ -3,13 +3,15 @@ import { z } from 'zod';
 import { env } from '$env/dynamic/private';
 import { requireRole } from '$lib/server/auth/guard';
 import { db } from '$lib/server/db';
-import { idParam } from '$lib/server/curate/forms';
+import { idParam, orHttpError } from '$lib/server/curate/forms';
 import { listingsWithState, requestPoll, testRead, updateListing } from '$lib/server/curate/listings';
 import type { Actions, PageServerLoad } from './$types';
+import { formOr400 } from '$lib/server/http/body';
+import { wholeNumber } from '$lib/server/http/numbers';
 
 const settingsSchema = z.object({
 	active: z.enum(['on']).optional(),
-	pollIntervalMinutes: z.coerce.number({ message: 'Minutes, a whole number.' }).int('Minutes, a whole number.').min(1, 'At least 1 minute.').max(10080, 'At most a week.')
+	pollIntervalMinutes: wholeNumber('Minutes, a whole number.').pipe(z.number().min(1, 'At least 1 minute.').max(10080, 'At most a week.'))
 });
 
 export const load: PageServerLoad = async (event) => {
@@ -25,19 +27,19 @@ export const actions: Actions = {
 	testRead: async (event) => {
 		requireRole(event, 'curator');
 		const id = idParam(event.params.id);
-		const read = await testRead(db, id, { allowPrivate: env.FEED_ALLOW_PRIVATE === 'true' });
+		const read = await orHttpError(() => testRead(db, id, { allowPrivate: env.FEED_ALLOW_PRIVATE === 'true' }));
 		return { read };
 	},
 	pollNow: async (event) => {
 		const user = requireRole(event, 'curator');
 		const id = idParam(event.params.id);
-		await requestPoll(db, user, id);
+		await orHttpError(() => requestPoll(db, user, id));
 		redirect(303, `/curate/listings/${id}?poll=requested`);
 	},
 	settings: async (event) => {
 		const user = requireRole(event, 'curator');
 		const id = idParam(event.params.id);
-		const raw = Object.fromEntries(await event.request.formData());
+		const raw = Object.fromEntries(await formOr400(event.request));
 		const parsed = settingsSchema.safeParse(raw);
 		if (!parsed.success) return fail(400, { settings: { error: parsed.error.issues[0].message, values: raw } });
 		await updateListing(db, user, id, { active: parsed.data.active === 'on', pollIntervalMinutes: parsed.data.pollIntervalMinutes });

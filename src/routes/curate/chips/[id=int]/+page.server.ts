@@ -3,7 +3,7 @@ import { eq } from 'drizzle-orm';
 import { requireRole } from '$lib/server/auth/guard';
 import { db, tables as t } from '$lib/server/db';
 import { setChipRetired, updateChip } from '$lib/server/curate/catalogue';
-import { attempt, emptyForm, idParam, invalid, validate } from '$lib/server/curate/forms';
+import { attempt, emptyForm, idParam, invalid, validate, orHttpError } from '$lib/server/curate/forms';
 import { chipSchema } from '$lib/server/curate/schemas';
 import type { Actions, PageServerLoad } from './$types';
 
@@ -27,12 +27,12 @@ export const actions: Actions = {
 	},
 	retire: async (event) => {
 		const user = requireRole(event, 'curator');
-		await setChipRetired(db, user, idParam(event.params.id), true);
+		await orHttpError(() => setChipRetired(db, user, idParam(event.params.id), true));
 		redirect(303, `/curate/chips/${event.params.id}`);
 	},
 	restore: async (event) => {
 		const user = requireRole(event, 'curator');
-		await setChipRetired(db, user, idParam(event.params.id), false);
+		await orHttpError(() => setChipRetired(db, user, idParam(event.params.id), false));
 		redirect(303, `/curate/chips/${event.params.id}`);
 	}
 };
