@@ -209,14 +209,24 @@ describe('faults', () => {
 		}
 	});
 
-	it('wrong and missing currency are reported as such', async () => {
+	it('a wrong currency is reported as such; a missing one is read in the listing currency with a note, unless a configured currency field vanished', async () => {
+		let readInListingCurrency = 0;
 		for (const s of SHOPS) {
 			const l = LISTINGS.find((x) => x.shop === s.slug)!;
 			await control('POST', '/fault', { shop: s.slug, path: l.path, kind: 'wrong-currency', times: 1 });
 			expect((await read(s.slug, l.path)).result, `${s.slug} wrong`).toMatchObject({ ok: false, kind: 'wrong-currency' });
 			await control('POST', '/fault', { shop: s.slug, path: l.path, kind: 'missing-currency', times: 1 });
-			expect((await read(s.slug, l.path)).result, `${s.slug} missing`).toMatchObject({ ok: false, kind: 'no-currency' });
+			const missing = (await read(s.slug, l.path)).result;
+			if (missing.ok) {
+				readInListingCurrency++;
+				expect(missing.notes.join(' '), `${s.slug} missing`).toMatch(/no currency shown|read as/);
+			} else {
+				// The listing's own currency selector or API path found nothing: the page changed shape.
+				expect(missing, `${s.slug} missing`).toMatchObject({ kind: 'no-currency' });
+				expect(missing.reason, `${s.slug} missing`).toMatch(/selector|path/);
+			}
 		}
+		expect(readInListingCurrency).toBeGreaterThan(0);
 	});
 
 	it('robots-disallow adds the path to robots.txt (RFC 9309 2.2.2)', async () => {

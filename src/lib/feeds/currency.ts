@@ -38,6 +38,20 @@ const SYMBOLS: ReadonlyArray<[string, string[]]> = [
 	['$', ['USD', 'AUD', 'CAD', 'NZD', 'MXN', 'HKD', 'SGD']]
 ];
 
+/** Longest first, so "CA$" is tried before "A$" and "$" (a stable sort keeps the table's order otherwise). */
+const SYMBOLS_LONGEST_FIRST = [...SYMBOLS].sort((a, b) => b[0].length - a[0].length);
+
+/**
+ * Does `text` contain `symbol` as a symbol of its own? One that starts with a letter must not
+ * follow another letter: the "A$" inside "CA$" (Canadian dollars) is not the Australian one.
+ */
+function containsSymbol(text: string, symbol: string): boolean {
+	for (let at = text.indexOf(symbol); at !== -1; at = text.indexOf(symbol, at + 1)) {
+		if (!/^\p{L}/u.test(symbol) || at === 0 || !/\p{L}/u.test(text[at - 1])) return true;
+	}
+	return false;
+}
+
 /** The symbol we print for a currency in rendered pages and messages. */
 export function currencySymbol(code: string): string {
 	switch (code.toUpperCase()) {
@@ -86,8 +100,8 @@ export function detectCurrency(text: string, expected?: string): CurrencyDetecti
 			return { found: true, currency: trimmed.toUpperCase(), source: 'code', note: `currency code ${trimmed.toUpperCase()} is not in the minor-units table; assuming 2 decimals` };
 		}
 	}
-	for (const [symbol, candidates] of SYMBOLS) {
-		if (!trimmed.includes(symbol)) continue;
+	for (const [symbol, candidates] of SYMBOLS_LONGEST_FIRST) {
+		if (!containsSymbol(trimmed, symbol)) continue;
 		if (candidates.length === 1) return { found: true, currency: candidates[0], source: 'symbol' };
 		if (exp && candidates.includes(exp)) {
 			return { found: true, currency: exp, source: 'symbol', note: `"${symbol}" read as ${exp}, the listing's currency` };
@@ -217,6 +231,13 @@ export function parsePrice(priceText: string | number, opts: { currencyText?: st
 	if (!det || !det.found) {
 		if (det && det.ambiguous && expected) {
 			return { ok: false, kind: 'wrong-currency', reason: det.reason };
+		}
+		// A bare amount (no code, no symbol anywhere) on a listing whose currency is configured is
+		// read in that currency, and says so; any symbol of another currency is still refused above.
+		if (expected && !det?.ambiguous) {
+			const amount = parseAmount(priceText, expected);
+			if (!amount.ok) return { ok: false, kind: 'parse', reason: amount.reason };
+			return { ok: true, minor: amount.minor, currency: expected, notes: [...amount.notes, `no currency shown with the price; read in the listing's configured currency ${expected}`] };
 		}
 		return { ok: false, kind: 'no-currency', reason: `no currency found: ${det ? det.reason : 'the price is a bare number and no currency was given'}` };
 	}

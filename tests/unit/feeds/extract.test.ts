@@ -48,10 +48,16 @@ describe('JSON-LD (W3C JSON-LD 1.1 embedding; schema.org 30.0 Offer)', () => {
 		expect(extractOffer({ body: doc(ld([bare, product]), ''), format: 'jsonld' })).toMatchObject({ ok: true, priceMinor: 2499, title: 'Vantacove Beam Bridge' });
 	});
 
-	it('missing priceCurrency is a no-currency failure, not a guess', () => {
+	it("missing priceCurrency is read in the listing's configured currency, with a note", () => {
 		const p = { ...product, offers: { '@type': 'Offer', price: '24.99', availability: 'https://schema.org/InStock' } };
 		const r = extractOffer({ body: doc(ld(p), ''), format: 'jsonld', expectedCurrency: 'USD' });
-		expect(r).toMatchObject({ ok: false, kind: 'no-currency', stock: 'unknown' });
+		expect(r).toMatchObject({ ok: true, priceMinor: 2499, currency: 'USD' });
+		if (r.ok) expect(r.notes.join(' ')).toMatch(/configured currency USD/);
+	});
+
+	it('missing priceCurrency with no configured currency is a no-currency failure, not a guess', () => {
+		const p = { ...product, offers: { '@type': 'Offer', price: '24.99', availability: 'https://schema.org/InStock' } };
+		expect(extractOffer({ body: doc(ld(p), ''), format: 'jsonld' })).toMatchObject({ ok: false, kind: 'no-currency', stock: 'unknown' });
 	});
 
 	it('a currency other than the listing currency is wrong-currency', () => {
@@ -112,9 +118,9 @@ describe('microdata (HTML Living Standard, Microdata; schema.org 30.0 Offer)', (
 		expect(r).toMatchObject({ ok: true, priceMinor: 3400, stock: 'out_of_stock' });
 	});
 
-	it('missing priceCurrency is no-currency', () => {
+	it('missing priceCurrency is read in the configured currency', () => {
 		const r = extractOffer({ body: micro('<span itemprop="price" content="15.95">15.95</span>'), format: 'microdata', expectedCurrency: 'GBP' });
-		expect(r).toMatchObject({ ok: false, kind: 'no-currency' });
+		expect(r).toMatchObject({ ok: true, priceMinor: 1595, currency: 'GBP' });
 	});
 
 	it('changed markup (no itemscope) fails with a reason', () => {
@@ -152,8 +158,10 @@ describe('CSS selectors (the demo shops\' curator settings)', () => {
 		expect(r).toMatchObject({ ok: false, kind: 'no-price', stock: 'unknown', reason: 'no price found: selector ".artikel .preis" matched nothing' });
 	});
 
-	it('a price without a symbol and no currency selector is no-currency', () => {
-		expect(extractOffer({ body: kanalPage('22,90', 'Auf Lager'), format: 'selectors', selectors: kanal, expectedCurrency: 'EUR' })).toMatchObject({ ok: false, kind: 'no-currency' });
+	it("a price without a symbol and no currency selector is read in the listing's currency", () => {
+		const r = extractOffer({ body: kanalPage('22,90', 'Auf Lager'), format: 'selectors', selectors: kanal, expectedCurrency: 'EUR' });
+		expect(r).toMatchObject({ ok: true, priceMinor: 2290, currency: 'EUR' });
+		if (r.ok) expect(r.notes.join(' ')).toMatch(/no currency shown/);
 	});
 
 	it('"$" on a euro listing is wrong-currency', () => {

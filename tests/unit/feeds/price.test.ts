@@ -104,9 +104,23 @@ describe('currency detection', () => {
 		expect(parsePrice('$22.90', { expectedCurrency: 'EUR' })).toMatchObject({ ok: false, kind: 'wrong-currency' });
 	});
 
-	it('parsePrice gives a no-currency error when neither field nor text names one', () => {
-		expect(parsePrice('22,90', { expectedCurrency: 'EUR' })).toMatchObject({ ok: false, kind: 'no-currency' });
+	it('parsePrice reads a bare amount in the expected currency (with a note), and gives no-currency without one', () => {
+		expect(parsePrice('22,90', { expectedCurrency: 'EUR' })).toMatchObject({ ok: true, minor: 2290, currency: 'EUR', notes: [expect.stringMatching(/configured currency EUR/)] });
 		expect(parsePrice(22.9, {})).toMatchObject({ ok: false, kind: 'no-currency' });
+	});
+
+	it('CA$ is Canadian dollars, never Australian (ISO 4217 CAD)', () => {
+		expect(parsePrice('CA$ 129.00', {})).toMatchObject({ ok: true, minor: 12900, currency: 'CAD' });
+		expect(parsePrice('CA$129.00', { expectedCurrency: 'CAD' })).toMatchObject({ ok: true, currency: 'CAD' });
+		expect(parsePrice('CA$129.00', { expectedCurrency: 'AUD' })).toMatchObject({ ok: false, kind: 'wrong-currency' });
+		expect(parsePrice('A$ 129.00', {})).toMatchObject({ ok: true, currency: 'AUD' });
+		expect(parsePrice('AU$ 129.00', {})).toMatchObject({ ok: true, currency: 'AUD' });
+	});
+
+	it('a symbol of another currency is still wrong-currency when the listing has one configured', () => {
+		expect(parsePrice('£129.00', { expectedCurrency: 'EUR' })).toMatchObject({ ok: false, kind: 'wrong-currency' });
+		expect(parsePrice('$129', { expectedCurrency: 'EUR' })).toMatchObject({ ok: false, kind: 'wrong-currency' });
+		expect(parsePrice('129.00', { currencyText: 'GBP', expectedCurrency: 'EUR' })).toMatchObject({ ok: false, kind: 'wrong-currency' });
 	});
 
 	it('parsePrice combines code, amount and currency exponent', () => {

@@ -183,7 +183,9 @@ export const shopSchema = z.object({
 	minSpacingMs: z.number().int().min(0, 'Not negative.').max(600000, 'At most 10 minutes.').default(1000),
 	feedConfig: jsonText,
 	shipsTo: z.array(z.enum(REGIONS)).default([]),
-	active: z.boolean().default(true)
+	// An unticked checkbox posts nothing, so a missing value means "not active" (the new-shop
+	// form starts ticked through its initial values instead).
+	active: z.boolean().default(false)
 });
 
 export const rateSchema = z
