@@ -217,9 +217,10 @@ describe('faults', () => {
 			expect((await read(s.slug, l.path)).result, `${s.slug} wrong`).toMatchObject({ ok: false, kind: 'wrong-currency' });
 			await control('POST', '/fault', { shop: s.slug, path: l.path, kind: 'missing-currency', times: 1 });
 			const missing = (await read(s.slug, l.path)).result;
+			if (!missing) throw new Error(`${s.slug}: no extraction result`);
 			if (missing.ok) {
 				readInListingCurrency++;
-				expect(missing.notes.join(' '), `${s.slug} missing`).toMatch(/no currency shown|read as/);
+				expect((missing.notes ?? []).join(' '), `${s.slug} missing`).toMatch(/no currency shown|read as/);
 			} else {
 				// The listing's own currency selector or API path found nothing: the page changed shape.
 				expect(missing, `${s.slug} missing`).toMatchObject({ kind: 'no-currency' });
