@@ -5,6 +5,7 @@
 import cron from 'node-cron';
 import { createDb } from '../src/lib/server/db/client';
 import { housekeeping } from './housekeeping';
+import { createStorage, storageConfigFrom } from '../src/lib/server/storage/index';
 import { schedulePoller } from './poller';
 import { createAlertHook, quietHoursFromEnv } from '../src/lib/server/alerts/match';
 import { DEFAULT_SENDER_CRON, senderTask } from './sender';
@@ -18,11 +19,19 @@ const quietHours = quietHoursFromEnv(process.env);
 const poller = schedulePoller(db, { onStockEvents: createAlertHook({ quietHours }), restockQuietMs: quietHours * 3_600_000 });
 const sendAlerts = senderTask(db);
 const sendDigests = digestTask(db);
+/** Object storage for removing unattached uploads; housekeeping skips that step when S3 is not configured. */
+const uploadStorage = () => {
+	try {
+		return createStorage(storageConfigFrom(process.env));
+	} catch {
+		return undefined;
+	}
+};
 const logError = (name: string) => (err: unknown) => console.error(`${name}: ${err instanceof Error ? err.message : err}`);
 
 const tasks = [
 	poller.task,
-	cron.schedule('17 * * * *', () => housekeeping(db).then((r) => console.log(`housekeeping: ${JSON.stringify(r)}`)), {
+	cron.schedule('17 * * * *', () => housekeeping(db, new Date(), uploadStorage()).then((r) => console.log(`housekeeping: ${JSON.stringify(r)}`)), {
 		name: 'housekeeping',
 		noOverlap: true
 	}),

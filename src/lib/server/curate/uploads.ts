@@ -7,7 +7,7 @@
  */
 import { createHash, randomUUID } from 'node:crypto';
 import sharp, { type OutputInfo } from 'sharp';
-import { and, eq, inArray } from 'drizzle-orm';
+import { and, eq, inArray, sql } from 'drizzle-orm';
 import * as t from '../db/schema';
 import type { Storage } from '../storage/index';
 import { FieldError, type Actor, type Database, type DbOrTx } from './common';
@@ -132,6 +132,7 @@ export async function storePhoto(
 	file: { name: string; bytes: Uint8Array }
 ): Promise<StoredPhoto> {
 	const type = checkPhoto(file.name, file.bytes);
+	await assertUploadQuota(db, owner, file.bytes.byteLength);
 	let main: { data: Buffer; info: OutputInfo };
 	let thumb: { data: Buffer; info: OutputInfo };
 	try {
@@ -203,6 +204,12 @@ export async function storePhoto(
 export async function storeTrace(db: Database, storage: Storage, owner: Actor, name: string, csv: string): Promise<string> {
 	const bytes = new TextEncoder().encode(csv);
 	if (bytes.byteLength > TRACE_MAX_BYTES) throw new FieldError('trace', `The trace is larger than ${kb(TRACE_MAX_BYTES)}.`, 413);
+	try {
+		await assertUploadQuota(db, owner, bytes.byteLength);
+	} catch (err) {
+		if (err instanceof FieldError) throw new FieldError('trace', err.message, err.status);
+		throw err;
+	}
 	const id = randomUUID();
 	const key = `traces/${id}.csv`;
 	await putAll(storage, [{ key, bytes, type: 'text/csv; charset=utf-8' }]);
@@ -265,4 +272,56 @@ export async function fileForReading(db: Database, id: string) {
 		if (parent) return { ...row, status: parent.status, ownerId: parent.ownerId };
 	}
 	return row;
+}
+
+// ------------------------------------------------------------------ quota and clean-up
+
+/** Per member: at most this many bytes and files waiting unattached (pending) at once. */
+export const UPLOAD_QUOTA_BYTES = 60 * 1024 * 1024;
+export const UPLOAD_QUOTA_FILES = 30;
+/** A pending upload not attached to a submission within this long is removed by housekeeping. */
+export const PENDING_UPLOAD_TTL_MS = 24 * 3600_000;
+
+/**
+ * Refuse an upload that would take a member past their quota of pending files (curators and
+ * admins are trusted with bulk trace imports). Thumbnails count with their photo's bytes.
+ */
+export async function assertUploadQuota(db: Database, owner: Actor, incomingBytes: number) {
+	if (hasRole(owner.role, 'curator')) return;
+	const [row] = await db
+		.select({ bytes: sql<number>`coalesce(sum(${t.files.byteSize}), 0)::bigint`, count: sql<number>`count(*) filter (where ${t.files.kind} <> 'thumbnail')::int` })
+		.from(t.files)
+		.where(and(eq(t.files.ownerId, owner.id), eq(t.files.status, 'pending')));
+	const bytes = Number(row?.bytes ?? 0);
+	const count = Number(row?.count ?? 0);
+	if (count >= UPLOAD_QUOTA_FILES || bytes + incomingBytes > UPLOAD_QUOTA_BYTES)
+		throw new FieldError(
+			'photo',
+			`You have ${count} uploads (${kb(bytes)}) waiting to be attached; the limit is ${UPLOAD_QUOTA_FILES} files or ${kb(UPLOAD_QUOTA_BYTES)}. Submit or wait a day for unused ones to be removed.`,
+			413
+		);
+}
+
+/**
+ * Housekeeping: pending files older than a day that no bench run or teardown report points at
+ * (nor a photo that is attached, for thumbnails) lose their stored object and their row.
+ */
+export async function removeUnattachedUploads(db: Database, storage: Storage, now = new Date()) {
+	const cutoff = new Date(now.getTime() - PENDING_UPLOAD_TTL_MS);
+	const stale = await db.execute<{ id: string; storage_key: string }>(sql`
+		select f.id, f.storage_key from ${t.files} f
+		where f.status = 'pending' and f.created_at < ${cutoff.toISOString()}::timestamptz
+			and not exists (select 1 from ${t.benchRuns} r where r.trace_file_id = f.id)
+			and not exists (select 1 from ${t.teardownReports} d where d.photo_file_id = f.id)
+			and not exists (
+				select 1 from ${t.files} p where p.thumbnail_id = f.id and (p.status <> 'pending' or p.created_at >= ${cutoff.toISOString()}::timestamptz
+					or exists (select 1 from ${t.teardownReports} d2 where d2.photo_file_id = p.id))
+			)`);
+	let removed = 0;
+	for (const row of stale) {
+		await storage.remove(row.storage_key).catch(() => {});
+		const gone = await db.delete(t.files).where(and(eq(t.files.id, row.id), eq(t.files.status, 'pending'))).returning({ id: t.files.id });
+		removed += gone.length;
+	}
+	return removed;
 }
