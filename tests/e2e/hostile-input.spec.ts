@@ -107,7 +107,9 @@ test('every form action answers hostile input without a 5xx', async ({ page }) =
 				await post(request, target, { data: '--zz\r\nContent-Disposition: form-data; name="name"\r\n\r\nunterminated', headers: { 'content-type': 'multipart/form-data; boundary=zz' } }),
 				`${target} broken multipart`
 			);
-			await expectNo5xx(await post(request, target, { data: '{"name": "x"', headers: { 'content-type': 'application/json' } }), `${target} json body`);
+			const json = await post(request, target, { data: '{"name": "x"', headers: { 'content-type': 'application/json' } });
+			await expectNo5xx(json, `${target} json body`);
+			expect(json.status(), `${target} json body`).toBe(415);
 		}
 	}
 	// Ids beyond PostgreSQL integer never reach a query.

@@ -86,7 +86,8 @@ export async function asProblem(response: Response): Promise<Response> {
 		else return response;
 	} else if (type.startsWith('text/plain')) {
 		detail = (await response.clone().text()).slice(0, 500) || detail;
-	} else return response;
+	} else if (!type.startsWith('text/html')) return response;
+	// (An HTML error page under /api is SvelteKit's answer for a path no route matches.)
 	const headers: Record<string, string> = {};
 	for (const name of ['retry-after', 'allow', 'www-authenticate']) {
 		const v = response.headers.get(name);

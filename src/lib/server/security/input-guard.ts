@@ -10,8 +10,11 @@ import { problem } from '$lib/server/http/problem';
 
 const UNSAFE_METHODS = new Set(['POST', 'PUT', 'PATCH', 'DELETE']);
 const NUL_MESSAGE = 'Text may not contain NUL characters.';
+const FORM_TYPES = new Set(['application/x-www-form-urlencoded', 'multipart/form-data']);
+/** Endpoints (+server.ts) that take their own body types; everything else that takes a POST is a page action. */
+const NON_PAGE_PREFIXES = ['/api/', '/auth/', '/files', '/unsubscribe/'];
 
-export type InputRefusal = { status: 400; detail: string; field?: string };
+export type InputRefusal = { status: 400 | 415; detail: string; field?: string };
 
 export async function inputRefusal(request: Request, url: URL): Promise<InputRefusal | null> {
 	try {
@@ -24,6 +27,9 @@ export async function inputRefusal(request: Request, url: URL): Promise<InputRef
 	}
 	if (!UNSAFE_METHODS.has(request.method) || !request.body) return null;
 	const type = (request.headers.get('content-type') ?? '').split(';')[0].trim().toLowerCase();
+	// Pages take only form posts (their actions); a JSON or text body there is a client mistake.
+	if (request.method === 'POST' && !FORM_TYPES.has(type) && !NON_PAGE_PREFIXES.some((p) => url.pathname.startsWith(p)))
+		return { status: 415, detail: `Forms here take form data (application/x-www-form-urlencoded or multipart/form-data), not ${type || 'an untyped body'}.` };
 	if (type === 'application/x-www-form-urlencoded' || type === 'multipart/form-data') {
 		let form: FormData;
 		try {
