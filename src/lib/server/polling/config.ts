@@ -56,5 +56,7 @@ export const ROBOTS_ERROR_RETRY_MS = 10 * 60 * 1000;
 
 /** Listings claimed per claim query (all shops together). */
 export const CLAIM_LIMIT = 50;
+/** Most poll results written in one transaction (group commit, see write-queue.ts). */
+export const WRITE_BATCH = 100;
 /** Per shop, a claim takes at most max_concurrency x this many listings, so no shop hogs a batch. */
 export const CLAIM_DEPTH = 4;

@@ -15,12 +15,13 @@ import type { PollOutcome } from '../db/schema';
 import { extractOffer } from '../../feeds';
 import { formatMinor } from '../../feeds';
 import { claimDue, releaseLeases, type ClaimedListing } from './claim';
-import { CLAIM_DEPTH, CLAIM_LIMIT, DEFAULT_RATE_LIMIT_PAUSE_MS, MAX_BODY_BYTES, MAX_REDIRECTS, REQUEST_TIMEOUT_MS, userAgent } from './config';
+import { CLAIM_DEPTH, CLAIM_LIMIT, WRITE_BATCH, DEFAULT_RATE_LIMIT_PAUSE_MS, MAX_BODY_BYTES, MAX_REDIRECTS, REQUEST_TIMEOUT_MS, userAgent } from './config';
 import { ShopGate } from './gate';
 import { fetchPage, type HopBlock } from './http';
 import { assertFetchable } from './net';
 import { sharedGuardedFetch } from '../security/address';
-import { recordPoll, type PollResult, type PollVerdict, type StockEventsHook } from './record';
+import { recordPolls, type PollResult, type PollVerdict, type StockEventsHook } from './record';
+import { createWriteQueue } from './write-queue';
 import { RobotsCache } from './robots';
 import { parseRetryAfter } from './schedule';
 
@@ -48,6 +49,8 @@ export interface PollerOptions {
 	 * its outbox rows atomically with the change.
 	 */
 	onStockEvents?: StockEventsHook;
+	/** Most polls written in one transaction (write-queue.ts); 1 writes each poll on its own. */
+	writeBatch?: number;
 	fetchImpl?: typeof fetch;
 	log?: (line: string) => void;
 }
@@ -96,6 +99,10 @@ export function createPoller(db: Database, options: PollerOptions = {}): Poller 
 	const fetchImpl = options.fetchImpl ?? sharedGuardedFetch(allowPrivate);
 	const log = options.log ?? (() => {});
 	const gate = new ShopGate();
+	const writer = createWriteQueue(
+		(batch) => recordPolls(db, batch, { random, restockQuietMs: options.restockQuietMs, onStockEvents: options.onStockEvents }),
+		options.writeBatch ?? WRITE_BATCH
+	);
 	/** Which gate lane an origin's requests use: the shop's, once we have seen a listing there. */
 	const lanes = new Map<string, { id: number; maxConcurrency: number; minSpacingMs: number }>();
 
@@ -227,7 +234,7 @@ export function createPoller(db: Database, options: PollerOptions = {}): Poller 
 			// A bug of ours must not leave a lease hanging or look like a shop change.
 			verdict = { kind: 'failure', outcome: 'network', detail: `poller error: ${err instanceof Error ? err.message : String(err)}` };
 		}
-		const result = await recordPoll(db, c, verdict, { now, random, restockQuietMs: options.restockQuietMs, onStockEvents: options.onStockEvents });
+		const result = await writer.push({ c, verdict, now });
 		if (result.skipped) log(`poller ${workerId}: listing ${c.listingId} ${result.skipped}${result.error ? `: ${result.error}` : ''}`);
 		return result;
 	}
