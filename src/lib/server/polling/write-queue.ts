@@ -1,8 +1,9 @@
 /**
- * Group commit for poll results: polls hand their verdicts here and wait; one batch is written at a
- * time, and whatever arrives while it is being written goes into the next one. With little traffic a
- * poll is written at once (a batch of one); under load the batches grow by themselves, so the
- * database work per poll falls as the poll rate rises.
+ * Group commit for poll results: polls hand their verdicts here and wait; at most `writers` batches
+ * are written at a time, and whatever arrives meanwhile goes into the next one. With little traffic
+ * a poll is written at once (a batch of one); under load the batches grow by themselves, so the
+ * database work per poll falls as the poll rate rises. Two writers let one batch commit while the
+ * next is prepared; batches lock disjoint listings and take shared rows (poll_count) in key order.
  */
 import type { PendingPoll, PollResult } from './record';
 
@@ -13,33 +14,40 @@ export interface WriteQueue {
 	idle(): Promise<void>;
 }
 
-export function createWriteQueue(write: (batch: PendingPoll[]) => Promise<PollResult[]>, maxBatch = 100): WriteQueue {
+export function createWriteQueue(write: (batch: PendingPoll[]) => Promise<PollResult[]>, maxBatch = 100, writers = 2): WriteQueue {
 	let queue: Array<{ item: PendingPoll; done: (r: PollResult) => void; fail: (e: unknown) => void }> = [];
-	let writing: Promise<void> | null = null;
+	const writing = new Set<Promise<void>>();
+	/** Listings in a batch being written: a second verdict for one waits until that batch is done. */
+	const busy = new Set<number>();
 
 	const next = () => {
-		if (writing || !queue.length) return;
-		// A listing appears once per batch: a second verdict for it (a rare "poll now" right after a
-		// poll) waits for the next batch, so its write sees the first one's result.
+		if (writing.size >= writers || !queue.length) return;
+		// A listing appears once per batch and in one batch at a time: a second verdict for it (a rare
+		// "poll now" right after a poll) waits, so its write sees the first one's result.
 		const seen = new Set<number>();
 		const batch: typeof queue = [];
 		const rest: typeof queue = [];
 		for (const q of queue) {
-			if (batch.length < maxBatch && !seen.has(q.item.c.listingId)) {
-				seen.add(q.item.c.listingId);
+			const id = q.item.c.listingId;
+			if (batch.length < maxBatch && !seen.has(id) && !busy.has(id)) {
+				seen.add(id);
 				batch.push(q);
 			} else rest.push(q);
 		}
+		if (!batch.length) return;
 		queue = rest;
-		writing = write(batch.map((b) => b.item))
+		for (const id of seen) busy.add(id);
+		const p: Promise<void> = write(batch.map((b) => b.item))
 			.then(
 				(results) => batch.forEach((b, i) => b.done(results[i])),
 				(err) => batch.forEach((b) => b.fail(err))
 			)
 			.finally(() => {
-				writing = null;
+				writing.delete(p);
+				for (const id of seen) busy.delete(id);
 				next();
 			});
+		writing.add(p);
 	};
 
 	return {
@@ -51,7 +59,7 @@ export function createWriteQueue(write: (batch: PendingPoll[]) => Promise<PollRe
 			});
 		},
 		async idle() {
-			while (writing || queue.length) await (writing ?? Promise.resolve());
+			while (writing.size) await Promise.race(writing);
 		}
 	};
 }
