@@ -158,6 +158,17 @@ export async function settle(db: Db, id: number, owner: string, s: Settle): Prom
 	return res.length === 1;
 }
 
+/** Mark rows sent after the SMTP server accepted them; only rows this sender still leases. Returns those ids. */
+export async function markSent(db: Db, ids: number[], owner: string): Promise<number[]> {
+	const rows = rowsOf<{ id: number }>(
+		await db.execute(sql`
+			update alert_outbox set status = 'sent', sent_at = now(), lease_owner = null, lease_until = null, last_error = null
+			where id = any(${`{${ids.join(',')}}`}::bigint[]) and lease_owner = ${owner} and status = 'sending'
+			returning id`)
+	);
+	return rows.map((r) => Number(r.id));
+}
+
 /** SMTP failures that say "never going to work" (RFC 5321 section 4.2.1: 5yz is permanent). */
 function isPermanent(err: unknown): boolean {
 	const code = (err as { responseCode?: number }).responseCode;
@@ -258,10 +269,12 @@ export async function sendDue(db: Db, options: SenderOptions): Promise<SendRepor
 			return;
 		}
 		await options.afterSend?.(ctx.outboxId);
-		if (await settle(db, ctx.outboxId, owner, { kind: 'sent' })) report.sent++;
-		else log(`alert ${ctx.outboxId}: sent, but the lease had passed to another sender`);
+		// Marked sent together at the end of the batch (one statement instead of one per message); a
+		// crash before that resends at most this batch, which README's "at least once" already allows.
+		accepted.push(ctx.outboxId);
 		if (options.sendSpacingMs) await new Promise((r) => setTimeout(r, options.sendSpacingMs));
 	}
+	const accepted: number[] = [];
 
 	try {
 		const queue = [...contexts];
@@ -271,6 +284,12 @@ export async function sendDue(db: Db, options: SenderOptions): Promise<SendRepor
 		await Promise.all(workers);
 	} finally {
 		if (ownTransport) transport.close();
+		if (accepted.length) {
+			const marked = await markSent(db, accepted, owner);
+			report.sent += marked.length;
+			const lost = accepted.filter((id) => !marked.includes(id));
+			for (const id of lost) log(`alert ${id}: sent, but the lease had passed to another sender`);
+		}
 	}
 	// Rows claimed but gone from the join (e.g. the watch was deleted mid-batch) were removed by cascade.
 	return report;
