@@ -121,7 +121,8 @@ export function listingSpells(points: readonly StockPoint[], now: Date): Listing
 	let since: number | null = null;
 	let started = false;
 	const end = now.getTime();
-	for (const p of points) {
+	const sorted = [...points].sort((a, b) => a.at.getTime() - b.at.getTime());
+	for (const p of sorted) {
 		const t = p.at.getTime();
 		if (p.stock === 'unknown' || t > end) continue;
 		const buyable = isBuyable(p.stock);

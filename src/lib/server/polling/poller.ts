@@ -22,6 +22,7 @@ import { assertFetchable } from './net';
 import { sharedGuardedFetch } from '../security/address';
 import { recordPolls, type PollResult, type PollVerdict, type StockEventsHook } from './record';
 import { createWriteQueue } from './write-queue';
+import { createPlanner } from './plan';
 import { RobotsCache } from './robots';
 import { parseRetryAfter } from './schedule';
 
@@ -49,6 +50,11 @@ export interface PollerOptions {
 	 * its outbox rows atomically with the change.
 	 */
 	onStockEvents?: StockEventsHook;
+	/**
+	 * 'adaptive' spreads each shop's polls by who waits for what ($lib/poll-plan, polling/plan.ts) at the
+	 * same requests per shop; 'fixed' (default) polls every listing on its own interval.
+	 */
+	schedule?: 'fixed' | 'adaptive';
 	/** Most polls written in one transaction (write-queue.ts); 1 writes each poll on its own. */
 	writeBatch?: number;
 	fetchImpl?: typeof fetch;
@@ -99,8 +105,15 @@ export function createPoller(db: Database, options: PollerOptions = {}): Poller 
 	const fetchImpl = options.fetchImpl ?? sharedGuardedFetch(allowPrivate);
 	const log = options.log ?? (() => {});
 	const gate = new ShopGate();
+	const planner = options.schedule === 'adaptive' ? createPlanner(db, clock, log) : null;
 	const writer = createWriteQueue(
-		(batch) => recordPolls(db, batch, { random, restockQuietMs: options.restockQuietMs, onStockEvents: options.onStockEvents }),
+		(batch) =>
+			recordPolls(db, batch, {
+				random,
+				restockQuietMs: options.restockQuietMs,
+				onStockEvents: options.onStockEvents,
+				intervalFor: planner ? (c, stock) => planner.intervalFor(c.listingId, stock) ?? c.pollIntervalMinutes : undefined
+			}),
 		options.writeBatch ?? WRITE_BATCH
 	);
 	/** Which gate lane an origin's requests use: the shop's, once we have seen a listing there. */
@@ -239,8 +252,9 @@ export function createPoller(db: Database, options: PollerOptions = {}): Poller 
 		return result;
 	}
 
-	const claim = (limit = claimLimit, onlyListingIds?: number[]) =>
-		claimDue(db, {
+	const claim = async (limit = claimLimit, onlyListingIds?: number[]) => {
+		await planner?.refresh();
+		return claimDue(db, {
 			owner: workerId,
 			now: clock(),
 			limit,
@@ -250,6 +264,7 @@ export function createPoller(db: Database, options: PollerOptions = {}): Poller 
 			leaseBaseMs: 2 * timeoutMs + 30_000,
 			leasePerListingMs: timeoutMs
 		});
+	};
 
 	const emptySummary = (): RunSummary => ({ claimed: 0, polled: 0, changed: 0, events: 0, byOutcome: {}, skipped: 0, ms: 0 });
 	const add = (s: RunSummary, r: PollResult) => {
