@@ -21,6 +21,8 @@ export interface Spell {
 	duration: number;
 	/** True when the spell had not ended when observed (the current one). */
 	censored: boolean;
+	/** When the spell ended, or when it was last seen running (ms since the epoch); listingSpells sets it. */
+	end?: number;
 }
 
 export interface KmStep {
@@ -132,13 +134,13 @@ export function listingSpells(points: readonly StockPoint[], now: Date): Listing
 			continue;
 		}
 		if (buyable === known) continue;
-		if (started) (known ? inStock : out).push({ duration: t - since!, censored: false });
+		if (started) (known ? inStock : out).push({ duration: t - since!, censored: false, end: t });
 		known = buyable;
 		since = t;
 		started = true;
 	}
 	if (known === null) return { out, in: inStock, current: null };
-	if (started) (known ? inStock : out).push({ duration: Math.max(0, end - since!), censored: true });
+	if (started) (known ? inStock : out).push({ duration: Math.max(0, end - since!), censored: true, end });
 	return { out, in: inStock, current: { buyable: known, since: new Date(since!), spellStarted: started } };
 }
 

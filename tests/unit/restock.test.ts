@@ -75,12 +75,12 @@ describe('listingSpells', () => {
 		];
 		const s = listingSpells(pts, new Date(t0 + 12 * D));
 		expect(s.in).toEqual([
-			{ duration: 3 * D, censored: false },
-			{ duration: 1 * D, censored: false }
+			{ duration: 3 * D, censored: false, end: t0 + 5 * D },
+			{ duration: 1 * D, censored: false, end: t0 + 9 * D }
 		]);
 		expect(s.out).toEqual([
-			{ duration: 3 * D, censored: false },
-			{ duration: 3 * D, censored: true }
+			{ duration: 3 * D, censored: false, end: t0 + 8 * D },
+			{ duration: 3 * D, censored: true, end: t0 + 12 * D }
 		]);
 		expect(s.current).toMatchObject({ buyable: false, spellStarted: true });
 	});
@@ -137,5 +137,14 @@ describe('formatSpan', () => {
 		expect(formatSpan(1 * H)).toBe('1 hour');
 		expect(formatSpan(12 * D)).toBe('12 days');
 		expect(formatSpan(30 * D)).toBe('4 weeks');
+	});
+});
+
+describe('shopRecordLine (our thresholds)', () => {
+	it('says the restock gap and how often the shop delists', async () => {
+		const { shopRecordLine } = await import('../../src/lib/shop-record');
+		expect(shopRecordLine({ medianRestockGapMs: 9 * D, delistings: 0, listings: 12, failedPollShare: 0.01 })).toBe('usually restocks within 2 weeks; delists rarely');
+		expect(shopRecordLine({ medianRestockGapMs: null, delistings: 4, listings: 10, failedPollShare: 0.3 })).toBe('delists often; its pages often fail to load for us');
+		expect(shopRecordLine({ medianRestockGapMs: null, delistings: 0, listings: 0, failedPollShare: null })).toBeNull();
 	});
 });

@@ -6,7 +6,7 @@ import { json } from '@sveltejs/kit';
 import { shopHealthQuery as query } from '$lib/server/api/contract';
 import { requireApiRole } from '$lib/server/auth/guard';
 import { db } from '$lib/server/db';
-import { shopHealth } from '$lib/server/queries/history';
+import { shopHealth } from '$lib/server/queries/shops';
 import type { RequestHandler } from './$types';
 
 
