@@ -244,3 +244,17 @@ export async function shopRecords(db: Database, opts: { shopIds?: number[]; now?
 	}
 	return out;
 }
+
+export interface ListingNote {
+	outlook: RestockOutlook;
+	/** The listing's shop: where its record lives and its one-line summary. */
+	shop: { slug: string; line: string | null };
+}
+
+/** What a listing row shows beside price and stock: its restock outlook and its shop's record line. */
+export async function listingNotes(db: Database, listingIds: number[], now = new Date()): Promise<Map<number, ListingNote>> {
+	if (!listingIds.length) return new Map();
+	const rows = await db.select({ id: listings.id, shopId: listings.shopId, shopSlug: shops.slug }).from(listings).innerJoin(shops, eq(shops.id, listings.shopId)).where(inArray(listings.id, listingIds));
+	const [outlooks, records] = await Promise.all([listingOutlooks(db, listingIds, now), shopRecords(db, { shopIds: [...new Set(rows.map((r) => r.shopId))], now })]);
+	return new Map(rows.map((r) => [r.id, { outlook: outlooks.get(r.id)!, shop: { slug: r.shopSlug, line: records.get(r.shopId)?.line ?? null } }]));
+}
