@@ -1,62 +1,16 @@
 /**
- * The jobs process: every scheduled task of the product, run with node-cron.
- * Each task lives in its own module under jobs/ and is registered here.
+ * The jobs process: every scheduled task of the product, run with node-cron (jobs/jobs.ts).
+ * Each task lives in its own module under jobs/ and is registered there.
  */
-import cron from 'node-cron';
 import { createDb } from '../src/lib/server/db/client';
-import { housekeeping } from './housekeeping';
-import { createStorage, storageConfigFrom } from '../src/lib/server/storage/index';
-import { schedulePoller } from './poller';
-import { createAlertHook, quietHoursFromEnv } from '../src/lib/server/alerts/match';
-import { DEFAULT_SENDER_CRON, senderTask } from './sender';
-import { DEFAULT_DIGEST_CRON, digestTask } from './digest';
+import { startJobs } from './jobs';
 
 const { db, sql } = createDb(process.env.DATABASE_URL, { max: 4 });
-
-// Polls due shop listings every 30 s; restocks write alert outbox rows in the same transaction.
-// One quiet period (ALERT_QUIET_HOURS) for the poller's quiet flag and the alert matching.
-const quietHours = quietHoursFromEnv(process.env);
-const poller = schedulePoller(db, { onStockEvents: createAlertHook({ quietHours }), restockQuietMs: quietHours * 3_600_000 });
-const sendAlerts = senderTask(db);
-const sendDigests = digestTask(db);
-/** Object storage for removing unattached uploads; housekeeping skips that step when S3 is not configured. */
-const uploadStorage = () => {
-	try {
-		return createStorage(storageConfigFrom(process.env));
-	} catch {
-		return undefined;
-	}
-};
-const logError = (name: string) => (err: unknown) => console.error(`${name}: ${err instanceof Error ? err.message : err}`);
-
-const tasks = [
-	poller.task,
-	cron.schedule('17 * * * *', () => housekeeping(db, new Date(), uploadStorage()).then((r) => console.log(`housekeeping: ${JSON.stringify(r)}`)), {
-		name: 'housekeeping',
-		noOverlap: true
-	}),
-	cron.schedule(
-		process.env.SENDER_CRON || DEFAULT_SENDER_CRON,
-		() =>
-			sendAlerts()
-				.then((r) => r.claimed && console.log(`sender: ${JSON.stringify(r)}`))
-				.catch(logError('sender')),
-		{ name: 'sender', noOverlap: true }
-	),
-	cron.schedule(
-		process.env.DIGEST_CRON || DEFAULT_DIGEST_CRON,
-		() =>
-			sendDigests()
-				.then((r) => r.members && console.log(`digest: ${JSON.stringify(r)}`))
-				.catch(logError('digest')),
-		{ name: 'digest', noOverlap: true }
-	)
-];
-console.log(`jobs running: ${tasks.map((t) => t.name).join(', ')}`);
+const jobs = await startJobs(db, sql);
+console.log(`jobs running: ${jobs.names.join(', ')}`);
 
 async function stop() {
-	for (const t of tasks) await t.destroy();
-	await poller.poller.release().catch(() => 0);
+	await jobs.stop();
 	await sql.end({ timeout: 5 });
 	process.exit(0);
 }

@@ -19,7 +19,7 @@ const RUN_BUDGET_MS = 25_000;
  * the same transaction as each stock event; the returned poller's `release()` gives back leases.
  */
 export function schedulePoller(db: Database, options: PollerOptions = {}): { task: ScheduledTask; poller: Poller } {
-	const poller = createPoller(db, { log: (l) => console.log(l), ...options });
+	const poller = createPoller(db, { log: (l) => console.log(l), schedule: 'adaptive', ...options });
 	const task = cron.schedule(
 		POLLER_SCHEDULE,
 		async () => {

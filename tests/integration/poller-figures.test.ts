@@ -7,7 +7,8 @@
 import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
 import { eq } from 'drizzle-orm';
 import { converters, listings, listingStates, observations, shops } from '../../src/lib/server/db/schema';
-import { bestOffersByRegion, listingFigures, listingHistory, shopHealth } from '../../src/lib/server/queries/history';
+import { bestOffersByRegion, listingFigures, listingHistory } from '../../src/lib/server/queries/history';
+import { shopHealth } from '../../src/lib/server/queries/shops';
 import { createWorld, setSpacing, type World } from './poller-helpers';
 
 let w: World;

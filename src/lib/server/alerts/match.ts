@@ -17,6 +17,9 @@ import { loadRates } from '../queries/offers';
 import type { Database } from '../db/client';
 import { rowsOf, type Db } from './db';
 
+/** The NOTIFY channel that says "new alert_outbox rows committed" (jobs/wake.ts listens). */
+export const OUTBOX_CHANNEL = 'sg_alert_outbox';
+
 /** The shape the poller hands to its `onStockEvents` hook. */
 export interface StockEventInput {
 	id: number;
@@ -203,6 +206,9 @@ export async function matchStockEvents(tx: Db, events: StockEventInput[], option
 export function createAlertHook(options: Omit<MatchOptions, 'rates'> = {}): StockEventsHook {
 	const quietHours = options.quietHours ?? quietHoursFromEnv();
 	return async (tx, events) => {
-		await matchStockEvents(tx, events, { quietHours });
+		const results = await matchStockEvents(tx, events, { quietHours });
+		// Wakes the senders listening on OUTBOX_CHANNEL. PostgreSQL delivers a NOTIFY when the
+		// transaction commits and drops it on rollback, so a sender never looks before the rows exist.
+		if (results.some((r) => r.created > 0)) await tx.execute(sql`select pg_notify(${OUTBOX_CHANNEL}, '')`);
 	};
 }

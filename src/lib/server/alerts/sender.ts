@@ -18,7 +18,7 @@ import { transportOptions, type SmtpConfig } from '../mail/transport';
 import { loadRates } from '../queries/offers';
 import type { Database } from '../db/client';
 import { rowsOf, type Db } from './db';
-import { renderAlertMessage, unsubscribeHeaders, unsubscribeUrl } from './message';
+import { renderAlertMessage, unsubscribeHeaders, unsubscribeUrl, type RenderedMessage } from './message';
 import { quietUntil } from './schedule';
 import { signUnsubscribeToken } from './token';
 import { loadOutboxContexts, type OutboxContext } from './view';
@@ -158,6 +158,17 @@ export async function settle(db: Db, id: number, owner: string, s: Settle): Prom
 	return res.length === 1;
 }
 
+/** Mark rows sent after the SMTP server accepted them; only rows this sender still leases. Returns those ids. */
+export async function markSent(db: Db, ids: number[], owner: string): Promise<number[]> {
+	const rows = rowsOf<{ id: number }>(
+		await db.execute(sql`
+			update alert_outbox set status = 'sent', sent_at = now(), lease_owner = null, lease_until = null, last_error = null
+			where id = any(${`{${ids.join(',')}}`}::bigint[]) and lease_owner = ${owner} and status = 'sending'
+			returning id`)
+	);
+	return rows.map((r) => Number(r.id));
+}
+
 /** SMTP failures that say "never going to work" (RFC 5321 section 4.2.1: 5yz is permanent). */
 function isPermanent(err: unknown): boolean {
 	const code = (err as { responseCode?: number }).responseCode;
@@ -175,12 +186,34 @@ function errorText(err: unknown): string {
 	return [e.code, e.responseCode, e.message ?? String(err)].filter(Boolean).join(' ').slice(0, 500);
 }
 
-/** Build the nodemailer message for one instant alert. */
-export function buildAlertMail(ctx: OutboxContext, opts: Pick<SenderOptions, 'baseUrl' | 'secret' | 'smtp'>) {
+/** Stand-ins for the per-watch link while a message is rendered once for many watchers (no escaping touches them). */
+const UNSUBSCRIBE_MARK = 'sg-unsubscribe-mark-7f3a';
+
+/**
+ * Build the nodemailer message for one instant alert. `rendered` caches the rendering per distinct
+ * alert view (one restock fans out to many watchers who differ only in their unsubscribe link), so
+ * a large fan-out renders its template once.
+ */
+export function buildAlertMail(ctx: OutboxContext, opts: Pick<SenderOptions, 'baseUrl' | 'secret' | 'smtp'>, rendered?: Map<string, RenderedMessage>) {
 	const token = signUnsubscribeToken(opts.secret, { kind: 'watch', watchId: ctx.watchId });
 	const base = opts.baseUrl.replace(/\/+$/, '');
 	const domain = mailDomain(opts.smtp.from);
-	const message = renderAlertMessage(ctx.view, { manageUrl: `${base}/account/watches`, unsubscribeUrl: unsubscribeUrl(base, token) });
+	const manageUrl = `${base}/account/watches`;
+	const unsubscribe = unsubscribeUrl(base, token);
+	let message: RenderedMessage;
+	if (!rendered || /[<>&"']/.test(unsubscribe)) {
+		// A link HTML would escape differs between text and HTML: render this one on its own.
+		message = renderAlertMessage(ctx.view, { manageUrl, unsubscribeUrl: unsubscribe });
+	} else {
+		const key = JSON.stringify(ctx.view);
+		let template = rendered.get(key);
+		if (!template) {
+			template = renderAlertMessage(ctx.view, { manageUrl, unsubscribeUrl: UNSUBSCRIBE_MARK });
+			rendered.set(key, template);
+		}
+		const fill = (s: string) => s.split(UNSUBSCRIBE_MARK).join(unsubscribe);
+		message = { subject: template.subject, text: fill(template.text), html: fill(template.html) };
+	}
 	return {
 		from: opts.smtp.from,
 		to: ctx.email!,
@@ -213,6 +246,7 @@ export async function sendDue(db: Db, options: SenderOptions): Promise<SendRepor
 
 	const rates = await loadRates(db as unknown as Database);
 	const contexts = await loadOutboxContexts(db, ids, { baseUrl: options.baseUrl, rates });
+	const rendered = new Map<string, RenderedMessage>();
 	const ownTransport = !options.transport;
 	const transport = options.transport ?? createAlertTransport(options.smtp, options.concurrency ?? 4);
 	let unreachable: { error: string; delayMs: number } | null = null;
@@ -242,7 +276,7 @@ export async function sendDue(db: Db, options: SenderOptions): Promise<SendRepor
 			return;
 		}
 		try {
-			const info = await transport.sendMail(buildAlertMail(ctx, options));
+			const info = await transport.sendMail(buildAlertMail(ctx, options, rendered));
 			if (info.rejected?.length) throw Object.assign(new Error(`recipient rejected: ${info.rejected.join(', ')}`), { responseCode: 550 });
 		} catch (err) {
 			const error = errorText(err);
@@ -258,10 +292,12 @@ export async function sendDue(db: Db, options: SenderOptions): Promise<SendRepor
 			return;
 		}
 		await options.afterSend?.(ctx.outboxId);
-		if (await settle(db, ctx.outboxId, owner, { kind: 'sent' })) report.sent++;
-		else log(`alert ${ctx.outboxId}: sent, but the lease had passed to another sender`);
+		// Marked sent together at the end of the batch (one statement instead of one per message); a
+		// crash before that resends at most this batch, which README's "at least once" already allows.
+		accepted.push(ctx.outboxId);
 		if (options.sendSpacingMs) await new Promise((r) => setTimeout(r, options.sendSpacingMs));
 	}
+	const accepted: number[] = [];
 
 	try {
 		const queue = [...contexts];
@@ -271,6 +307,12 @@ export async function sendDue(db: Db, options: SenderOptions): Promise<SendRepor
 		await Promise.all(workers);
 	} finally {
 		if (ownTransport) transport.close();
+		if (accepted.length) {
+			const marked = await markSent(db, accepted, owner);
+			report.sent += marked.length;
+			const lost = accepted.filter((id) => !marked.includes(id));
+			for (const id of lost) log(`alert ${id}: sent, but the lease had passed to another sender`);
+		}
 	}
 	// Rows claimed but gone from the join (e.g. the watch was deleted mid-batch) were removed by cascade.
 	return report;

@@ -6,7 +6,7 @@
  * The poller itself (src/lib/server/polling, jobs/) owns listing_state's poll columns; we
  * only set poll_requested_at and next_poll_at, which it reads.
  */
-import { and, asc, desc, eq, gte, sql } from 'drizzle-orm';
+import { and, asc, eq, sql } from 'drizzle-orm';
 import type { z } from 'zod';
 import { extractOffer, type ApiMapping, type ExtractResult, type OfferSelectors } from '../../feeds/index';
 import { audit, auditedUpdate } from '../audit';
@@ -250,63 +250,6 @@ export function listingsWithState(db: Database, filter: { shopId?: number; listi
 		.leftJoin(t.listingStates, eq(t.listingStates.listingId, t.listings.id))
 		.where(conds.length ? and(...conds) : undefined)
 		.orderBy(asc(t.shops.name), asc(t.converters.brand), asc(t.converters.model));
-}
-
-export interface ShopHealth {
-	shopId: number;
-	shop: string;
-	listings: number;
-	failingNow: number;
-	okCount: number;
-	failCount: number;
-	byOutcome: Array<{ outcome: t.PollOutcome; count: number; lastAt: Date; lastDetail: string | null }>;
-	lastError: { at: Date; text: string } | null;
-}
-
-const OK_OUTCOMES = new Set<string>(['ok', 'not_modified']);
-
-/** Poll outcomes per shop over the last `days` days, plus listings failing right now. */
-export async function shopHealth(db: Database, days = 7, now = new Date()): Promise<ShopHealth[]> {
-	const since = new Date(now.getTime() - days * 86_400_000).toISOString().slice(0, 10);
-	const [shops, counts, states] = await Promise.all([
-		db.select({ id: t.shops.id, name: t.shops.name }).from(t.shops).orderBy(asc(t.shops.name)),
-		db
-			.select({
-				shopId: t.pollCounts.shopId,
-				outcome: t.pollCounts.outcome,
-				count: sql<number>`sum(${t.pollCounts.count})::int`,
-				lastAt: sql<Date>`max(${t.pollCounts.lastAt})`,
-				lastDetail: sql<string | null>`(array_agg(${t.pollCounts.lastDetail} order by ${t.pollCounts.lastAt} desc))[1]`
-			})
-			.from(t.pollCounts)
-			.where(gte(t.pollCounts.day, since))
-			.groupBy(t.pollCounts.shopId, t.pollCounts.outcome),
-		db
-			.select({
-				shopId: t.listings.shopId,
-				failures: t.listingStates.consecutiveFailures,
-				lastError: t.listingStates.lastError,
-				lastErrorAt: t.listingStates.lastErrorAt
-			})
-			.from(t.listings)
-			.leftJoin(t.listingStates, eq(t.listingStates.listingId, t.listings.id))
-			.orderBy(desc(t.listingStates.lastErrorAt))
-	]);
-	return shops.map((s) => {
-		const mine = counts.filter((c) => c.shopId === s.id).map((c) => ({ ...c, lastAt: new Date(c.lastAt) }));
-		const st = states.filter((x) => x.shopId === s.id);
-		const err = st.find((x) => x.lastError && x.lastErrorAt);
-		return {
-			shopId: s.id,
-			shop: s.name,
-			listings: st.length,
-			failingNow: st.filter((x) => (x.failures ?? 0) > 0).length,
-			okCount: mine.filter((c) => OK_OUTCOMES.has(c.outcome)).reduce((n, c) => n + c.count, 0),
-			failCount: mine.filter((c) => !OK_OUTCOMES.has(c.outcome)).reduce((n, c) => n + c.count, 0),
-			byOutcome: mine.sort((a, b) => b.count - a.count).map(({ outcome, count, lastAt, lastDetail }) => ({ outcome, count, lastAt, lastDetail })),
-			lastError: err ? { at: err.lastErrorAt!, text: err.lastError! } : null
-		};
-	});
 }
 
 export async function shopOptions(db: Database) {

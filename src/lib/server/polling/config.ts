@@ -56,5 +56,11 @@ export const ROBOTS_ERROR_RETRY_MS = 10 * 60 * 1000;
 
 /** Listings claimed per claim query (all shops together). */
 export const CLAIM_LIMIT = 50;
-/** Per shop, a claim takes at most max_concurrency x this many listings, so no shop hogs a batch. */
-export const CLAIM_DEPTH = 4;
+/** Most poll results written in one transaction (group commit, see write-queue.ts). */
+export const WRITE_BATCH = 100;
+/**
+ * Per shop, a claim takes at most max_concurrency x this many listings, so no shop hogs a batch.
+ * Deep enough that a shop's requests keep flowing while earlier results wait for their batched write
+ * (a listing stays leased until its result is stored); politeness is the gate's job, not this one's.
+ */
+export const CLAIM_DEPTH = 8;

@@ -15,12 +15,14 @@ import type { PollOutcome } from '../db/schema';
 import { extractOffer } from '../../feeds';
 import { formatMinor } from '../../feeds';
 import { claimDue, releaseLeases, type ClaimedListing } from './claim';
-import { CLAIM_DEPTH, CLAIM_LIMIT, DEFAULT_RATE_LIMIT_PAUSE_MS, MAX_BODY_BYTES, MAX_REDIRECTS, REQUEST_TIMEOUT_MS, userAgent } from './config';
+import { CLAIM_DEPTH, CLAIM_LIMIT, WRITE_BATCH, DEFAULT_RATE_LIMIT_PAUSE_MS, MAX_BODY_BYTES, MAX_REDIRECTS, REQUEST_TIMEOUT_MS, userAgent } from './config';
 import { ShopGate } from './gate';
 import { fetchPage, type HopBlock } from './http';
 import { assertFetchable } from './net';
 import { sharedGuardedFetch } from '../security/address';
-import { recordPoll, type PollResult, type PollVerdict, type StockEventsHook } from './record';
+import { recordPolls, type PollResult, type PollVerdict, type StockEventsHook } from './record';
+import { createWriteQueue } from './write-queue';
+import { createPlanner } from './plan';
 import { RobotsCache } from './robots';
 import { parseRetryAfter } from './schedule';
 
@@ -48,6 +50,13 @@ export interface PollerOptions {
 	 * its outbox rows atomically with the change.
 	 */
 	onStockEvents?: StockEventsHook;
+	/**
+	 * 'adaptive' spreads each shop's polls by who waits for what ($lib/poll-plan, polling/plan.ts) at the
+	 * same requests per shop; 'fixed' (default) polls every listing on its own interval.
+	 */
+	schedule?: 'fixed' | 'adaptive';
+	/** Most polls written in one transaction (write-queue.ts); 1 writes each poll on its own. */
+	writeBatch?: number;
 	fetchImpl?: typeof fetch;
 	log?: (line: string) => void;
 }
@@ -96,6 +105,17 @@ export function createPoller(db: Database, options: PollerOptions = {}): Poller 
 	const fetchImpl = options.fetchImpl ?? sharedGuardedFetch(allowPrivate);
 	const log = options.log ?? (() => {});
 	const gate = new ShopGate();
+	const planner = options.schedule === 'adaptive' ? createPlanner(db, clock, log) : null;
+	const writer = createWriteQueue(
+		(batch) =>
+			recordPolls(db, batch, {
+				random,
+				restockQuietMs: options.restockQuietMs,
+				onStockEvents: options.onStockEvents,
+				intervalFor: planner ? (c, stock) => planner.intervalFor(c.listingId, stock) ?? c.pollIntervalMinutes : undefined
+			}),
+		options.writeBatch ?? WRITE_BATCH
+	);
 	/** Which gate lane an origin's requests use: the shop's, once we have seen a listing there. */
 	const lanes = new Map<string, { id: number; maxConcurrency: number; minSpacingMs: number }>();
 
@@ -227,13 +247,14 @@ export function createPoller(db: Database, options: PollerOptions = {}): Poller 
 			// A bug of ours must not leave a lease hanging or look like a shop change.
 			verdict = { kind: 'failure', outcome: 'network', detail: `poller error: ${err instanceof Error ? err.message : String(err)}` };
 		}
-		const result = await recordPoll(db, c, verdict, { now, random, restockQuietMs: options.restockQuietMs, onStockEvents: options.onStockEvents });
+		const result = await writer.push({ c, verdict, now });
 		if (result.skipped) log(`poller ${workerId}: listing ${c.listingId} ${result.skipped}${result.error ? `: ${result.error}` : ''}`);
 		return result;
 	}
 
-	const claim = (limit = claimLimit, onlyListingIds?: number[]) =>
-		claimDue(db, {
+	const claim = async (limit = claimLimit, onlyListingIds?: number[]) => {
+		await planner?.refresh();
+		return claimDue(db, {
 			owner: workerId,
 			now: clock(),
 			limit,
@@ -243,6 +264,7 @@ export function createPoller(db: Database, options: PollerOptions = {}): Poller 
 			leaseBaseMs: 2 * timeoutMs + 30_000,
 			leasePerListingMs: timeoutMs
 		});
+	};
 
 	const emptySummary = (): RunSummary => ({ claimed: 0, polled: 0, changed: 0, events: 0, byOutcome: {}, skipped: 0, ms: 0 });
 	const add = (s: RunSummary, r: PollResult) => {

@@ -1,6 +1,6 @@
 /**
  * Price and stock history of listings, read from change points (observation rows: one per change of
- * price, currency or stock state), and the poller's health per shop.
+ * price, currency or stock state). Shop health and shop records are in ./shops.
  *
  * Definitions used by every figure (documented for the public pages):
  * - Between two change points the listing is taken to have kept the earlier point's values; the last
@@ -15,9 +15,9 @@
  *   next sell-out; the typical duration is the median of spells that ENDED in the window (open ones
  *   are not yet measurable).
  */
-import { and, asc, desc, eq, gte, inArray, isNull, lte, sql } from 'drizzle-orm';
+import { asc, eq, inArray } from 'drizzle-orm';
 import type { Database } from '../db/client';
-import { listingStates, listings, observations, pollCounts, shopPollStates, shops, type PollOutcome, type StockState } from '../db/schema';
+import { listingStates, listings, observations, shops, type PollOutcome, type StockState } from '../db/schema';
 import { bestOfferByConverter, isBuyable, REGION_CODES, REGION_CURRENCY, type PricedOffer, type Region } from '../../pricing';
 import { currentOffers, loadRates } from './offers';
 
@@ -302,87 +302,4 @@ export async function bestOffersByRegion(db: Database, converterIds?: number[], 
 		}
 	}
 	return out;
-}
-
-const FAILURE_OUTCOMES = new Set<PollOutcome>(['timeout', 'network', 'http_4xx', 'http_5xx', 'rate_limited', 'robots_disallowed', 'gone', 'unreadable', 'wrong_currency', 'too_large']);
-
-export interface ShopHealth {
-	shop: { id: number; slug: string; name: string; active: boolean };
-	/** Poll outcomes counted per outcome over the window (poll_count days). */
-	counts: Partial<Record<PollOutcome, number>>;
-	polls: number;
-	failures: number;
-	/** failures / polls, null with no polls. */
-	failureShare: number | null;
-	lastPollAt: Date | null;
-	lastError: { outcome: PollOutcome; at: Date; detail: string | null } | null;
-	pausedUntil: Date | null;
-	pauseReason: string | null;
-	/** Active listings whose latest poll failed, worst first. */
-	failingNow: Array<{
-		listingId: number;
-		url: string;
-		lastOutcome: PollOutcome | null;
-		lastError: string | null;
-		lastErrorAt: Date | null;
-		consecutiveFailures: number;
-		nextPollAt: Date;
-	}>;
-}
-
-/** The poller's health per shop over the last `days` days (UTC, today included), for curators. */
-export async function shopHealth(db: Database, opts: { now?: Date; days?: number } = {}): Promise<{ from: string; to: string; shops: ShopHealth[] }> {
-	const now = opts.now ?? new Date();
-	const days = opts.days ?? 7;
-	const to = now.toISOString().slice(0, 10);
-	const from = new Date(now.getTime() - (days - 1) * DAY).toISOString().slice(0, 10);
-	const [shopRows, counts, failing, pauses] = await Promise.all([
-		db.select({ id: shops.id, slug: shops.slug, name: shops.name, active: shops.active }).from(shops).orderBy(asc(shops.slug)),
-		db
-			.select({ shopId: pollCounts.shopId, outcome: pollCounts.outcome, count: pollCounts.count, lastAt: pollCounts.lastAt, lastDetail: pollCounts.lastDetail })
-			.from(pollCounts)
-			.where(and(gte(pollCounts.day, from), lte(pollCounts.day, to))),
-		db
-			.select({
-				shopId: listings.shopId,
-				listingId: listings.id,
-				url: listings.url,
-				lastOutcome: listingStates.lastOutcome,
-				lastError: listingStates.lastError,
-				lastErrorAt: listingStates.lastErrorAt,
-				consecutiveFailures: listingStates.consecutiveFailures,
-				nextPollAt: listingStates.nextPollAt
-			})
-			.from(listingStates)
-			.innerJoin(listings, eq(listings.id, listingStates.listingId))
-			.where(and(sql`${listingStates.consecutiveFailures} > 0`, eq(listings.active, true), isNull(listings.delistedAt)))
-			.orderBy(desc(listingStates.consecutiveFailures), asc(listings.id)),
-		db.select().from(shopPollStates)
-	]);
-	return {
-		from,
-		to,
-		shops: shopRows.map((shop) => {
-			const mine = counts.filter((c) => c.shopId === shop.id);
-			const byOutcome: Partial<Record<PollOutcome, number>> = {};
-			for (const c of mine) byOutcome[c.outcome] = (byOutcome[c.outcome] ?? 0) + c.count;
-			const polls = mine.reduce((n, c) => n + c.count, 0);
-			const failures = mine.filter((c) => FAILURE_OUTCOMES.has(c.outcome)).reduce((n, c) => n + c.count, 0);
-			const lastFailure = mine.filter((c) => FAILURE_OUTCOMES.has(c.outcome)).sort((a, b) => +b.lastAt - +a.lastAt)[0];
-			const pause = pauses.find((p) => p.shopId === shop.id);
-			const lastPollAt = mine.length ? new Date(Math.max(...mine.map((c) => +c.lastAt))) : null;
-			return {
-				shop,
-				counts: byOutcome,
-				polls,
-				failures,
-				failureShare: polls ? failures / polls : null,
-				lastPollAt,
-				lastError: lastFailure ? { outcome: lastFailure.outcome, at: lastFailure.lastAt, detail: lastFailure.lastDetail } : null,
-				pausedUntil: pause?.pausedUntil && pause.pausedUntil > now ? pause.pausedUntil : null,
-				pauseReason: pause?.pausedUntil && pause.pausedUntil > now ? pause.pauseReason : null,
-				failingNow: failing.filter((f) => f.shopId === shop.id).map(({ shopId: _s, ...f }) => f)
-			};
-		})
-	};
 }

@@ -4,10 +4,11 @@
  * typed, so nothing is lost.
  */
 import { fail } from '@sveltejs/kit';
-import { asc, isNull } from 'drizzle-orm';
+import { and, asc, eq, inArray, isNull } from 'drizzle-orm';
 import { requireRole } from '$lib/server/auth/guard';
 import { db } from '$lib/server/db';
-import { converters, shops } from '$lib/server/db/schema';
+import { converters, listings, listingStates, shops } from '$lib/server/db/schema';
+import { listingNotes } from '$lib/server/queries/shops';
 import {
 	createWatch,
 	deleteWatch,
@@ -36,8 +37,27 @@ export const load: PageServerLoad = async (event) => {
 			.orderBy(asc(converters.brand), asc(converters.model)),
 		db.select({ id: shops.id, name: shops.name, region: shops.region }).from(shops).orderBy(asc(shops.name))
 	]);
-	return { watches, prefs, converters: converterList, shops: shopList };
+	return { watches, prefs, converters: converterList, shops: shopList, outlooks: await watchedOutlooks(watches.map((w) => w.converterId).filter((id): id is number => id !== null)) };
 };
+
+/** Per watched converter, its listings' restock outlooks (only those with enough history to say something). */
+async function watchedOutlooks(converterIds: number[]) {
+	if (!converterIds.length) return {} as Record<number, Array<{ listingId: number; shopName: string; shopSlug: string; stock: string; text: string }>>;
+	const rows = await db
+		.select({ id: listings.id, converterId: listings.converterId, shopName: shops.name, shopSlug: shops.slug, stock: listingStates.currentStock })
+		.from(listings)
+		.innerJoin(shops, eq(shops.id, listings.shopId))
+		.leftJoin(listingStates, eq(listingStates.listingId, listings.id))
+		.where(and(inArray(listings.converterId, converterIds), eq(listings.active, true), isNull(listings.delistedAt)))
+		.orderBy(asc(shops.name));
+	const notes = await listingNotes(db, rows.map((r) => r.id));
+	const out: Record<number, Array<{ listingId: number; shopName: string; shopSlug: string; stock: string; text: string }>> = {};
+	for (const r of rows) {
+		const text = notes.get(r.id)?.outlook.text;
+		if (text) (out[r.converterId] ??= []).push({ listingId: r.id, shopName: r.shopName, shopSlug: r.shopSlug, stock: r.stock ?? 'unknown', text });
+	}
+	return out;
+}
 
 /** Form fields as plain values, to send back on error. */
 function valuesOf(form: FormData) {

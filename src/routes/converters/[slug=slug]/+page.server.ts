@@ -3,6 +3,7 @@ import { db } from '$lib/server/db';
 import { listWatches } from '$lib/server/alerts/watches';
 import { loadConverterDetail } from '$lib/server/queries/public';
 import { listingFigures } from '$lib/server/queries/history';
+import { listingNotes } from '$lib/server/queries/shops';
 import { catalogueParams, parseLenient, searchObject, viewpoint } from '$lib/server/queries/public-params';
 import type { PageServerLoad } from './$types';
 
@@ -11,8 +12,9 @@ export const load: PageServerLoad = async ({ params, url, cookies, request, loca
 	const view = viewpoint(p, cookies, request.headers.get('accept-language'));
 	const detail = await loadConverterDetail(db, params.slug, view);
 	if (!detail) error(404, 'No converter by that name in the catalogue.');
-	const [figures, watches] = await Promise.all([
+	const [figures, notes, watches] = await Promise.all([
 		listingFigures(db, detail.listings.map((l) => l.listingId)),
+		listingNotes(db, detail.listings.map((l) => l.listingId)),
 		locals.user ? listWatches(db, locals.user.id) : Promise.resolve([])
 	]);
 	const d90 = Object.fromEntries(
@@ -25,6 +27,7 @@ export const load: PageServerLoad = async ({ params, url, cookies, request, loca
 		view,
 		detail,
 		figures: d90,
+		notes: Object.fromEntries([...notes].map(([id, n]) => [id, { outlook: n.outlook.text, shopSlug: n.shop.slug, shopLine: n.shop.line }])),
 		signedIn: locals.user !== null,
 		watchId: watches.find((w) => w.converterSlug === params.slug)?.id ?? null
 	};

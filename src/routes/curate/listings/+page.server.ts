@@ -4,7 +4,8 @@ import { requireRole } from '$lib/server/auth/guard';
 import { db } from '$lib/server/db';
 import { catalogueOptions } from '$lib/server/curate/catalogue';
 import { attempt, emptyForm, invalid, validate } from '$lib/server/curate/forms';
-import { createListing, listingsWithState, shopHealth, shopOptions } from '$lib/server/curate/listings';
+import { createListing, listingsWithState, shopOptions } from '$lib/server/curate/listings';
+import { shopHealth } from '$lib/server/queries/shops';
 import { listingSchema } from '$lib/server/curate/schemas';
 import type { Actions, PageServerLoad } from './$types';
 

@@ -1,9 +1,23 @@
 import { listingsQuery as params } from '$lib/server/api/contract';
 import { db } from '$lib/server/db';
 import { loadListings } from '$lib/server/queries/public';
+import { listingNotes } from '$lib/server/queries/shops';
 import { searchObject, viewpoint } from '$lib/server/queries/public-params';
 import { badRequest, cachedJson, notFound } from '$lib/server/queries/public-http';
+import type { RestockOutlook } from '$lib/restock';
 import type { RequestHandler } from './$types';
+
+const hours = (ms: number | null) => (ms === null ? null : Math.round((ms / 3_600_000) * 10) / 10);
+function outlookJson(o: RestockOutlook | undefined) {
+	if (!o) return null;
+	return {
+		state: o.state,
+		currentForHours: hours(o.currentForMs),
+		restock: { medianHours: hours(o.restock.medianMs), spells: o.restock.spells },
+		sellout: { medianHours: hours(o.sellout.medianMs), spells: o.sellout.spells },
+		text: o.text
+	};
+}
 
 /** Current state of every listing of one converter (all regions). */
 export const GET: RequestHandler = async ({ url, request }) => {
@@ -12,6 +26,7 @@ export const GET: RequestHandler = async ({ url, request }) => {
 	const view = viewpoint(parsed.data, null, request.headers.get('accept-language'));
 	const listings = await loadListings(db, parsed.data.converter, view);
 	if (!listings) return notFound('converter');
+	const notes = await listingNotes(db, listings.map((l) => l.listingId));
 	return cachedJson(request, {
 		converter: parsed.data.converter,
 		region: view.region,
@@ -25,6 +40,9 @@ export const GET: RequestHandler = async ({ url, request }) => {
 			displayPrice: l.displayMinor != null ? { minor: l.displayMinor, currency: l.displayCurrency } : null,
 			servesRegion: l.servesViewer,
 			lastCheckedAt: l.lastCheckedAt,
+			// Kaplan-Meier medians in hours with the finished spells behind them; text null under 3 spells.
+			outlook: outlookJson(notes.get(l.listingId)?.outlook),
+			shopRecord: { line: notes.get(l.listingId)?.shop.line ?? null, page: `/shops/${l.shopSlug}` },
 			history: `/api/v1/listings/${l.listingId}/history`
 		}))
 	});

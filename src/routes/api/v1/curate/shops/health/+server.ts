@@ -8,7 +8,7 @@ import { requireApiRole } from '$lib/server/auth/guard';
 import { db } from '$lib/server/db';
 import { invalidInput, problem } from '$lib/server/http/problem';
 import { looseWholeNumbers } from '$lib/server/http/numbers';
-import { shopHealth } from '$lib/server/queries/history';
+import { shopHealth } from '$lib/server/queries/shops';
 import type { RequestHandler } from './$types';
 
 

@@ -1,0 +1,260 @@
+/**
+ * Shops as buyers and curators see them, and restock outlooks per listing.
+ *
+ * - `shopHealth`: the poller's health per shop over a window of UTC days (today included): outcome
+ *   counts from poll_count, share of failed polls, the last error, a pause, listings failing now.
+ *   The ONE definition of a shop's failed-poll share: the curator listings page, the curator health
+ *   API and the public shop record all read it from here.
+ * - `shopRecords`: the public shop record over the last RECORD_DAYS days (figures defined on
+ *   ShopRecord) and its one-line summary.
+ * - `listingOutlooks`: the restock outlook ($lib/restock) of listings from their own change points.
+ */
+import { and, asc, desc, eq, gte, inArray, isNull, lte, sql } from 'drizzle-orm';
+import type { Database } from '../db/client';
+import { listingStates, listings, observations, pollCounts, shopPollStates, shops, type PollOutcome, type StockState } from '../db/schema';
+import { isBuyable, type Region } from '../../pricing';
+import { kaplanMeier, MIN_OUTLOOK_SPELLS, listingSpells, restockOutlook, type RestockOutlook, type Spell, type StockPoint } from '../../restock';
+import { shopRecordLine } from '../../shop-record';
+
+const DAY = 86_400_000;
+
+/** Outcomes that count as a failed poll (ok and not_modified are the successes). */
+export const FAILURE_OUTCOMES = new Set<PollOutcome>(['timeout', 'network', 'http_4xx', 'http_5xx', 'rate_limited', 'robots_disallowed', 'gone', 'unreadable', 'wrong_currency', 'too_large']);
+
+export interface ShopHealth {
+	shop: { id: number; slug: string; name: string; active: boolean };
+	/** Poll outcomes counted per outcome over the window (poll_count days). */
+	counts: Partial<Record<PollOutcome, number>>;
+	polls: number;
+	failures: number;
+	/** failures / polls, null with no polls. */
+	failureShare: number | null;
+	lastPollAt: Date | null;
+	lastError: { outcome: PollOutcome; at: Date; detail: string | null } | null;
+	pausedUntil: Date | null;
+	pauseReason: string | null;
+	/** Active listings of the shop (not delisted). */
+	activeListings: number;
+	/** Active listings whose latest poll failed, worst first. */
+	failingNow: Array<{
+		listingId: number;
+		url: string;
+		lastOutcome: PollOutcome | null;
+		lastError: string | null;
+		lastErrorAt: Date | null;
+		consecutiveFailures: number;
+		nextPollAt: Date;
+	}>;
+}
+
+/** The UTC days [from, to] of a window of `days` days ending today. */
+export function healthWindow(now: Date, days: number): { from: string; to: string } {
+	return { to: now.toISOString().slice(0, 10), from: new Date(now.getTime() - (days - 1) * DAY).toISOString().slice(0, 10) };
+}
+
+/** The poller's health per shop over the last `days` UTC days (today included). */
+export async function shopHealth(db: Database, opts: { now?: Date; days?: number; shopIds?: number[] } = {}): Promise<{ from: string; to: string; shops: ShopHealth[] }> {
+	const now = opts.now ?? new Date();
+	const { from, to } = healthWindow(now, opts.days ?? 7);
+	const onlyShops = opts.shopIds ? inArray(shops.id, opts.shopIds.length ? opts.shopIds : [-1]) : undefined;
+	const [shopRows, counts, failing, pauses, active] = await Promise.all([
+		db.select({ id: shops.id, slug: shops.slug, name: shops.name, active: shops.active }).from(shops).where(onlyShops).orderBy(asc(shops.name)),
+		db
+			.select({ shopId: pollCounts.shopId, outcome: pollCounts.outcome, count: pollCounts.count, lastAt: pollCounts.lastAt, lastDetail: pollCounts.lastDetail })
+			.from(pollCounts)
+			.where(and(gte(pollCounts.day, from), lte(pollCounts.day, to))),
+		db
+			.select({
+				shopId: listings.shopId,
+				listingId: listings.id,
+				url: listings.url,
+				lastOutcome: listingStates.lastOutcome,
+				lastError: listingStates.lastError,
+				lastErrorAt: listingStates.lastErrorAt,
+				consecutiveFailures: listingStates.consecutiveFailures,
+				nextPollAt: listingStates.nextPollAt
+			})
+			.from(listingStates)
+			.innerJoin(listings, eq(listings.id, listingStates.listingId))
+			.where(and(sql`${listingStates.consecutiveFailures} > 0`, eq(listings.active, true), isNull(listings.delistedAt)))
+			.orderBy(desc(listingStates.consecutiveFailures), asc(listings.id)),
+		db.select().from(shopPollStates),
+		db
+			.select({ shopId: listings.shopId, n: sql<number>`count(*)::int` })
+			.from(listings)
+			.where(and(eq(listings.active, true), isNull(listings.delistedAt)))
+			.groupBy(listings.shopId)
+	]);
+	return {
+		from,
+		to,
+		shops: shopRows.map((shop) => {
+			const mine = counts.filter((c) => c.shopId === shop.id);
+			const byOutcome: Partial<Record<PollOutcome, number>> = {};
+			for (const c of mine) byOutcome[c.outcome] = (byOutcome[c.outcome] ?? 0) + c.count;
+			const polls = mine.reduce((n, c) => n + c.count, 0);
+			const failed = mine.filter((c) => FAILURE_OUTCOMES.has(c.outcome));
+			const failures = failed.reduce((n, c) => n + c.count, 0);
+			const lastFailure = [...failed].sort((a, b) => +b.lastAt - +a.lastAt)[0];
+			const pause = pauses.find((p) => p.shopId === shop.id);
+			const paused = !!pause?.pausedUntil && pause.pausedUntil > now;
+			return {
+				shop,
+				counts: byOutcome,
+				polls,
+				failures,
+				failureShare: polls ? failures / polls : null,
+				lastPollAt: mine.length ? new Date(Math.max(...mine.map((c) => +c.lastAt))) : null,
+				lastError: lastFailure ? { outcome: lastFailure.outcome, at: lastFailure.lastAt, detail: lastFailure.lastDetail } : null,
+				pausedUntil: paused ? pause!.pausedUntil : null,
+				pauseReason: paused ? pause!.pauseReason : null,
+				activeListings: Number(active.find((a) => a.shopId === shop.id)?.n ?? 0),
+				failingNow: failing.filter((f) => f.shopId === shop.id).map(({ shopId: _s, ...f }) => f)
+			};
+		})
+	};
+}
+
+/** The window of the public shop record. */
+export const RECORD_DAYS = 90;
+
+export interface ShopRecord {
+	shop: { id: number; slug: string; name: string; region: Region; currency: string; baseUrl: string };
+	from: Date;
+	to: Date;
+	/** Failed polls over all polls in the window (shopHealth's definition), null with no polls. */
+	failedPollShare: number | null;
+	polls: number;
+	/** Listings the shop removed (delisted) in the window. */
+	delistings: number;
+	/** Listings tracked at some point of the window (the base for "per listing-month"). */
+	listings: number;
+	/** Price changes (change points whose price differs from the one before) per listing-month tracked. */
+	priceChangesPerListingMonth: number | null;
+	/** Kaplan-Meier median of sold-out spells of all its listings until a restock; null under MIN_OUTLOOK_SPELLS. */
+	medianRestockGapMs: number | null;
+	/** Finished sold-out spells behind that median. */
+	restockSpells: number;
+	/** Buyable time over time with a known stock state, all listings together. */
+	inStockShare: number | null;
+	/** The short line shown on listing rows ("usually restocks within 2 weeks; delists rarely"). */
+	line: string | null;
+}
+
+interface ListingRow {
+	id: number;
+	shopId: number;
+	createdAt: Date;
+	delistedAt: Date | null;
+}
+
+async function loadStockPoints(db: Database, listingIds: number[]): Promise<Map<number, Array<StockPoint & { priceMinor: number | null; currency: string | null }>>> {
+	const out = new Map<number, Array<StockPoint & { priceMinor: number | null; currency: string | null }>>(listingIds.map((id) => [id, []]));
+	if (!listingIds.length) return out;
+	const rows = await db
+		.select({ listingId: observations.listingId, at: observations.observedAt, stock: observations.stock, priceMinor: observations.priceMinor, currency: observations.currency })
+		.from(observations)
+		.where(inArray(observations.listingId, listingIds))
+		.orderBy(asc(observations.listingId), asc(observations.observedAt), asc(observations.id));
+	for (const { listingId, ...p } of rows) out.get(listingId)!.push(p);
+	return out;
+}
+
+/** Restock outlooks of listings; a delisted listing's history ends at its delisting. */
+export async function listingOutlooks(db: Database, listingIds: number[], now = new Date()): Promise<Map<number, RestockOutlook>> {
+	if (!listingIds.length) return new Map();
+	const [points, rows] = await Promise.all([
+		loadStockPoints(db, listingIds),
+		db.select({ id: listings.id, delistedAt: listings.delistedAt }).from(listings).where(inArray(listings.id, listingIds))
+	]);
+	const end = new Map(rows.map((r) => [r.id, r.delistedAt && r.delistedAt < now ? r.delistedAt : now]));
+	return new Map(listingIds.map((id) => [id, restockOutlook(points.get(id) ?? [], end.get(id) ?? now)]));
+}
+
+/** Shop records for the given shops (all shops when omitted), keyed by shop id. */
+export async function shopRecords(db: Database, opts: { shopIds?: number[]; now?: Date } = {}): Promise<Map<number, ShopRecord>> {
+	const now = opts.now ?? new Date();
+	const to = now.getTime();
+	const from = to - RECORD_DAYS * DAY;
+	const only = opts.shopIds ? inArray(shops.id, opts.shopIds.length ? opts.shopIds : [-1]) : undefined;
+	const shopRows = await db
+		.select({ id: shops.id, slug: shops.slug, name: shops.name, region: shops.region, currency: shops.currency, baseUrl: shops.baseUrl })
+		.from(shops)
+		.where(only);
+	const ids = shopRows.map((s) => s.id);
+	const [health, listingRows] = await Promise.all([
+		shopHealth(db, { now, days: RECORD_DAYS, shopIds: ids }),
+		ids.length
+			? db
+					.select({ id: listings.id, shopId: listings.shopId, createdAt: listings.createdAt, delistedAt: listings.delistedAt })
+					.from(listings)
+					.where(and(inArray(listings.shopId, ids), eq(listings.active, true)))
+			: Promise.resolve([] as ListingRow[])
+	]);
+	const points = await loadStockPoints(db, listingRows.map((l) => l.id));
+	const out = new Map<number, ShopRecord>();
+	for (const shop of shopRows) {
+		const mine = listingRows.filter((l) => l.shopId === shop.id);
+		const h = health.shops.find((x) => x.shop.id === shop.id);
+		let trackedMs = 0;
+		let priceChanges = 0;
+		let knownMs = 0;
+		let buyableMs = 0;
+		let tracked = 0;
+		const outSpells: Spell[] = [];
+		for (const l of mine) {
+			const pts = points.get(l.id) ?? [];
+			const end = Math.min(to, l.delistedAt?.getTime() ?? to);
+			const start = Math.max(from, pts[0]?.at.getTime() ?? l.createdAt.getTime());
+			if (end > start) {
+				trackedMs += end - start;
+				tracked++;
+			}
+			for (let i = 0; i < pts.length; i++) {
+				const t = pts[i].at.getTime();
+				if (i > 0 && t >= from && t <= end && pts[i].priceMinor != null && pts[i - 1].priceMinor != null && (pts[i].priceMinor !== pts[i - 1].priceMinor || pts[i].currency !== pts[i - 1].currency)) priceChanges++;
+				const segStart = Math.max(t, from);
+				const segEnd = Math.min(i + 1 < pts.length ? pts[i + 1].at.getTime() : end, end);
+				if (segEnd > segStart && pts[i].stock !== 'unknown') {
+					knownMs += segEnd - segStart;
+					if (isBuyable(pts[i].stock as StockState)) buyableMs += segEnd - segStart;
+				}
+			}
+			// Sold-out spells that ended in the window, or are running at its end (censored).
+			for (const s of listingSpells(pts, new Date(end)).out) if (s.end! >= from) outSpells.push(s);
+		}
+		const km = kaplanMeier(outSpells);
+		const delistings = mine.filter((l) => l.delistedAt && l.delistedAt.getTime() >= from && l.delistedAt.getTime() <= to).length;
+		const record: ShopRecord = {
+			shop,
+			from: new Date(from),
+			to: now,
+			failedPollShare: h?.failureShare ?? null,
+			polls: h?.polls ?? 0,
+			delistings,
+			listings: tracked,
+			priceChangesPerListingMonth: trackedMs > 0 ? priceChanges / (trackedMs / (30 * DAY)) : null,
+			medianRestockGapMs: km.events >= MIN_OUTLOOK_SPELLS ? km.median : null,
+			restockSpells: km.events,
+			inStockShare: knownMs > 0 ? buyableMs / knownMs : null,
+			line: null
+		};
+		record.line = shopRecordLine(record);
+		out.set(shop.id, record);
+	}
+	return out;
+}
+
+export interface ListingNote {
+	outlook: RestockOutlook;
+	/** The listing's shop: where its record lives and its one-line summary. */
+	shop: { slug: string; line: string | null };
+}
+
+/** What a listing row shows beside price and stock: its restock outlook and its shop's record line. */
+export async function listingNotes(db: Database, listingIds: number[], now = new Date()): Promise<Map<number, ListingNote>> {
+	if (!listingIds.length) return new Map();
+	const rows = await db.select({ id: listings.id, shopId: listings.shopId, shopSlug: shops.slug }).from(listings).innerJoin(shops, eq(shops.id, listings.shopId)).where(inArray(listings.id, listingIds));
+	const [outlooks, records] = await Promise.all([listingOutlooks(db, listingIds, now), shopRecords(db, { shopIds: [...new Set(rows.map((r) => r.shopId))], now })]);
+	return new Map(rows.map((r) => [r.id, { outlook: outlooks.get(r.id)!, shop: { slug: r.shopSlug, line: records.get(r.shopId)?.line ?? null } }]));
+}
