@@ -12,7 +12,8 @@
  *
  * Every figure is one line `bench:levels <what> key=value ...` for scripts to read.
  * Environment: BENCH_RUNS (default 10000), BENCH_SAMPLES (comma list, default 100000,1000000),
- * BENCH_REPEAT (default 3, the best of each is kept), BENCH_BROWSER=0 to skip Chromium.
+ * BENCH_REPEAT (default 3 rounds at 1,000,000 samples, more for smaller exports; ceiling and
+ * import alternate and the best of each is kept), BENCH_BROWSER=0 to skip Chromium.
  */
 import { build } from 'esbuild';
 import { renderCsv } from '../fixtures/traces/generate';
@@ -47,7 +48,6 @@ function bareParse(text: string): number {
 function best(fn: () => unknown): number {
 	let min = Infinity;
 	for (let k = 0; k < REPEAT; k++) {
-		gc();
 		const t0 = performance.now();
 		fn();
 		min = Math.min(min, performance.now() - t0);
@@ -102,16 +102,53 @@ function benchAnalyse() {
 
 // ---------------------------------------------------------------- import in Node
 
-function benchImportNode(samples: number, text: string) {
-	importTrace(text, { includeSamples: false }); // warm up (JIT)
-	const ceiling = best(() => bareParse(text));
-	const ms = best(() => importTrace(text, { includeSamples: false }));
-	// Memory: peak growth of heap + array buffers while importing, sampled at every progress call.
-	gc();
+/**
+ * Best (minimum) time of each of two jobs, run alternately after a warm-up, so a change in
+ * the machine's load hits both alike. Smaller inputs get more rounds.
+ */
+function bestPair(a: () => unknown, b: () => unknown, rounds: number): [number, number] {
+	for (let k = 0; k < 2; k++) {
+		a();
+		b();
+	}
+	let minA = Infinity;
+	let minB = Infinity;
+	// No forced gc() between runs: a full collection right before a run slows the next
+	// allocations and would time V8's heap regrowth rather than the code.
+	for (let k = 0; k < rounds; k++) {
+		let t0 = performance.now();
+		a();
+		minA = Math.min(minA, performance.now() - t0);
+		t0 = performance.now();
+		b();
+		minB = Math.min(minB, performance.now() - t0);
+	}
+	return [minA, minB];
+}
+
+const roundsFor = (samples: number) => Math.max(REPEAT, Math.round((REPEAT * 1e6) / samples / 3));
+
+async function benchImportNode(samples: number, text: string) {
+	// Memory in a settled heap: peak growth of the JS heap plus array buffers while
+	// importing, sampled at every progress call. Array buffers are released a moment after
+	// the collection that finds them dead, hence the pauses.
+	const settle = async () => {
+		for (let k = 0; k < 3; k++) {
+			gc();
+			await new Promise((r) => setTimeout(r, 50));
+		}
+	};
 	const used = () => {
 		const m = process.memoryUsage();
 		return m.heapUsed + m.arrayBuffers;
 	};
+	const [ceiling, ms] = bestPair(
+		() => bareParse(text),
+		() => importTrace(text, { includeSamples: false }),
+		roundsFor(samples)
+	);
+	// (after the timed runs, so the code is optimised and allocates what it keeps, not temporaries)
+	await settle();
 	const base = used();
 	let peak = 0;
 	importTrace(text, { includeSamples: false, onProgress: () => (peak = Math.max(peak, used() - base)) });
@@ -130,6 +167,39 @@ function benchImportNode(samples: number, text: string) {
 }
 
 // ---------------------------------------------------------------- import in Chromium
+
+/** Runs in Chromium: the same ceiling and import, timed with performance.now(). */
+const IN_PAGE = `async (samples, repeat) => {
+	const text = await (await fetch('/' + samples)).text();
+	const bare = (t) => {
+		let sum = 0;
+		const lines = t.split('\\n');
+		for (let i = 0; i < lines.length; i++) {
+			const f = lines[i].split(',');
+			for (let j = 0; j < f.length; j++) {
+				const v = parseFloat(f[j]);
+				if (v === v) sum += v;
+			}
+		}
+		return sum;
+	};
+	const run = () => levels.importTrace(text, { includeSamples: false });
+	for (let k = 0; k < 2; k++) {
+		bare(text);
+		run();
+	}
+	let ceiling = Infinity;
+	let ms = Infinity;
+	for (let k = 0; k < repeat; k++) {
+		let t0 = performance.now();
+		bare(text);
+		ceiling = Math.min(ceiling, performance.now() - t0);
+		t0 = performance.now();
+		run();
+		ms = Math.min(ms, performance.now() - t0);
+	}
+	return { ms, ceiling };
+}`;
 
 async function benchImportBrowser(texts: Map<number, string>) {
 	const bundle = await build({
@@ -154,41 +224,8 @@ async function benchImportBrowser(texts: Map<number, string>) {
 		});
 		await page.goto('http://bench.invalid/');
 		for (const [samples] of texts) {
-			const r = await page.evaluate(
-				async ({ samples, repeat }) => {
-					const text = await (await fetch(`/${samples}`)).text();
-					const g = (globalThis as { gc?: () => void }).gc ?? (() => {});
-					const bare = (t: string) => {
-						let sum = 0;
-						const lines = t.split('\n');
-						for (let i = 0; i < lines.length; i++) {
-							const f = lines[i].split(',');
-							for (let j = 0; j < f.length; j++) {
-								const v = parseFloat(f[j]);
-								if (v === v) sum += v;
-							}
-						}
-						return sum;
-					};
-					// eslint-disable-next-line @typescript-eslint/no-explicit-any
-					const lv = (globalThis as any).levels;
-					const time = (fn: () => unknown) => {
-						let min = Infinity;
-						for (let k = 0; k < repeat; k++) {
-							g();
-							const t0 = performance.now();
-							fn();
-							min = Math.min(min, performance.now() - t0);
-						}
-						return min;
-					};
-					lv.importTrace(text, { includeSamples: false });
-					const ceiling = time(() => bare(text));
-					const ms = time(() => lv.importTrace(text, { includeSamples: false }));
-					return { ms, ceiling };
-				},
-				{ samples, repeat: REPEAT }
-			);
+			// Plain JavaScript text: functions passed to evaluate() would carry tsx's helpers.
+			const r = (await page.evaluate(`(${IN_PAGE})(${samples}, ${roundsFor(samples)})`)) as { ms: number; ceiling: number };
 			line('import', {
 				env: 'chromium',
 				samples,
@@ -209,6 +246,6 @@ const texts = new Map<number, string>();
 for (const n of SAMPLES) {
 	const text = renderCsv(exportSpec(n));
 	texts.set(n, text);
-	benchImportNode(n, text);
+	await benchImportNode(n, text);
 }
 if (BROWSER) await benchImportBrowser(texts);
