@@ -1,12 +1,13 @@
 /** /api/v1 public routes against the running app: shapes, validation errors, ETag and 304. */
 import { expect, test } from '@playwright/test';
+import { CONVERTERS, TESTERS, TESTER_REVISIONS } from '../../src/lib/demo/scenario';
 
 test('converters list: shape, region pricing and ETag 304', async ({ request }) => {
 	const res = await request.get('/api/v1/converters?region=eu&currency=EUR');
 	expect(res.status()).toBe(200);
 	const body = await res.json();
 	expect(body).toMatchObject({ region: 'eu', currency: 'EUR', licence: 'CC BY 4.0' });
-	expect(body.converters).toHaveLength(6);
+	expect(body.converters).toHaveLength(CONVERTERS.length);
 	const scanlet = body.converters.find((c: { slug: string }) => c.slug === 'brisling-scanlet');
 	expect(scanlet.revisions.map((r: { code: string; band: string }) => `${r.code}:${r.band}`)).toEqual(['A:close', 'B:failing']);
 	expect(scanlet.bestOffer).toMatchObject({ shop: { slug: 'kanalhaus' }, displayPrice: { minor: 1190, currency: 'EUR' } });
@@ -50,7 +51,8 @@ test('converter, revision and listings carry the engine reports and listing stat
 
 test('finder API ranks and explains', async ({ request }) => {
 	const body = await (await request.get('/api/v1/finder?region=eu&currency=EUR&audio=1&stock=1&band=close&budget=25')).json();
-	expect(body.results.map((r: { slug: string }) => r.slug)).toEqual(['vantacove-beam-bridge']);
+	// Beam Bridge (Exact, 22.90 EUR at Kanalhaus), then the RGB Porter (revision B Close, 21.50 EUR).
+	expect(body.results.map((r: { slug: string }) => r.slug)).toEqual(['vantacove-beam-bridge', 'halvecraft-rgb-porter']);
 	expect(body.results[0].explanation).toBe('Exact band; in stock at 1 shop in your region; lowest 22.90 EUR');
 });
 
@@ -60,10 +62,12 @@ test('exports state their licence; OpenAPI 3.1 lists the routes', async ({ reque
 	expect(csv.headers()['link']).toContain('creativecommons.org/licenses/by/4.0');
 	const lines = (await csv.text()).trim().split('\r\n');
 	expect(lines[0].split(',')).toContain('licence');
-	expect(lines).toHaveLength(1 + 7); // 7 revisions in the demo
+	expect(lines).toHaveLength(1 + CONVERTERS.reduce((n, c) => n + c.revisions.length, 0)); // one row per demo revision
 	const readings = await (await request.get('/api/v1/export/readings.json')).json();
 	expect(readings.licence.name).toBe('CC BY 4.0');
-	expect(readings.count).toBe(14 * 11); // 14 accepted demo runs of 11 steps
+	// every accepted demo run (curators' and the three testers'), 11 steps each
+	const runs = CONVERTERS.reduce((n, c) => n + c.revisions.reduce((m, r) => m + r.runs, 0), 0) + TESTERS.length * TESTER_REVISIONS.length;
+	expect(readings.count).toBe(runs * 11);
 	expect((await request.get('/api/v1/export/other.csv')).status()).toBe(404);
 	const doc = await (await request.get('/api/v1/openapi.json')).json();
 	expect(doc.openapi).toBe('3.1.0');

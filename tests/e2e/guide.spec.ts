@@ -215,6 +215,7 @@ const PAGES = [
 test.describe('every public page', () => {
 	for (const [name, path] of PAGES) {
 		test(`${name}: accessible, fits a phone, screenshots in both themes`, async ({ browser }) => {
+			test.setTimeout(180_000); // four page loads with axe each, on the 14-converter demo
 			for (const scheme of ['light', 'dark'] as const) {
 				for (const [label, width] of [['desktop', 1280], ['phone', 360]] as const) {
 					const ctx = await browser.newContext({ viewport: { width, height: 900 }, colorScheme: scheme });

@@ -10,6 +10,7 @@ import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest';
 import { and, eq } from 'drizzle-orm';
 import { listingStates, listings, observations, pollCounts, shopPollStates, stockEvents } from '../../src/lib/server/db/schema';
 import { createWorld, setSpacing, T0, type World } from './poller-helpers';
+import { LISTINGS } from '../../src/lib/demo/scenario';
 
 let w: World;
 const MIN = 60_000;
@@ -159,7 +160,7 @@ describe('Retry-After and robots.txt are obeyed', () => {
 		expect(reqs.filter((q) => q.path === '/robots.txt')).toHaveLength(1);
 		expect(reqs.map((q) => q.path)).not.toContain(path);
 		// The shop's other pages are still read.
-		expect(reqs.filter((q) => q.path.startsWith('/artikel/')).length).toBe(3);
+		expect(reqs.filter((q) => q.path.startsWith('/artikel/')).length).toBe(LISTINGS.filter((l) => l.shop === 'kanalhaus').length - 1);
 		const st = await w.state(id);
 		expect(st.lastOutcome).toBe('robots_disallowed');
 		expect(st.lastError).toMatch(/Disallow: \/artikel\/brisling-scanlet/);
@@ -174,7 +175,7 @@ describe('Retry-After and robots.txt are obeyed', () => {
 		const s = await w.poller().drain();
 		const reqs = await w.requests('northbay-circuits');
 		expect(reqs.map((q) => q.path)).toEqual(['/robots.txt']);
-		expect(s.byOutcome.robots_disallowed).toBe(4);
+		expect(s.byOutcome.robots_disallowed).toBe(LISTINGS.filter((l) => l.shop === 'northbay-circuits').length);
 	});
 
 	it('robots.txt answering 404 means no restrictions (RFC 9309 2.3.1.3)', async () => {

@@ -6,7 +6,7 @@
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { eq } from 'drizzle-orm';
-import { SHOPS } from '../../src/lib/demo/scenario';
+import { LISTINGS, SHOPS } from '../../src/lib/demo/scenario';
 import { createDb } from '../../src/lib/server/db/client';
 import { listingStates, shops as shopTable } from '../../src/lib/server/db/schema';
 import { createPoller } from '../../src/lib/server/polling';
@@ -58,7 +58,7 @@ describe('two workers', () => {
 			await w.makeDue();
 			const results = await Promise.all(workers.map((p) => p.drain()));
 			results.forEach((r, i) => (perWorker[i] += r.polled));
-			expect(results.reduce((n, r) => n + r.polled, 0), `round ${round}`).toBe(16);
+			expect(results.reduce((n, r) => n + r.polled, 0), `round ${round}`).toBe(LISTINGS.length);
 			w.clock.advance(31 * MIN);
 		}
 		expect(perWorker[0]).toBeGreaterThan(0);
@@ -68,7 +68,7 @@ describe('two workers', () => {
 		// Each listing exactly once per round (redirect hops aside, there are none at clock 0).
 		const byPath = new Map<string, RequestLogEntry[]>();
 		for (const r of pages) byPath.set(`${r.shop} ${r.path}`, [...(byPath.get(`${r.shop} ${r.path}`) ?? []), r]);
-		expect(byPath.size).toBe(16);
+		expect(byPath.size).toBe(LISTINGS.length);
 		for (const [key, reqs] of byPath) {
 			expect(reqs, key).toHaveLength(3);
 			expect(maxOverlap(reqs), key).toBe(1);
