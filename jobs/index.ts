@@ -9,6 +9,7 @@ import { schedulePoller } from './poller';
 import { createAlertHook, quietHoursFromEnv } from '../src/lib/server/alerts/match';
 import { DEFAULT_SENDER_CRON, senderTask } from './sender';
 import { DEFAULT_DIGEST_CRON, digestTask } from './digest';
+import { DEFAULT_EXPECTED_CRON, expectedTask } from './expected';
 
 const { db, sql } = createDb(process.env.DATABASE_URL, { max: 4 });
 
@@ -41,8 +42,18 @@ const tasks = [
 				.then((r) => r.members && console.log(`digest: ${JSON.stringify(r)}`))
 				.catch(logError('digest')),
 		{ name: 'digest', noOverlap: true }
+	),
+	cron.schedule(
+		process.env.EXPECTED_CRON || DEFAULT_EXPECTED_CRON,
+		() =>
+			expectedTask(db)
+				.then((r) => console.log(`expected grades: ${JSON.stringify(r)}`))
+				.catch(logError('expected')),
+		{ name: 'expected', noOverlap: true }
 	)
 ];
+// the learn page shows the backtest figure from the first start on
+expectedTask(db).catch(logError('expected'));
 console.log(`jobs running: ${tasks.map((t) => t.name).join(', ')}`);
 
 async function stop() {
