@@ -7,7 +7,6 @@
 import { aggregateRuns } from './aggregate';
 import type { LevelReport } from './analyze';
 import { bandRank, type Band } from './rubric';
-import { BAND_LABELS } from '../components/bands';
 
 export interface ChipRun {
 	revisionId: number;
@@ -59,11 +58,6 @@ export function expectedGrade(
 		converters: new Set(others.map((r) => r.converterId)).size,
 		basis: `from ${plural(others.length, 'run')} of this chip in ${where}; not yet measured`
 	};
-}
-
-/** 'Expected: Close, from 6 runs of this chip in 3 other converters; not yet measured'. */
-export function expectedWords(e: Pick<ExpectedGrade, 'band' | 'basis'>): string {
-	return `Expected: ${BAND_LABELS[e.band]}, ${e.basis}`;
 }
 
 export interface BacktestRevision {

@@ -80,5 +80,5 @@ export type {
 	TesterStatus,
 	ZSignal
 } from './proficiency';
-export { expectedGrade, expectedWords, backtestExpected } from './expected';
+export { expectedGrade, backtestExpected } from './expected';
 export type { ChipRun, ExpectedGrade, BacktestRevision, BacktestResult } from './expected';
