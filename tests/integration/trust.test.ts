@@ -16,6 +16,9 @@ import { checksOfRuns, memberRunChecks, openFlags, testerOverview } from '../../
 import { gradeHistoryOf, latestBacktest, runAndStoreBacktest } from '../../src/lib/server/expected';
 import { seededRandom } from '../../src/lib/demo/scenario';
 import { auditRows, curateWorld } from './helpers/curate-world';
+import { exportCatalogue, loadCatalogue } from '../../src/lib/server/queries/public';
+import { apiConverter } from '../../src/lib/server/queries/public-api';
+import { filterCatalogue } from '../../src/lib/finder';
 
 let w: Awaited<ReturnType<typeof curateWorld>>;
 const revs: Array<{ id: number; converterId: number; chipId: number }> = [];
@@ -130,6 +133,25 @@ describe('expected grades', () => {
 		expect(r5.expectedBasis).toBe('from 9 runs of this chip in 4 other converters; not yet measured');
 		const [r1] = await w.db.select().from(t.revisions).where(eq(t.revisions.id, revs[0].id));
 		expect(r1.expectedBand).toBeNull();
+	});
+
+	it('shows in the catalogue, the API (expected beside band) and the CSV export, apart from measured grades', async () => {
+		const view = { region: 'eu' as const, currency: 'EUR' };
+		const entry = (await loadCatalogue(w.db, view)).find((e) => e.id === revs[4].converterId)!;
+		expect(entry.bestBand).toBeNull();
+		expect(entry.expected?.basis).toBe('from 9 runs of this chip in 4 other converters; not yet measured');
+		const api = apiConverter(entry);
+		expect(api.band).toBeNull();
+		expect(api.expected).toEqual(entry.expected);
+		expect(api.revisions[0]).toMatchObject({ band: null, expected: { band: entry.expected!.band } });
+		// measured only by default; the visitor's tick lets it through
+		const all = await loadCatalogue(w.db, view);
+		expect(filterCatalogue(all, { minBand: 'failing' }).map((e) => e.id)).not.toContain(revs[4].converterId);
+		expect(filterCatalogue(all, { minBand: 'failing', includeExpected: true }).map((e) => e.id)).toContain(revs[4].converterId);
+		const csv = (await exportCatalogue(w.db)).find((r) => r.revision_id === revs[4].id)!;
+		expect(csv).toMatchObject({ band: null, expected_band: entry.expected!.band, expected_basis: entry.expected!.basis });
+		const measured = (await exportCatalogue(w.db)).find((r) => r.revision_id === revs[0].id)!;
+		expect(measured.expected_band).toBeNull();
 	});
 
 	it('moves with the chip, and gives way to the measured grade while the history keeps both', async () => {
