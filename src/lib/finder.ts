@@ -31,6 +31,7 @@ export interface CatalogueRevision {
 	/** Expected band while not measured (a prediction from the chip's runs elsewhere), and its basis. */
 	expected: Band | null;
 	expectedBasis: string | null;
+	expectedDeviationIre?: number | null;
 	runs: number;
 	retired: boolean;
 	seenFrom: string | null;
@@ -70,7 +71,7 @@ export interface CatalogueEntry {
 	bestDeviationIre?: number | null;
 	bestBandReason?: string | null;
 	/** Best expected band over current revisions not yet measured (see leadExpected); never a measurement. */
-	expected: { band: Band; basis: string } | null;
+	expected: { band: Band; basis: string; deviationIre: number | null } | null;
 	/** Listings at shops serving the region, cheapest buyable first, then the rest. */
 	offers: CatalogueOffer[];
 	/** The cheapest buyable offer in the region (from pricing.bestOfferByConverter). */
@@ -130,11 +131,11 @@ export function leadGrade(revisions: CatalogueRevision[]): {
 }
 
 /** The best expected band among current revisions that have no measured grade, with its basis. */
-export function leadExpected(revisions: CatalogueRevision[]): { band: Band; basis: string } | null {
-	let lead: { band: Band; basis: string } | null = null;
+export function leadExpected(revisions: CatalogueRevision[]): { band: Band; basis: string; deviationIre: number | null } | null {
+	let lead: { band: Band; basis: string; deviationIre: number | null } | null = null;
 	for (const r of currentRevisions(revisions)) {
 		if (r.band || !r.expected) continue;
-		if (!lead || bandRank(r.expected) < bandRank(lead.band)) lead = { band: r.expected, basis: r.expectedBasis ?? '' };
+		if (!lead || bandRank(r.expected) < bandRank(lead.band)) lead = { band: r.expected, basis: r.expectedBasis ?? '', deviationIre: r.expectedDeviationIre ?? null };
 	}
 	return lead;
 }
@@ -309,7 +310,7 @@ export interface FinderItem {
 	deviationIre: number | null;
 	bandReason: string | null;
 	/** Expected grade of a revision not yet measured (never a measurement), beside the measured band. */
-	expected: { band: Band; basis: string } | null;
+	expected: { band: Band; basis: string; deviationIre: number | null } | null;
 	hasAudioOut: boolean;
 	inStockShops: number;
 	best: { shop: string; stock: StockState; priceMinor: number | null; currency: string; url: string } | null;

@@ -112,7 +112,7 @@ describe('expected grades (predictions for revisions not yet measured)', () => {
 		const unmeasured = entry('unmeasured', [predicted('A', 'close')]);
 		const measuredFair = entry('measured-fair', [rev('A', 'fair', 70)]);
 		expect(unmeasured.bestBand).toBeNull();
-		expect(unmeasured.expected).toEqual({ band: 'close', basis: 'from 6 runs of this chip in 3 other converters; not yet measured' });
+		expect(unmeasured.expected).toEqual({ band: 'close', basis: 'from 6 runs of this chip in 3 other converters; not yet measured', deviationIre: null });
 		expect(meetsBand(unmeasured, 'close')).toBe(false);
 		expect(meetsBand(unmeasured, 'close', true)).toBe(true);
 		expect(filterCatalogue([unmeasured, measuredFair], { minBand: 'fair' }).map((e) => e.slug)).toEqual(['measured-fair']);

@@ -11,11 +11,13 @@ import { bandRank, type Band } from './rubric';
 export interface ChipRun {
 	revisionId: number;
 	converterId: number;
-	report: Pick<LevelReport, 'band' | 'score' | 'rubricVersion'>;
+	report: Pick<LevelReport, 'band' | 'score' | 'rubricVersion'> & { worstDeviationIre?: number | null };
 }
 
 export interface ExpectedGrade {
 	band: Band;
+	/** Worst deviation (IRE) of the run the band was taken from (for the band mark), when known. */
+	deviationIre: number | null;
 	runs: number;
 	revisions: number;
 	converters: number;
@@ -53,6 +55,7 @@ export function expectedGrade(
 		.join(' and ');
 	return {
 		band: agg.band,
+		deviationIre: others[agg.medianRunIndex].report.worstDeviationIre ?? null,
 		runs: others.length,
 		revisions: new Set(others.map((r) => r.revisionId)).size,
 		converters: new Set(others.map((r) => r.converterId)).size,

@@ -11,7 +11,7 @@
  *
  * Free of `$lib`/`$env` (grading.ts calls it from the seed and jobs too).
  */
-import { and, asc, eq, inArray, isNotNull } from 'drizzle-orm';
+import { and, asc, eq, inArray, isNotNull, sql } from 'drizzle-orm';
 import type { PgDatabase, PgQueryResultHKT } from 'drizzle-orm/pg-core';
 import { revisionConsensus, testerKey, testerReport, type RunLevels, type TesterInputRevision } from '../levels/index';
 import * as t from './db/schema';
@@ -194,6 +194,7 @@ export async function openFlags(db: Db) {
 			status: t.benchRuns.status,
 			band: t.benchRuns.band,
 			score: t.benchRuns.score,
+			worstDeviationIre: sql<number | null>`(${t.benchRuns.report}->>'worstDeviationIre')::float8`,
 			worstZ: t.runChecks.worstZ,
 			reason: t.runChecks.reason,
 			testers: t.runChecks.testers,

@@ -9,7 +9,7 @@
  * Also the leave-one-out backtest (`npm run report:expected`), whose latest result is kept in
  * stat_snapshot for the learn page. Free of `$lib`/`$env` so jobs and scripts can use it.
  */
-import { and, asc, eq, inArray, isNull } from 'drizzle-orm';
+import { and, asc, eq, inArray, isNull, sql } from 'drizzle-orm';
 import type { PgDatabase, PgQueryResultHKT } from 'drizzle-orm/pg-core';
 import { RUBRIC_VERSION, backtestExpected, expectedGrade, type BacktestResult, type ChipRun } from '../levels/index';
 import * as t from './db/schema';
@@ -28,7 +28,8 @@ async function chipRuns(db: Db, chipIds?: number[]): Promise<Map<number, ChipRun
 			converterId: t.revisions.converterId,
 			band: t.benchRuns.band,
 			score: t.benchRuns.score,
-			rubricVersion: t.benchRuns.rubricVersion
+			rubricVersion: t.benchRuns.rubricVersion,
+			worstDeviationIre: sql<number | null>`(${t.benchRuns.report} ->> 'worstDeviationIre')::float8`
 		})
 		.from(t.benchRuns)
 		.innerJoin(t.revisions, eq(t.revisions.id, t.benchRuns.revisionId))
@@ -37,7 +38,7 @@ async function chipRuns(db: Db, chipIds?: number[]): Promise<Map<number, ChipRun
 	for (const r of rows) {
 		if (!r.band || r.score === null || !r.rubricVersion) continue;
 		const list = out.get(r.chipId) ?? [];
-		list.push({ revisionId: r.revisionId, converterId: r.converterId, report: { band: r.band, score: r.score, rubricVersion: r.rubricVersion } });
+		list.push({ revisionId: r.revisionId, converterId: r.converterId, report: { band: r.band, score: r.score, rubricVersion: r.rubricVersion, worstDeviationIre: r.worstDeviationIre } });
 		out.set(r.chipId, list);
 	}
 	return out;
@@ -73,7 +74,8 @@ export async function refreshExpectedForChips(db: Db, chipIds: number[], now = n
 			runCount: t.revisions.runCount,
 			retiredAt: t.revisions.retiredAt,
 			expectedBand: t.revisions.expectedBand,
-			expectedBasis: t.revisions.expectedBasis
+			expectedBasis: t.revisions.expectedBasis,
+			expectedDeviationIre: t.revisions.expectedDeviationIre
 		})
 		.from(t.revisions)
 		.where(inArray(t.revisions.chipId, ids));
@@ -84,10 +86,11 @@ export async function refreshExpectedForChips(db: Db, chipIds: number[], now = n
 				: null;
 		const band = e?.band ?? null;
 		const basis = e?.basis ?? null;
-		if (band === rev.expectedBand && basis === rev.expectedBasis) continue;
+		const deviation = e?.deviationIre ?? null;
+		if (band === rev.expectedBand && basis === rev.expectedBasis && deviation === rev.expectedDeviationIre) continue;
 		await db
 			.update(t.revisions)
-			.set({ expectedBand: band, expectedBasis: basis, expectedRuns: e?.runs ?? null, expectedAt: e ? now : null })
+			.set({ expectedBand: band, expectedBasis: basis, expectedDeviationIre: deviation, expectedRuns: e?.runs ?? null, expectedAt: e ? now : null })
 			.where(eq(t.revisions.id, rev.id));
 		const detail = e ? e.basis : rev.runCount > 0 ? 'measured: the measured grade replaces the expected one' : 'no runs of this chip elsewhere';
 		await noteGradeChange(db, rev.id, 'expected', rev.expectedBand, band, detail, now);

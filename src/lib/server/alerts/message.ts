@@ -3,7 +3,7 @@
  * message), an HTML part built with the escaping `html` template and a plain-text part.
  * Pure: the sender gathers the facts (AlertView) from the database.
  */
-import { RULER_END_IRE, RULER_TICKS_IRE, bandZoneIre, markHidesMarker, markText, type Band } from '../../components/bands';
+import { RULER_END_IRE, RULER_TICKS_IRE, bandLabel, bandZoneIre, markHidesMarker, markText, type Band } from '../../components/bands';
 import { formatMoney, REGION_LABELS, type Region } from '../../pricing';
 import { html, SafeHtml } from './template';
 
@@ -133,7 +133,7 @@ function rulerHtml(v: AlertView): SafeHtml {
 /** 'Expected: Close, revision B (not yet measured; from 6 runs of this chip in 3 other converters)'. */
 export function expectedText(e: NonNullable<AlertView['expected']>): string {
 	const basis = e.basis.replace(/; not yet measured$/, '');
-	return `Expected: ${BAND_LABELS[e.band]}, revision ${e.revisionCode} (not yet measured; ${basis})`;
+	return `Expected: ${bandLabel(e.band)}, revision ${e.revisionCode} (not yet measured; ${basis})`;
 }
 
 function readoutRow(label: string, value: SafeHtml | string): SafeHtml {

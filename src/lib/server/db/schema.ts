@@ -216,6 +216,7 @@ export const revisions = pgTable(
 		/** Expected grade while no run is accepted: from the chip's runs elsewhere (src/lib/levels/expected.ts). */
 		expectedBand: bandEnum('expected_band'),
 		expectedBasis: text('expected_basis'),
+		expectedDeviationIre: doublePrecision('expected_deviation_ire'),
 		expectedRuns: integer('expected_runs'),
 		expectedAt: timestamp('expected_at', { withTimezone: true }),
 		retiredAt: timestamp('retired_at', { withTimezone: true }),
