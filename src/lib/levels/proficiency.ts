@@ -307,7 +307,7 @@ export function assessTester(tester: string, points: readonly TesterPoint[]): Te
 		points.map((p) => p.reading)
 	);
 	const gainOff = fit.slope - 1;
-	const gainPercent = round(gainOff * 100, 1);
+	const gainPercent = round(gainOff * 100, 1) || 0; // no "-0 %"
 	const k = TESTER_RULES.standardErrors;
 	const gainBad = Math.abs(gainOff) >= TESTER_RULES.gainTolerance && Math.abs(gainOff) > k * fit.seSlope;
 	const offsetBad = Math.abs(fit.intercept) >= TESTER_RULES.offsetToleranceIre && Math.abs(fit.intercept) > k * fit.seIntercept;
@@ -333,7 +333,7 @@ export function assessTester(tester: string, points: readonly TesterPoint[]): Te
 		flagged: false,
 		fit,
 		gainPercent,
-		verdict: `Agrees with the other testers across ${where} (gain ${gainPercent >= 0 ? '+' : ''}${gainPercent} %, offset ${round(fit.intercept)} IRE).`
+		verdict: `Agrees with the other testers across ${where} (gain ${gainPercent >= 0 ? '+' : ''}${gainPercent} %, offset ${round(fit.intercept) || 0} IRE).`
 	};
 }
 
