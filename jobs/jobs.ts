@@ -11,6 +11,7 @@ import { schedulePoller } from './poller';
 import { createAlertHook, quietHoursFromEnv } from '../src/lib/server/alerts/match';
 import { DEFAULT_SENDER_CRON, senderTask } from './sender';
 import { DEFAULT_DIGEST_CRON, digestTask } from './digest';
+import { DEFAULT_EXPECTED_CRON, expectedTask } from './expected';
 import { listenForOutbox, serialRunner } from './wake';
 import type { PollerOptions } from '../src/lib/server/polling';
 
@@ -62,8 +63,18 @@ export async function startJobs(
 					.then((r) => r.members && log(`digest: ${JSON.stringify(r)}`))
 					.catch(logError('digest')),
 			{ name: 'digest', noOverlap: true }
+		),
+		cron.schedule(
+			env.EXPECTED_CRON || DEFAULT_EXPECTED_CRON,
+			() =>
+				expectedTask(db)
+					.then((r) => log(`expected grades: ${JSON.stringify(r)}`))
+					.catch(logError('expected')),
+			{ name: 'expected', noOverlap: true }
 		)
 	];
+	// the learn page shows the backtest figure from the first start on
+	expectedTask(db).catch(logError('expected'));
 	const unlisten = await listenForOutbox(sql, () => void runSender());
 	const names = [...tasks.map((t) => t.name), 'sender on NOTIFY'];
 	return {

@@ -28,6 +28,10 @@ export interface CatalogueRevision {
 	/** Worst deviation (IRE) behind the band, and why the band is not where it falls (bands.ts). */
 	deviationIre?: number | null;
 	bandReason?: string | null;
+	/** Expected band while not measured (a prediction from the chip's runs elsewhere), and its basis. */
+	expected: Band | null;
+	expectedBasis: string | null;
+	expectedDeviationIre?: number | null;
 	runs: number;
 	retired: boolean;
 	seenFrom: string | null;
@@ -66,6 +70,8 @@ export interface CatalogueEntry {
 	/** The lead revision's worst deviation (IRE) and band reason, for the band mark. */
 	bestDeviationIre?: number | null;
 	bestBandReason?: string | null;
+	/** Best expected band over current revisions not yet measured (see leadExpected); never a measurement. */
+	expected: { band: Band; basis: string; deviationIre: number | null } | null;
 	/** Listings at shops serving the region, cheapest buyable first, then the rest. */
 	offers: CatalogueOffer[];
 	/** The cheapest buyable offer in the region (from pricing.bestOfferByConverter). */
@@ -124,9 +130,32 @@ export function leadGrade(revisions: CatalogueRevision[]): {
 	};
 }
 
-/** True when any current revision (see currentRevisions) is `min` or better. */
-export function meetsBand(entry: Pick<CatalogueEntry, 'revisions'>, min: Band): boolean {
-	return currentRevisions(entry.revisions).some((r) => r.band !== null && bandRank(r.band) <= bandRank(min));
+/** The best expected band among current revisions that have no measured grade, with its basis. */
+export function leadExpected(revisions: CatalogueRevision[]): { band: Band; basis: string; deviationIre: number | null } | null {
+	let lead: { band: Band; basis: string; deviationIre: number | null } | null = null;
+	for (const r of currentRevisions(revisions)) {
+		if (r.band || !r.expected) continue;
+		if (!lead || bandRank(r.expected) < bandRank(lead.band)) lead = { band: r.expected, basis: r.expectedBasis ?? '', deviationIre: r.expectedDeviationIre ?? null };
+	}
+	return lead;
+}
+
+/**
+ * True when any current revision (see currentRevisions) is `min` or better. Measured grades
+ * only, unless `includeExpected` (the visitor ticked "include expected grades"): then an
+ * unmeasured revision's expected band counts too.
+ */
+export function meetsBand(entry: Pick<CatalogueEntry, 'revisions'>, min: Band, includeExpected = false): boolean {
+	return currentRevisions(entry.revisions).some((r) => {
+		const band = r.band ?? (includeExpected ? r.expected : null);
+		return band !== null && bandRank(band) <= bandRank(min);
+	});
+}
+
+/** The band an entry sorts by: measured, or with `includeExpected` the better of measured and expected. */
+export function sortBand(e: Pick<CatalogueEntry, 'bestBand' | 'expected'>, includeExpected = false): Band | null {
+	if (!includeExpected || !e.expected) return e.bestBand;
+	return bandRank(e.expected.band) < bandRank(e.bestBand) ? e.expected.band : e.bestBand;
 }
 
 /** True when the current revisions do not all share one band: a buyer may get either. */
@@ -143,12 +172,14 @@ export interface CatalogueFilter {
 	audio?: boolean;
 	power?: PowerKind;
 	sort?: CatalogueSort;
+	/** Let expected grades (not yet measured) meet the band filter and sort. Off by default. */
+	includeExpected?: boolean;
 }
 
 /** Apply the catalogue filters (band, price, stock, audio, power), then sort. */
 export function filterCatalogue(entries: CatalogueEntry[], f: CatalogueFilter): CatalogueEntry[] {
 	const hit = entries.filter((e) => {
-		if (f.minBand && !meetsBand(e, f.minBand)) return false;
+		if (f.minBand && !meetsBand(e, f.minBand, f.includeExpected)) return false;
 		if (f.audio && !e.hasAudioOut) return false;
 		if (f.power && e.power !== f.power) return false;
 		if (f.inStock && e.inStockShops === 0) return false;
@@ -160,18 +191,22 @@ export function filterCatalogue(entries: CatalogueEntry[], f: CatalogueFilter): 
 		}
 		return true;
 	});
-	return sortCatalogue(hit, f.sort ?? 'band');
+	return sortCatalogue(hit, f.sort ?? 'band', f.includeExpected);
 }
 
 const byName = (a: CatalogueEntry, b: CatalogueEntry) =>
 	a.brand.localeCompare(b.brand, 'en') || a.model.localeCompare(b.model, 'en');
-const byBand = (a: CatalogueEntry, b: CatalogueEntry) =>
-	bandRank(a.bestBand) - bandRank(b.bestBand) || (b.bestScore ?? -1) - (a.bestScore ?? -1);
+const byBandWith = (withExpected: boolean) => (a: CatalogueEntry, b: CatalogueEntry) =>
+	bandRank(sortBand(a, withExpected)) - bandRank(sortBand(b, withExpected)) ||
+	// at the same band a measured grade goes before an expected one
+	Number(a.bestBand === null) - Number(b.bestBand === null) ||
+	(b.bestScore ?? -1) - (a.bestScore ?? -1);
 const byPrice = (a: CatalogueEntry, b: CatalogueEntry) =>
 	(a.best?.displayMinor ?? Infinity) - (b.best?.displayMinor ?? Infinity);
 
 /** Sort a copy: best band (then score), lowest price (unpriced last), or brand and model. */
-export function sortCatalogue(entries: CatalogueEntry[], sort: CatalogueSort): CatalogueEntry[] {
+export function sortCatalogue(entries: CatalogueEntry[], sort: CatalogueSort, includeExpected = false): CatalogueEntry[] {
+	const byBand = byBandWith(includeExpected);
 	const cmp = sort === 'name' ? byName : sort === 'price' ? (a: CatalogueEntry, b: CatalogueEntry) => byPrice(a, b) || byBand(a, b) || byName(a, b) : (a: CatalogueEntry, b: CatalogueEntry) => byBand(a, b) || byPrice(a, b) || byName(a, b);
 	return [...entries].sort(cmp);
 }
@@ -183,6 +218,8 @@ export interface FinderInput {
 	needsAudio?: boolean;
 	inStockNow?: boolean;
 	minBand?: Band;
+	/** Let expected grades (not yet measured) count. Off by default. */
+	includeExpected?: boolean;
 }
 
 export interface FinderResult {
@@ -197,9 +234,11 @@ export interface FinderResult {
 const BAND_WORD: Record<Band, string> = { exact: 'Exact', close: 'Close', fair: 'Fair', poor: 'Poor', failing: 'Failing' };
 
 /** Explain one entry in words, e.g. "Close band; in stock at 2 shops in your region; lowest 12.90 EUR". */
-export function explainEntry(e: CatalogueEntry, region: Region): string {
+export function explainEntry(e: CatalogueEntry, region: Region, includeExpected = false): string {
 	const parts: string[] = [];
-	parts.push(e.bestBand ? `${BAND_WORD[e.bestBand]} band` : 'not graded yet');
+	const band = sortBand(e, includeExpected);
+	if (band && band !== e.bestBand) parts.push(`expected ${BAND_WORD[band]} band (not yet measured)`);
+	else parts.push(band ? `${BAND_WORD[band]} band` : 'not graded yet');
 	if (e.inStockShops > 0) parts.push(`in stock at ${e.inStockShops} ${e.inStockShops === 1 ? 'shop' : 'shops'} in your region`);
 	else if (e.best) parts.push(`${e.best.stock === 'preorder' ? 'pre-order only' : 'orderable'} in your region`);
 	else parts.push(`not buyable in ${REGION_LABELS[region]} right now`);
@@ -226,7 +265,7 @@ function notesFor(e: CatalogueEntry, minBand: Band | undefined): string[] {
  */
 export function rankFinder(entries: CatalogueEntry[], input: FinderInput): FinderResult[] {
 	const hit = entries.filter((e) => {
-		if (input.minBand && !meetsBand(e, input.minBand)) return false;
+		if (input.minBand && !meetsBand(e, input.minBand, input.includeExpected)) return false;
 		if (input.needsAudio && !e.hasAudioOut) return false;
 		if (input.inStockNow && e.inStockShops === 0) return false;
 		if (input.budgetMinor != null) {
@@ -238,7 +277,8 @@ export function rankFinder(entries: CatalogueEntry[], input: FinderInput): Finde
 	const buyable = (e: CatalogueEntry) => (e.inStockShops > 0 ? 0 : e.best ? 1 : 2);
 	hit.sort(
 		(a, b) =>
-			bandRank(a.bestBand) - bandRank(b.bestBand) ||
+			bandRank(sortBand(a, input.includeExpected)) - bandRank(sortBand(b, input.includeExpected)) ||
+			Number(a.bestBand === null) - Number(b.bestBand === null) ||
 			buyable(a) - buyable(b) ||
 			(b.bestScore ?? -1) - (a.bestScore ?? -1) ||
 			byPrice(a, b) ||
@@ -247,7 +287,7 @@ export function rankFinder(entries: CatalogueEntry[], input: FinderInput): Finde
 	return hit.map((entry, i) => ({
 		entry,
 		rank: i + 1,
-		explanation: explainEntry(entry, input.region),
+		explanation: explainEntry(entry, input.region, input.includeExpected),
 		notes: notesFor(entry, input.minBand)
 	}));
 }
@@ -269,6 +309,8 @@ export interface FinderItem {
 	score: number | null;
 	deviationIre: number | null;
 	bandReason: string | null;
+	/** Expected grade of a revision not yet measured (never a measurement), beside the measured band. */
+	expected: { band: Band; basis: string; deviationIre: number | null } | null;
 	hasAudioOut: boolean;
 	inStockShops: number;
 	best: { shop: string; stock: StockState; priceMinor: number | null; currency: string; url: string } | null;
@@ -287,6 +329,7 @@ export function finderItem(r: FinderResult): FinderItem {
 		score: e.bestScore,
 		deviationIre: e.bestDeviationIre ?? null,
 		bandReason: e.bestBandReason ?? null,
+		expected: e.expected,
 		hasAudioOut: e.hasAudioOut,
 		inStockShops: e.inStockShops,
 		best: e.best ? { shop: e.best.shopName, stock: e.best.stock, priceMinor: e.best.displayMinor, currency: e.best.displayCurrency, url: e.best.url } : null,

@@ -1,9 +1,9 @@
 import { describe, expect, it } from 'vitest';
-import { betterPastRevisions, currentRevisions, explainEntry, filterCatalogue, leadGrade, meetsBand, rankFinder, sortCatalogue, type CatalogueEntry, type CatalogueRevision } from '../../src/lib/finder';
+import { betterPastRevisions, currentRevisions, explainEntry, filterCatalogue, leadExpected, leadGrade, meetsBand, rankFinder, sortCatalogue, type CatalogueEntry, type CatalogueRevision } from '../../src/lib/finder';
 
 let nextId = 1;
 const rev = (code: string, band: CatalogueRevision['band'], score: number | null, retired = false): CatalogueRevision => ({
-	id: nextId++, code, chip: `C-${code}`, chipSlug: `c-${code}`, boardMarking: '', band, score, runs: 2, retired, seenFrom: null, seenTo: null
+	id: nextId++, code, chip: `C-${code}`, chipSlug: `c-${code}`, boardMarking: '', band, score, runs: 2, retired, seenFrom: null, seenTo: null, expected: null, expectedBasis: null
 });
 function entry(slug: string, revisions: CatalogueRevision[], o: Partial<CatalogueEntry> & { price?: number | null; inStock?: number } = {}): CatalogueEntry {
 	const lead = leadGrade(revisions);
@@ -11,7 +11,7 @@ function entry(slug: string, revisions: CatalogueRevision[], o: Partial<Catalogu
 	const best = price === null ? null : { listingId: nextId++, shopSlug: 's', shopName: 'Shop S', shopRegion: 'eu' as const, url: 'http://shop.test/x', priceMinor: price, currency: 'EUR', displayMinor: price, displayCurrency: 'EUR', stock: (o.inStock ?? 1) > 0 ? ('in_stock' as const) : ('preorder' as const), lastCheckedAt: null };
 	return {
 		id: nextId++, slug, brand: o.brand ?? slug, model: 'M', summary: '', hasAudioOut: o.hasAudioOut ?? true, power: o.power ?? 'usb-bus', outputs: ['vga'], lastReviewedAt: null,
-		revisions, bestBand: lead.band, bestScore: lead.score, offers: best ? [best] : [], best, inStockShops: price === null ? 0 : (o.inStock ?? 1)
+		revisions, bestBand: lead.band, bestScore: lead.score, expected: leadExpected(revisions), offers: best ? [best] : [], best, inStockShops: price === null ? 0 : (o.inStock ?? 1)
 	};
 }
 
@@ -97,5 +97,43 @@ describe('rankFinder', () => {
 		const [r] = rankFinder([e], { region: 'eu', minBand: 'close' });
 		expect(r.notes.join(' ')).toMatch(/Revision B \(chip C-B\) grades Failing/);
 		expect(explainEntry(entry('gone', [rev('A', 'fair', 70)], { price: null }), 'jp')).toBe('Fair band; not buyable in Japan right now');
+	});
+});
+
+describe('expected grades (predictions for revisions not yet measured)', () => {
+	const predicted = (code: string, band: CatalogueRevision['band']): CatalogueRevision => ({
+		...rev(code, null, null),
+		runs: 0,
+		expected: band,
+		expectedBasis: 'from 6 runs of this chip in 3 other converters; not yet measured'
+	});
+
+	it('count in the band filter and sort only when the visitor includes them', () => {
+		const unmeasured = entry('unmeasured', [predicted('A', 'close')]);
+		const measuredFair = entry('measured-fair', [rev('A', 'fair', 70)]);
+		expect(unmeasured.bestBand).toBeNull();
+		expect(unmeasured.expected).toEqual({ band: 'close', basis: 'from 6 runs of this chip in 3 other converters; not yet measured', deviationIre: null });
+		expect(meetsBand(unmeasured, 'close')).toBe(false);
+		expect(meetsBand(unmeasured, 'close', true)).toBe(true);
+		expect(filterCatalogue([unmeasured, measuredFair], { minBand: 'fair' }).map((e) => e.slug)).toEqual(['measured-fair']);
+		expect(filterCatalogue([measuredFair, unmeasured], { minBand: 'fair', includeExpected: true }).map((e) => e.slug)).toEqual(['unmeasured', 'measured-fair']);
+		// measured only: the unmeasured one sorts as not graded
+		expect(sortCatalogue([unmeasured, measuredFair], 'band').map((e) => e.slug)).toEqual(['measured-fair', 'unmeasured']);
+	});
+
+	it('put a measured grade before an expected one of the same band, and say so in the finder', () => {
+		const unmeasured = entry('unmeasured', [predicted('A', 'close')], { inStock: 3 });
+		const measured = entry('measured', [rev('A', 'close', 80)], { inStock: 0, price: 2000 });
+		const ranked = rankFinder([unmeasured, measured], { region: 'eu', includeExpected: true });
+		expect(ranked.map((r) => r.entry.slug)).toEqual(['measured', 'unmeasured']);
+		expect(ranked[1].explanation).toMatch(/^expected Close band \(not yet measured\)/);
+		expect(rankFinder([unmeasured, measured], { region: 'eu', minBand: 'close' }).map((r) => r.entry.slug)).toEqual(['measured']);
+	});
+
+	it('ignore an expected band once the revision is measured, or when it is not current', () => {
+		const measuredToo = { ...predicted('A', 'exact'), band: 'fair' as const, score: 70 };
+		expect(leadExpected([measuredToo])).toBeNull();
+		const old = { ...predicted('A', 'exact'), seenTo: '2024-01-01' };
+		expect(leadExpected([old, rev('B', 'poor', 50)])).toBeNull();
 	});
 });

@@ -50,3 +50,35 @@ export { aggregateRuns, medianBand } from './aggregate';
 export type { AggregateResult } from './aggregate';
 export { importTrace, traceToLevelInput, runningMedian, TRACE_WARNING_WORDS } from './trace';
 export type { ImportTraceOptions, TraceImport, TracePlateau, TraceChannel, TraceWarning, VoltageUnit } from './trace';
+export {
+	SIGMA_PT_IRE,
+	Z_LIMITS,
+	TESTER_RULES,
+	algorithmA,
+	assessTester,
+	fitLine,
+	interpretZ,
+	median,
+	revisionConsensus,
+	sameToThreeFigures,
+	testerKey,
+	testerReport,
+	zScore
+} from './proficiency';
+export type {
+	AlgorithmAResult,
+	AlgorithmAStep,
+	ConsensusCell,
+	LineFit,
+	RevisionConsensus,
+	RunLevels,
+	RunZ,
+	TesterAssessment,
+	TesterInputRevision,
+	TesterPoint,
+	TesterReport,
+	TesterStatus,
+	ZSignal
+} from './proficiency';
+export { expectedGrade, backtestExpected } from './expected';
+export type { ChipRun, ExpectedGrade, BacktestRevision, BacktestResult } from './expected';

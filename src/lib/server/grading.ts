@@ -10,6 +10,8 @@ import { audit } from './audit';
 import * as t from './db/schema';
 import { bandReasonOf } from '../components/bands';
 import { refreshCards } from './queries/read-model';
+import { refreshRevisionChecks } from './consistency';
+import { noteGradeChange, refreshExpectedForChips } from './expected';
 
 // Accepts both the pool-level db and a transaction.
 // eslint-disable-next-line @typescript-eslint/no-explicit-any -- any pool or transaction handle over this schema (Drizzle's third type argument)
@@ -72,21 +74,38 @@ export async function recordBenchRun(db: Db, run: NewBenchRun): Promise<{ id: nu
 }
 
 /**
- * Recompute a revision's cached grade from its accepted bench runs, and its converter's public
- * cards (read model) in the same transaction.
+ * Recompute a revision's cached grade from its accepted bench runs; then what depends on it, in
+ * the same transaction: the grade history, the expected grades of every revision of the same
+ * chip, the tester checks of this revision's runs, and the public cards (read model) of the
+ * converters whose revisions changed.
  */
 export async function regradeRevision(db: Db, revisionId: number, now = new Date()) {
+	const [before] = await db
+		.select({ band: t.revisions.band, chipId: t.revisions.chipId })
+		.from(t.revisions)
+		.where(eq(t.revisions.id, revisionId));
+	const agg = await gradeFromRuns(db, revisionId, now);
+	if (before) {
+		await noteGradeChange(db, revisionId, 'measured', before.band, agg?.band ?? null, agg ? `median of ${agg.count} accepted ${agg.count === 1 ? 'run' : 'runs'}` : 'no accepted runs', now);
+		await refreshExpectedForChips(db, [before.chipId], now);
+		// this converter and every converter whose expected grade may have moved with the chip
+		const touched = await db.selectDistinct({ id: t.revisions.converterId }).from(t.revisions).where(eq(t.revisions.chipId, before.chipId));
+		await refreshCards(db, touched.map((r) => r.id));
+	}
+	await refreshRevisionChecks(db, revisionId, now);
+	return agg;
+}
+
+async function gradeFromRuns(db: Db, revisionId: number, now: Date) {
 	const runs = await db
 		.select({ id: t.benchRuns.id, fullScaleMv: t.benchRuns.fullScaleMv })
 		.from(t.benchRuns)
 		.where(and(eq(t.benchRuns.revisionId, revisionId), eq(t.benchRuns.status, 'accepted')));
 	if (runs.length === 0) {
-		const cleared = await db
+		await db
 			.update(t.revisions)
 			.set({ band: null, score: null, scoreMin: null, scoreMax: null, deviationIre: null, bandReason: null, runCount: 0, gradedAt: now, updatedAt: now })
-			.where(eq(t.revisions.id, revisionId))
-			.returning({ converterId: t.revisions.converterId });
-		await refreshCards(db, cleared.map((r) => r.converterId));
+			.where(eq(t.revisions.id, revisionId));
 		return null;
 	}
 	const readings = await db
@@ -105,7 +124,7 @@ export async function regradeRevision(db: Db, revisionId: number, now = new Date
 	const agg = aggregateRuns(reports);
 	// The band mark's marker: the worst deviation of the run the band was taken from (none when no run is graded).
 	const lead = agg.medianRunIndex === null ? null : reports[agg.medianRunIndex];
-	const graded = await db
+	await db
 		.update(t.revisions)
 		.set({
 			band: agg.band,
@@ -119,9 +138,7 @@ export async function regradeRevision(db: Db, revisionId: number, now = new Date
 			gradedAt: now,
 			updatedAt: now
 		})
-		.where(eq(t.revisions.id, revisionId))
-		.returning({ converterId: t.revisions.converterId });
-	await refreshCards(db, graded.map((r) => r.converterId));
+		.where(eq(t.revisions.id, revisionId));
 	return agg;
 }
 

@@ -103,6 +103,20 @@ export async function bestCurrentBand(db: Db, converterId: number): Promise<stri
 }
 
 /**
+ * The best expected band (a prediction, not yet measured) among a converter's current revisions
+ * that have no measured band; when none is current, among all of them. Null when there is none.
+ */
+export async function bestExpectedBand(db: Db, converterId: number): Promise<string | null> {
+	const rows = rowsOf<{ band: string | null; current: boolean }>(
+		await db.execute(sql`
+			select min(expected_band) as band, (seen_to is null and retired_at is null) as current
+			from revision where converter_id = ${converterId} and band is null and expected_band is not null
+			group by 2`)
+	);
+	return rows.find((r) => r.current)?.band ?? rows.find((r) => !r.current)?.band ?? null;
+}
+
+/**
  * Match stock events against watches and write their outbox rows. Call it inside the
  * transaction that wrote the events.
  */
@@ -161,6 +175,8 @@ export async function matchStockEvents(tx: Db, events: StockEventInput[], option
 
 		rates ??= await loadRates(tx as unknown as Database);
 		const band = await bestCurrentBand(tx, ctx.converter_id);
+		// an expected grade meets a band limit only for watches that chose to include them
+		const expectedBand = await bestExpectedBand(tx, ctx.converter_id);
 		const priceMinor = ctx.price_minor == null ? null : Number(ctx.price_minor);
 		// The event's price in every currency we have a rate for; a rule in a currency without a
 		// rate cannot be compared, so it does not match (never guess a price).
@@ -181,7 +197,8 @@ export async function matchStockEvents(tx: Db, events: StockEventInput[], option
 				left join member_pref mp on mp.user_id = w.user_id
 				where not w.paused
 					and (w.converter_id is null or w.converter_id = ${ctx.converter_id})
-					and (w.min_band is null or ${band}::band <= w.min_band)
+					and (w.min_band is null or ${band}::band <= w.min_band
+						or (w.include_expected and ${expectedBand}::band <= w.min_band))
 					and (w.max_price_minor is null or (${JSON.stringify(priceIn)}::jsonb ->> w.price_currency)::bigint <= w.max_price_minor)
 					and (w.region is null or w.region = any(${served}::region[]))
 					and (not w.needs_audio or ${ctx.has_audio_out})

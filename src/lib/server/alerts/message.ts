@@ -3,7 +3,7 @@
  * message), an HTML part built with the escaping `html` template and a plain-text part.
  * Pure: the sender gathers the facts (AlertView) from the database.
  */
-import { RULER_END_IRE, RULER_TICKS_IRE, bandZoneIre, markHidesMarker, markText, type Band } from '../../components/bands';
+import { RULER_END_IRE, RULER_TICKS_IRE, bandLabel, bandZoneIre, markHidesMarker, markText, type Band } from '../../components/bands';
 import { formatMoney, REGION_LABELS, type Region } from '../../pricing';
 import { html, SafeHtml } from './template';
 
@@ -24,6 +24,11 @@ export interface AlertView {
 	revisionCode: string | null;
 	/** One plain-words finding from the revision's latest accepted bench run. */
 	finding: string | null;
+	/**
+	 * An expected grade (a prediction for a revision not yet measured), only for a watch that
+	 * chose to include expected grades. The e-mail always calls it expected.
+	 */
+	expected?: { band: Band; revisionCode: string; basis: string } | null;
 	/** How long the listing's previous restock lasted before it sold out, in ms (null: no history). */
 	previousRunMs: number | null;
 	buyUrl: string;
@@ -125,6 +130,12 @@ function rulerHtml(v: AlertView): SafeHtml {
 	return html`<table role="presentation" cellpadding="0" cellspacing="0" style="display:inline-table;vertical-align:middle;margin-right:8px;border-collapse:collapse"><tr>${top}</tr><tr>${bottom}</tr></table>`;
 }
 
+/** 'Expected: Close, revision B (not yet measured; from 6 runs of this chip in 3 other converters)'. */
+export function expectedText(e: NonNullable<AlertView['expected']>): string {
+	const basis = e.basis.replace(/; not yet measured$/, '');
+	return `Expected: ${bandLabel(e.band)}, revision ${e.revisionCode} (not yet measured; ${basis})`;
+}
+
 function readoutRow(label: string, value: SafeHtml | string): SafeHtml {
 	return html`<tr><td style="padding:6px 12px 6px 0;font-size:13px;color:${MUTED};white-space:nowrap;vertical-align:top">${label}</td><td style="padding:6px 0;font-size:14px;line-height:1.45">${value}</td></tr>`;
 }
@@ -135,6 +146,7 @@ function alertCardHtml(v: AlertView): SafeHtml {
 ${readoutRow('Where', whereText(v))}
 ${readoutRow('Price', html`<span style="font-variant-numeric:tabular-nums">${priceText(v)}</span>`)}
 ${readoutRow('Level grade', html`${rulerHtml(v)}<strong>${bandText(v)}</strong>`)}
+${v.expected ? readoutRow('Expected grade', html`<em>${expectedText(v.expected)}</em>`) : ''}
 ${v.finding ? readoutRow('On the bench', v.finding) : ''}
 ${readoutRow('Stock history', lastRunText(v))}
 ${v.soldOutAt ? readoutRow('Now', html`<strong>Sold out again</strong> ${formatDuration(v.soldOutAt.getTime() - v.at.getTime())} later`) : ''}
@@ -163,6 +175,7 @@ function alertText(v: AlertView): string[] {
 		`Where:         ${whereText(v)}`,
 		`Price:         ${priceText(v)}`,
 		`Level grade:   ${bandText(v)}`,
+		...(v.expected ? [`Expected grade: ${expectedText(v.expected)}`] : []),
 		...(v.finding ? [`On the bench:  ${v.finding}`] : []),
 		`Stock history: ${lastRunText(v)}`,
 		...(v.soldOutAt ? [`Now:           Sold out again ${formatDuration(v.soldOutAt.getTime() - v.at.getTime())} later`] : []),

@@ -37,6 +37,7 @@ interface Row {
 	paused: boolean;
 	price_currency: string | null;
 	watch_region: Region | null;
+	include_expected: boolean;
 	event_id: number;
 	kind: 'restock' | 'price_drop';
 	at: string | Date;
@@ -84,6 +85,19 @@ interface RevisionFacts {
 	bandReason: string | null;
 	code: string | null;
 	finding: string | null;
+	expected: { band: Band; revisionCode: string; basis: string } | null;
+}
+
+/** The converter's best expected grade among revisions not yet measured (current ones first). */
+async function expectedFacts(db: Db, converterId: number): Promise<RevisionFacts['expected']> {
+	const [rev] = rowsOf<{ expected_band: Band; code: string; expected_basis: string | null }>(
+		await db.execute(sql`
+			select expected_band, code, expected_basis from revision
+			where converter_id = ${converterId} and band is null and expected_band is not null
+			order by (seen_to is null and retired_at is null) desc, expected_band asc
+			limit 1`)
+	);
+	return rev ? { band: rev.expected_band, revisionCode: rev.code, basis: rev.expected_basis ?? '' } : null;
 }
 
 /** The converter's best current revision with a one-line finding from its latest accepted run. */
@@ -95,7 +109,8 @@ export async function revisionFacts(db: Db, converterId: number): Promise<Revisi
 			order by (seen_to is null and retired_at is null) desc, band asc, score desc nulls last
 			limit 1`)
 	);
-	if (!rev) return { band: null, deviationIre: null, bandReason: null, code: null, finding: null };
+	const expected = await expectedFacts(db, converterId);
+	if (!rev) return { band: null, deviationIre: null, bandReason: null, code: null, finding: null, expected };
 	const [run] = rowsOf<{ report: { findings?: { text: string; severity?: string }[] } | string | null }>(
 		await db.execute(sql`
 			select report from bench_run where revision_id = ${rev.id} and status = 'accepted' and report is not null
@@ -111,7 +126,8 @@ export async function revisionFacts(db: Db, converterId: number): Promise<Revisi
 		deviationIre: rev.deviation_ire,
 		bandReason: rev.band_reason,
 		code: rev.code,
-		finding: pick ? firstSentence(pick.text) : null
+		finding: pick ? firstSentence(pick.text) : null,
+		expected
 	};
 }
 
@@ -126,7 +142,7 @@ export async function loadOutboxContexts(db: Db, ids: number[], opts: { baseUrl:
 	const rows = rowsOf<Row>(
 		await db.execute(sql`
 			select o.id as outbox_id, o.attempts, o.message_id, o.mode, o.watch_id, o.user_id, u.email,
-				w.paused, w.price_currency, w.region as watch_region,
+				w.paused, w.price_currency, w.region as watch_region, w.include_expected,
 				e.id as event_id, e.kind, e.at, e.price_minor, e.currency, e.listing_id,
 				l.url, l.converter_id, c.slug, c.brand, c.model, s.name as shop_name, s.region as shop_region, s.ships_to,
 				mp.quiet_from, mp.quiet_to, mp.timezone, (mp.user_id is not null) as has_pref,
@@ -191,6 +207,8 @@ export async function loadOutboxContexts(db: Db, ids: number[], opts: { baseUrl:
 				bandReason: f.bandReason,
 				revisionCode: f.code,
 				finding: f.finding,
+				// shown (and called expected) only to a watch that chose expected grades
+				expected: r.include_expected ? f.expected : null,
 				previousRunMs: prevRestock && prevSellout ? prevSellout.getTime() - prevRestock.getTime() : null,
 				buyUrl: safeLink(r.url, converterUrl),
 				converterUrl

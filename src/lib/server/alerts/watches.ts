@@ -52,6 +52,8 @@ export const watchFormSchema = z
 		region: z.preprocess(emptyToUndefined, z.enum(REGION_CODES, { message: 'Pick a region from the list.' }).optional()),
 		needsAudio: checkbox,
 		alsoPriceDrops: checkbox,
+		/** Let a revision's expected grade (not yet measured) meet the band limit. */
+		includeExpected: checkbox,
 		shopIds: z.preprocess(
 			(v) => (Array.isArray(v) ? v : v == null || v === '' ? [] : [v]).map(Number),
 			z.array(z.number().int().positive()).max(50)
@@ -131,6 +133,7 @@ export interface WatchRow {
 	needsAudio: boolean;
 	shopIds: number[];
 	alsoPriceDrops: boolean;
+	includeExpected: boolean;
 	paused: boolean;
 	createdAt: Date;
 }
@@ -151,6 +154,7 @@ export async function listWatches(db: Db, userId: string): Promise<WatchRow[]> {
 			needsAudio: t.watches.needsAudio,
 			shopIds: t.watches.shopIds,
 			alsoPriceDrops: t.watches.alsoPriceDrops,
+			includeExpected: t.watches.includeExpected,
 			paused: t.watches.paused,
 			createdAt: t.watches.createdAt
 		})
@@ -186,7 +190,8 @@ async function valuesFromForm(db: Db, form: WatchForm) {
 		region: (form.region ?? null) as t.Region | null,
 		needsAudio: form.needsAudio,
 		shopIds: form.shopIds.length ? [...new Set(form.shopIds)] : null,
-		alsoPriceDrops: form.alsoPriceDrops
+		alsoPriceDrops: form.alsoPriceDrops,
+		includeExpected: form.includeExpected
 	};
 }
 

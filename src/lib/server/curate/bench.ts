@@ -10,6 +10,7 @@ import { and, desc, eq, inArray, sql } from 'drizzle-orm';
 import { audit } from '../audit';
 import * as t from '../db/schema';
 import { recordBenchRun, regradeRevision, type Reading } from '../grading';
+import { refreshRevisionChecks } from '../consistency';
 import {
 	ALL_STEPS_IRE,
 	LevelInputError,
@@ -217,6 +218,9 @@ export async function saveBenchRun(
 			await setFilesStatus(tx, traceIds, 'public');
 			await regradeRevision(tx, rev.id, now);
 			await tx.update(t.converters).set({ lastReviewedAt: now }).where(eq(t.converters.id, rev.converterId));
+		} else {
+			// a member's run is checked against the others while it waits for review
+			await refreshRevisionChecks(tx, rev.id, now);
 		}
 		const [row] = await tx.select().from(t.benchRuns).where(eq(t.benchRuns.id, id));
 		await audit(tx, {
@@ -299,6 +303,8 @@ export async function reviewBenchRun(
 			await regradeRevision(tx, before.revisionId, now);
 			const [rev] = await tx.select({ converterId: t.revisions.converterId }).from(t.revisions).where(eq(t.revisions.id, before.revisionId));
 			await tx.update(t.converters).set({ lastReviewedAt: now }).where(eq(t.converters.id, rev.converterId));
+		} else {
+			await refreshRevisionChecks(tx, before.revisionId, now);
 		}
 		await audit(tx, {
 			actorId: actor.id,

@@ -7,6 +7,7 @@ import { and, asc, eq, isNull, sql } from 'drizzle-orm';
 import type { z } from 'zod';
 import { audit, auditedUpdate } from '../audit';
 import * as t from '../db/schema';
+import { refreshExpectedForChips } from '../expected';
 import { FieldError, isUniqueViolation, pick, slugify, type Actor, type Database } from './common';
 import type { chipSchema, converterSchema, revisionSchema } from './schemas';
 
@@ -257,6 +258,7 @@ export async function createRevision(db: Database, actor: Actor, input: Revision
 				.values({ converterId: input.converterId, ...revisionValues(input) })
 				.returning();
 			await audit(tx, { actorId: actor.id, action: 'created', entity: 'revision', entityId: row.id, after: pick(row, REVISION_FIELDS) });
+			await refreshExpectedForChips(tx, [row.chipId]);
 			return row;
 		});
 	} catch (err) {
@@ -269,13 +271,20 @@ export async function createRevision(db: Database, actor: Actor, input: Revision
 export async function updateRevision(db: Database, actor: Actor, id: number, input: RevisionInput) {
 	await assertRevisionRefs(db, input);
 	try {
-		return await auditedUpdate(db, actor, {
+		let chipBefore: number | null = null;
+		const row = await auditedUpdate(db, actor, {
 			table: t.revisions,
 			entity: 'revision',
 			id,
 			fields: REVISION_FIELDS,
-			set: () => ({ ...revisionValues(input), updatedAt: new Date() })
+			set: (before) => {
+				chipBefore = before.chipId;
+				return { ...revisionValues(input), updatedAt: new Date() };
+			}
 		});
+		// a chip change moves the revision's expected grade from one chip's evidence to the other's
+		await refreshExpectedForChips(db, [chipBefore ?? row.chipId, row.chipId]);
+		return row;
 	} catch (err) {
 		if (isUniqueViolation(err)) throw new FieldError('code', 'This converter already has a revision with that code.', 409);
 		throw err;
@@ -283,7 +292,9 @@ export async function updateRevision(db: Database, actor: Actor, id: number, inp
 }
 
 export async function setRevisionRetired(db: Database, actor: Actor, id: number, retired: boolean, reason?: string) {
-	return (await setRetired(db, actor, 'revision', id, retired, reason)) as unknown as typeof t.revisions.$inferSelect;
+	const row = (await setRetired(db, actor, 'revision', id, retired, reason)) as unknown as typeof t.revisions.$inferSelect;
+	await refreshExpectedForChips(db, [row.chipId]);
+	return row;
 }
 
 /** Options for pickers: live converters, chips and revisions. */

@@ -217,3 +217,12 @@ export const guidePickSchema = z.object({
 	note: optText(300),
 	position: z.number().int().min(0).max(99).default(0)
 });
+
+// ------------------------------------------------------------------ tester checks
+
+/** A curator's decision on a run flagged by the tester check (an action signal). */
+export const flagDecisionSchema = z.object({
+	id: z.number().int().positive(),
+	decision: z.enum(['keep', 'supersede', 'remeasure']),
+	note: z.string().trim().min(3, 'Give a short note (the tester sees it, and it is kept in the audit log).').max(500)
+});

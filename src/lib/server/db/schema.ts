@@ -213,6 +213,12 @@ export const revisions = pgTable(
 		runCount: integer('run_count').notNull().default(0),
 		rubricVersion: text('rubric_version'),
 		gradedAt: timestamp('graded_at', { withTimezone: true }),
+		/** Expected grade while no run is accepted: from the chip's runs elsewhere (src/lib/levels/expected.ts). */
+		expectedBand: bandEnum('expected_band'),
+		expectedBasis: text('expected_basis'),
+		expectedDeviationIre: doublePrecision('expected_deviation_ire'),
+		expectedRuns: integer('expected_runs'),
+		expectedAt: timestamp('expected_at', { withTimezone: true }),
 		retiredAt: timestamp('retired_at', { withTimezone: true }),
 		createdAt: createdAt(),
 		updatedAt: updatedAt()
@@ -552,6 +558,8 @@ export const watches = pgTable(
 		needsAudio: boolean('needs_audio').notNull().default(false),
 		shopIds: integer('shop_ids').array(),
 		alsoPriceDrops: boolean('also_price_drops').notNull().default(false),
+		/** Match a converter whose revision has only an expected grade (not yet measured). */
+		includeExpected: boolean('include_expected').notNull().default(false),
 		paused: boolean('paused').notNull().default(false),
 		createdAt: createdAt(),
 		updatedAt: updatedAt()
@@ -709,6 +717,63 @@ export const cardDirty = pgTable('card_dirty', {
 	converterId: integer('converter_id').primaryKey()
 });
 
+// ---------------------------------------------------------------- tester consistency and expected grades
+
+export const zSignalEnum = pgEnum('z_signal', ['satisfactory', 'questionable', 'action']);
+/** A flagged run's review: open in the queue, kept as is, superseded, or sent back to re-measure. */
+export const checkStateEnum = pgEnum('check_state', ['open', 'kept', 'superseded', 'remeasure']);
+
+/**
+ * A bench run's z-scores against the consensus of its revision (ISO 13528 Algorithm A over
+ * the runs of two or more testers). Recomputed whenever the revision's runs change.
+ */
+export const runChecks = pgTable(
+	'run_check',
+	{
+		benchRunId: integer('bench_run_id')
+			.primaryKey()
+			.references(() => benchRuns.id, { onDelete: 'cascade' }),
+		signal: zSignalEnum('signal').notNull(),
+		worstZ: doublePrecision('worst_z').notNull(),
+		reason: text('reason').notNull(),
+		/** [{ ire, channel, reading, z, signal }] in IRE. */
+		cells: jsonb('cells').notNull(),
+		testers: integer('testers').notNull(),
+		computedAt: timestamp('computed_at', { withTimezone: true }).notNull(),
+		state: checkStateEnum('state'),
+		note: text('note'),
+		reviewedById: text('reviewed_by_id').references(() => users.id, { onDelete: 'set null' }),
+		reviewedAt: timestamp('reviewed_at', { withTimezone: true })
+	},
+	(t) => [index('run_check_state_idx').on(t.state)]
+);
+
+export const gradeKindEnum = pgEnum('grade_kind', ['measured', 'expected']);
+
+/** A revision's grade history: every change of its measured or expected band. */
+export const gradeHistory = pgTable(
+	'grade_history',
+	{
+		id: serial('id').primaryKey(),
+		revisionId: integer('revision_id')
+			.notNull()
+			.references(() => revisions.id, { onDelete: 'cascade' }),
+		kind: gradeKindEnum('kind').notNull(),
+		/** Null: the grade of this kind was cleared. */
+		band: bandEnum('band'),
+		detail: text('detail').notNull().default(''),
+		at: timestamp('at', { withTimezone: true }).notNull()
+	},
+	(t) => [index('grade_history_revision_idx').on(t.revisionId, t.at)]
+);
+
+/** Latest result of a periodic statistic (e.g. the expected-grade backtest), by name. */
+export const statSnapshots = pgTable('stat_snapshot', {
+	name: text('name').primaryKey(),
+	value: jsonb('value').notNull(),
+	computedAt: timestamp('computed_at', { withTimezone: true }).notNull()
+});
+
 // ---------------------------------------------------------------- value types
 
 export type Role = (typeof roleEnum.enumValues)[number];
@@ -718,3 +783,6 @@ export type Region = (typeof regionEnum.enumValues)[number];
 export type FeedFormat = (typeof feedFormatEnum.enumValues)[number];
 export type RunStatus = (typeof runStatusEnum.enumValues)[number];
 export type PollOutcome = (typeof pollOutcomeEnum.enumValues)[number];
+export type ZSignal = (typeof zSignalEnum.enumValues)[number];
+export type CheckState = (typeof checkStateEnum.enumValues)[number];
+export type GradeKind = (typeof gradeKindEnum.enumValues)[number];

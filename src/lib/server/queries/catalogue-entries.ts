@@ -7,7 +7,7 @@ import { asc, eq, inArray } from 'drizzle-orm';
 import type { PgDatabase, PgQueryResultHKT } from 'drizzle-orm/pg-core';
 import * as schema from '../db/schema';
 import { chips, converters, revisions } from '../db/schema';
-import { leadGrade, type CatalogueEntry, type CatalogueOffer, type CatalogueRevision, type PowerKind } from '../../finder';
+import { leadExpected, leadGrade, type CatalogueEntry, type CatalogueOffer, type CatalogueRevision, type PowerKind } from '../../finder';
 import {
 	bestOfferByConverter,
 	convertMinor,
@@ -85,6 +85,9 @@ export async function revisionsFor(db: Db, converterIds: number[] | 'all') {
 			scoreMax: revisions.scoreMax,
 			deviationIre: revisions.deviationIre,
 			bandReason: revisions.bandReason,
+			expected: revisions.expectedBand,
+			expectedBasis: revisions.expectedBasis,
+			expectedDeviationIre: revisions.expectedDeviationIre,
 			runs: revisions.runCount,
 			rubricVersion: revisions.rubricVersion,
 			gradedAt: revisions.gradedAt,
@@ -122,6 +125,9 @@ export function buildEntries(
 				score: r.score,
 				deviationIre: r.deviationIre,
 				bandReason: r.bandReason,
+				expected: r.expected,
+				expectedBasis: r.expectedBasis,
+				expectedDeviationIre: r.expectedDeviationIre,
 				runs: r.runs,
 				retired: r.retiredAt !== null,
 				seenFrom: r.seenFrom,
@@ -152,6 +158,7 @@ export function buildEntries(
 			bestScore: lead.score,
 			bestDeviationIre: lead.deviationIre,
 			bestBandReason: lead.reason,
+			expected: leadExpected(revisionsOf),
 			offers: priced,
 			best: bestOffer ? toOffer(bestOffer, view.currency, rates) : null,
 			inStockShops: new Set(inRegion.filter((o) => o.stock === 'in_stock').map((o) => o.shopSlug)).size

@@ -15,6 +15,10 @@ function apiOffer(o: CatalogueOffer | null) {
 	};
 }
 
+function apiExpected(r: { expected: CatalogueEntry['bestBand']; expectedBasis: string | null; expectedDeviationIre?: number | null }) {
+	return r.expected ? { band: r.expected, basis: r.expectedBasis ?? '', deviationIre: r.expectedDeviationIre ?? null } : null;
+}
+
 export function apiConverter(e: CatalogueEntry) {
 	return {
 		slug: e.slug,
@@ -29,6 +33,8 @@ export function apiConverter(e: CatalogueEntry) {
 		score: e.bestScore,
 		deviationIre: e.bestDeviationIre ?? null,
 		bandReason: e.bestBandReason ?? null,
+		// a prediction for revisions not yet measured, never folded into `band`
+		expected: e.expected,
 		revisions: e.revisions.map((r) => ({
 			id: r.id,
 			code: r.code,
@@ -38,6 +44,7 @@ export function apiConverter(e: CatalogueEntry) {
 			score: r.score,
 			deviationIre: r.deviationIre ?? null,
 			bandReason: r.bandReason ?? null,
+			expected: apiExpected(r),
 			benchRuns: r.runs,
 			retired: r.retired,
 			seenFrom: r.seenFrom,
@@ -59,6 +66,8 @@ export function apiRevision(r: PublicRevision) {
 		score: r.score,
 		deviationIre: r.deviationIre ?? null,
 		bandReason: r.bandReason ?? null,
+		expected: apiExpected(r),
+		gradeHistory: r.gradeHistory,
 		scoreRange: r.scoreMin !== null && r.scoreMax !== null ? [r.scoreMin, r.scoreMax] : null,
 		benchRuns: r.runs,
 		rubricVersion: r.rubricVersion,

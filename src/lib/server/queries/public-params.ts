@@ -36,6 +36,8 @@ export const catalogueParams = z.object({
 	audio: flag,
 	power: z.preprocess(blank, z.enum(POWER_KINDS).optional()),
 	sort: z.preprocess(blank, z.enum(SORTS).optional()),
+	/** "include expected grades": predictions for unmeasured revisions count in the band filter. */
+	expected: flag,
 	page: z.preprocess(blank, z.coerce.number().int().min(1).max(10_000).optional())
 });
 export type CatalogueParams = z.infer<typeof catalogueParams>;
@@ -46,7 +48,8 @@ export const finderParams = z.object({
 	budget: money,
 	audio: flag,
 	stock: flag,
-	band: z.preprocess(blank, bandSchema.optional())
+	band: z.preprocess(blank, bandSchema.optional()),
+	expected: flag
 });
 export type FinderParams = z.infer<typeof finderParams>;
 
@@ -95,7 +98,8 @@ export function toCatalogueFilter(p: CatalogueParams, currency: string): Catalog
 		inStock: p.stock,
 		audio: p.audio,
 		power: p.power,
-		sort: p.sort ?? 'band'
+		sort: p.sort ?? 'band',
+		includeExpected: p.expected
 	};
 }
 
@@ -106,7 +110,8 @@ export function toFinderInput(p: FinderParams, view: Viewpoint): FinderInput {
 		budgetMinor: p.budget != null ? (toMinor(p.budget, view.currency) ?? undefined) : undefined,
 		needsAudio: p.audio,
 		inStockNow: p.stock,
-		minBand: p.band
+		minBand: p.band,
+		includeExpected: p.expected
 	};
 }
 

@@ -26,6 +26,8 @@ import { isBuyable, servesRegion, type Region } from '../../pricing';
 import type { Band } from '../../components/bands';
 import { verifiedTeardowns } from '../curate/teardowns';
 import { revisionOdds, type ShopRevisionOdds } from '../../odds';
+import { gradeHistoryOf } from '../expected';
+import { groupBy } from './catalogue-entries';
 
 export type { Viewpoint } from './catalogue-entries';
 
@@ -64,6 +66,8 @@ export interface PublicRevision extends CatalogueRevision {
 	/** Index into runsDetail of the run the revision's band was taken from (engine's median). */
 	medianRun: number | null;
 	measuredBy: string[];
+	/** Every change of the measured and the expected band, oldest first. */
+	gradeHistory: Array<{ kind: 'measured' | 'expected'; band: Band | null; detail: string; at: string }>;
 }
 
 export interface PublicListing extends CatalogueOffer {
@@ -141,9 +145,12 @@ function medianRunIndex(runs: PublicBenchRun[]): number | null {
 	}
 }
 
+type GradeHistoryRow = Awaited<ReturnType<typeof gradeHistoryOf>>[number];
+
 function publicRevision(
 	r: Awaited<ReturnType<typeof revisionsFor>>[number],
-	runs: PublicBenchRun[]
+	runs: PublicBenchRun[],
+	history: GradeHistoryRow[] = []
 ): PublicRevision {
 	return {
 		id: r.id,
@@ -157,6 +164,9 @@ function publicRevision(
 		score: r.score,
 		deviationIre: r.deviationIre,
 		bandReason: r.bandReason,
+		expected: r.expected,
+		expectedBasis: r.expectedBasis,
+		expectedDeviationIre: r.expectedDeviationIre,
 		scoreMin: r.scoreMin,
 		scoreMax: r.scoreMax,
 		runs: r.runs,
@@ -168,7 +178,8 @@ function publicRevision(
 		gradedAt: iso(r.gradedAt),
 		runsDetail: runs,
 		medianRun: medianRunIndex(runs),
-		measuredBy: [...new Set(runs.map((x) => x.measuredBy))]
+		measuredBy: [...new Set(runs.map((x) => x.measuredBy))],
+		gradeHistory: history.map((h) => ({ kind: h.kind, band: h.band, detail: h.detail, at: iso(h.at)! }))
 	};
 }
 
@@ -185,6 +196,7 @@ export async function loadConverterDetail(db: Database, slug: string, view: View
 	if (!entry) return null;
 	const runs = await runsFor(db, revs.map((r) => r.id));
 	const teardownRows = await verifiedTeardowns(db, { converterId: row.id });
+	const history = groupBy(await gradeHistoryOf(db, revs.map((r) => r.id)), (h) => h.revisionId);
 	const teardowns: TeardownRow[] = teardownRows.map((t) => ({
 		id: t.id,
 		revisionCode: t.revision,
@@ -217,7 +229,7 @@ export async function loadConverterDetail(db: Database, slug: string, view: View
 		);
 	return {
 		entry,
-		revisions: revs.map((r) => publicRevision(r, runs.get(r.id) ?? [])),
+		revisions: revs.map((r) => publicRevision(r, runs.get(r.id) ?? [], history.get(r.id))),
 		listings: listingsOut,
 		teardowns,
 		odds
@@ -411,6 +423,9 @@ export interface CatalogueExportRow {
 	score: number | null;
 	deviation_ire: number | null;
 	band_reason: string | null;
+	/** Expected band of a revision not yet measured (a prediction, never a measurement). */
+	expected_band: string | null;
+	expected_basis: string | null;
 	bench_runs: number;
 	rubric_version: string | null;
 	retired: boolean;
@@ -443,6 +458,8 @@ export async function exportCatalogue(db: Database): Promise<CatalogueExportRow[
 				score: r.score,
 				deviation_ire: r.deviationIre,
 				band_reason: r.bandReason,
+				expected_band: r.expected,
+				expected_basis: r.expectedBasis,
 				bench_runs: r.runs,
 				rubric_version: r.rubricVersion,
 				retired: r.retiredAt !== null,

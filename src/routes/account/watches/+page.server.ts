@@ -69,13 +69,14 @@ function valuesOf(form: FormData) {
 		region: String(form.get('region') ?? ''),
 		needsAudio: form.get('needsAudio') === 'on',
 		alsoPriceDrops: form.get('alsoPriceDrops') === 'on',
+		includeExpected: form.get('includeExpected') === 'on',
 		shopIds: form.getAll('shopIds').map(String)
 	};
 }
 
 function parseWatch(form: FormData) {
 	const values = valuesOf(form);
-	return { values, parsed: watchFormSchema.safeParse({ ...values, needsAudio: form.get('needsAudio'), alsoPriceDrops: form.get('alsoPriceDrops') }) };
+	return { values, parsed: watchFormSchema.safeParse({ ...values, needsAudio: form.get('needsAudio'), alsoPriceDrops: form.get('alsoPriceDrops'), includeExpected: form.get('includeExpected') }) };
 }
 
 function watchId(form: FormData): number | null {

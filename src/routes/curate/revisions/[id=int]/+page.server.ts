@@ -3,6 +3,8 @@ import { requireRole } from '$lib/server/auth/guard';
 import { db } from '$lib/server/db';
 import { runsOfRevision, supersedeBenchRun } from '$lib/server/curate/bench';
 import { gradeHistory } from '$lib/server/grading';
+import { checksOfRuns } from '$lib/server/consistency';
+import { gradeHistoryOf } from '$lib/server/expected';
 import { getRevision, listChips, setRevisionRetired, updateRevision } from '$lib/server/curate/catalogue';
 import { attempt, emptyForm, idParam, invalid, validate, orHttpError } from '$lib/server/curate/forms';
 import { revisionSchema, supersedeSchema } from '$lib/server/curate/schemas';
@@ -14,10 +16,13 @@ export const load: PageServerLoad = async (event) => {
 	const found = await getRevision(db, id);
 	if (!found) error(404, 'No such revision.');
 	const { revision } = found;
-	const [runs, chips, history] = await Promise.all([runsOfRevision(db, id), listChips(db), gradeHistory(db, id)]);
+	const [runs, chips, history, grades] = await Promise.all([runsOfRevision(db, id), listChips(db), gradeHistory(db, id), gradeHistoryOf(db, [id])]);
+	const checks = await checksOfRuns(db, runs.map((r) => r.id));
 	return {
 		...found,
-		runs,
+		runs: runs.map((r) => ({ ...r, check: checks.get(r.id) ?? null })),
+		/** Measured and expected bands over time (grade_history). */
+		grades,
 		history,
 		chips: chips.map((c) => ({ value: c.id, label: `${c.name} (${c.maker})${c.retiredAt ? ', retired' : ''}` })),
 		form: await emptyForm(revisionSchema, {

@@ -1,0 +1,1 @@
+ALTER TABLE "revision" ADD COLUMN "expected_deviation_ire" double precision;
