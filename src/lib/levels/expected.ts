@@ -45,7 +45,7 @@ export function expectedGrade(
 	const versions = new Set(others.map((r) => r.report.rubricVersion));
 	if (versions.size > 1) return null;
 	const agg = aggregateRuns(others.map((r) => r.report as LevelReport));
-	// every run of the chip unterminated (not graded): nothing to predict from
+	// runs the engine does not grade (e.g. measured unterminated) leave nothing to expect
 	if (agg.band === null || agg.medianRunIndex === null) return null;
 	const otherConverters = new Set(others.filter((r) => r.converterId !== target.converterId).map((r) => r.converterId)).size;
 	const sameConverterRevisions = new Set(others.filter((r) => r.converterId === target.converterId).map((r) => r.revisionId)).size;

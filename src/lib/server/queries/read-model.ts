@@ -158,15 +158,27 @@ const priceNullsLast = sql`${converterCards.bestEur} asc nulls last`;
 
 export type CardOrder = CatalogueSort | 'finder';
 
-function orderFor(sort: CardOrder): SQL[] {
-	const band = [asc(converterCards.bandRank), desc(converterCards.score)];
+/**
+ * Rank of a card's expected grade (a prediction for revisions not yet measured, entry.expected;
+ * 5 when none), and the rank the band filter and sort use when the visitor includes expected
+ * grades: the better of measured and expected.
+ */
+const expectedRank = sql`coalesce(array_position(array['exact','close','fair','poor','failing']::text[], ${converterCards.entry} #>> '{expected,band}') - 1, 5)`;
+const rankWith = (includeExpected: boolean | undefined) =>
+	includeExpected ? sql`least(${converterCards.bandRank}, ${expectedRank})` : sql`${converterCards.bandRank}`;
+
+function orderFor(sort: CardOrder, includeExpected?: boolean): SQL[] {
+	// at the same band a measured grade goes before an expected one
+	const band = includeExpected
+		? [asc(rankWith(true)), asc(converterCards.bandRank), desc(converterCards.score)]
+		: [asc(converterCards.bandRank), desc(converterCards.score)];
 	switch (sort) {
 		case 'name':
 			return byName;
 		case 'price':
 			return [priceNullsLast, ...band, ...byName];
 		case 'finder':
-			return [asc(converterCards.bandRank), asc(converterCards.buyable), desc(converterCards.score), priceNullsLast, ...byName];
+			return [...(includeExpected ? [asc(rankWith(true))] : []), asc(converterCards.bandRank), asc(converterCards.buyable), desc(converterCards.score), priceNullsLast, ...byName];
 		default:
 			return [...band, priceNullsLast, ...byName];
 	}
@@ -175,7 +187,7 @@ function orderFor(sort: CardOrder): SQL[] {
 /** The SQL of a catalogue filter; prices compare as the visitor sees them (convertMinor's rounding). */
 function whereFor(view: Viewpoint, f: CatalogueFilter, rates: RatesPerEur): SQL {
 	const parts: (SQL | undefined)[] = [eq(converterCards.region, view.region)];
-	if (f.minBand) parts.push(sql`${converterCards.bandRank} <= ${bandRank(f.minBand)}`);
+	if (f.minBand) parts.push(sql`${rankWith(f.includeExpected)} <= ${bandRank(f.minBand)}`);
 	if (f.audio) parts.push(eq(converterCards.hasAudioOut, true));
 	if (f.power) parts.push(eq(converterCards.power, f.power));
 	if (f.inStock) parts.push(sql`${converterCards.inStockShops} > 0`);
@@ -229,7 +241,7 @@ export async function loadCataloguePage(
 				.select({ entry: converterCards.entry })
 				.from(converterCards)
 				.where(where)
-				.orderBy(...orderFor(filter.order ?? filter.sort ?? 'band'))
+				.orderBy(...orderFor(filter.order ?? filter.sort ?? 'band', filter.includeExpected))
 				.limit(opts.pageSize)
 				.offset((page - 1) * opts.pageSize)
 		: [];
@@ -269,7 +281,7 @@ export async function loadFinder(db: Db, view: Viewpoint, input: FinderInput): P
 	const { entries } = await loadCataloguePage(
 		db,
 		view,
-		{ order: 'finder', minBand: input.minBand, audio: input.needsAudio, inStock: input.inStockNow, priceMax: input.budgetMinor },
+		{ order: 'finder', minBand: input.minBand, audio: input.needsAudio, inStock: input.inStockNow, priceMax: input.budgetMinor, includeExpected: input.includeExpected },
 		{ pageSize: FINDER_LIMIT }
 	);
 	return rankFinder(entries, input);
