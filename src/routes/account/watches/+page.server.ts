@@ -24,6 +24,7 @@ import {
 } from '$lib/server/alerts/watches';
 import type { Actions, PageServerLoad } from './$types';
 import { formOr400 } from '$lib/server/http/body';
+import { PG_INT_MAX } from '$lib/server/http/numbers';
 
 export const load: PageServerLoad = async (event) => {
 	const user = requireRole(event, 'member');
@@ -81,7 +82,8 @@ function parseWatch(form: FormData) {
 
 function watchId(form: FormData): number | null {
 	const raw = String(form.get('id') ?? '');
-	return /^[1-9][0-9]{0,9}$/.test(raw) ? Number(raw) : null;
+	// Within PostgreSQL integer: a larger id would fail in the query, not here.
+	return /^[1-9][0-9]{0,9}$/.test(raw) && Number(raw) <= PG_INT_MAX ? Number(raw) : null;
 }
 
 export const actions: Actions = {
