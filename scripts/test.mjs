@@ -2,7 +2,8 @@
 // `npm test`: bootstrap like `npm start`, then vitest (unit + integration against a real
 // PostgreSQL, fake SMTP and fake shops) and Playwright against the built app.
 // Extra arguments pick parts: `npm test -- lint` (Prettier + ESLint), `npm test -- check`
-// (svelte-check), `npm test -- unit` (vitest) or `npm test -- e2e` (Playwright).
+// (svelte-check), `npm test -- unit` (vitest) or `npm test -- e2e` (Playwright). Any other
+// argument is a file filter handed to vitest or Playwright: `npm test -- e2e tests/e2e/guide.spec.ts`.
 import { mkdirSync, readFileSync, rmSync } from 'node:fs';
 import { resolve } from 'node:path';
 import { appEnv, profile, ROOT } from './lib/profiles.mjs';
@@ -14,7 +15,9 @@ import { ensureChromium, ensureDatabase, ensureJava, ensureNodeModules, startClu
 // true so `npm test` runs `npm run lint` first. `npm test -- lint` runs it either way.
 const LINT_IN_FULL_RUN = false;
 
-const parts = process.argv.slice(2);
+const PARTS = ['lint', 'check', 'unit', 'e2e'];
+const parts = process.argv.slice(2).filter((a) => PARTS.includes(a));
+const filters = process.argv.slice(2).filter((a) => !PARTS.includes(a));
 const want = (part) => (parts.length === 0 ? part !== 'lint' || LINT_IN_FULL_RUN : parts.includes(part));
 
 const p = profile('test');
@@ -93,7 +96,7 @@ async function main() {
 		log('vitest: unit and integration tests');
 		const out = resolve(artifacts, 'vitest.json');
 		try {
-			run(resolve(ROOT, 'node_modules/.bin/vitest'), ['run', '--reporter=default', '--reporter=json', `--outputFile.json=${out}`], { cwd: ROOT, env });
+			run(resolve(ROOT, 'node_modules/.bin/vitest'), ['run', '--reporter=default', '--reporter=json', `--outputFile.json=${out}`, ...filters], { cwd: ROOT, env });
 		} catch {
 			failed = true;
 		}
@@ -116,7 +119,7 @@ async function main() {
 		log('playwright: end-to-end tests in Debian\'s Chromium');
 		const out = resolve(artifacts, 'playwright.json');
 		try {
-			run(resolve(ROOT, 'node_modules/.bin/playwright'), ['test'], {
+			run(resolve(ROOT, 'node_modules/.bin/playwright'), ['test', ...filters], {
 				cwd: ROOT,
 				env: { ...e2eEnv, PLAYWRIGHT_JSON_OUTPUT_NAME: out }
 			});

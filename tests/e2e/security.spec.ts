@@ -103,6 +103,9 @@ test('pages carry a Content-Security-Policy, and the theme script still runs und
 	expect(csp).toContain("default-src 'self'");
 	expect(csp).toContain("object-src 'none'");
 	expect(csp).toContain("frame-ancestors 'none'");
+	// Hashes, never nonces: anonymous pages are cached and shared, and a nonce must not repeat.
+	expect(csp).not.toContain("'nonce-");
+	expect(csp).toMatch(/script-src[^;]*'sha256-/);
 	await expect(page.locator('html')).toHaveClass(/dark/);
 	await page.goto('/converters');
 	expect(errors).toEqual([]);
@@ -111,7 +114,7 @@ test('pages carry a Content-Security-Policy, and the theme script still runs und
 test('signed-in pages are not stored by caches; a foreign Origin cannot write through the JSON API', async ({ page }) => {
 	await signIn(page, `nostore-${Date.now()}@example.test`);
 	const res = await page.goto('/account');
-	expect(res?.headers()['cache-control']).toContain('no-store');
+	expect(res?.headers()['cache-control']).toBe('private, no-store');
 	const foreign = await page.request.post('/api/v1/watches', {
 		data: { converterSlug: 'anything' },
 		headers: { Origin: 'https://evil.example' }

@@ -152,7 +152,9 @@ export const pageCacheHandle: Handle = async ({ event, resolve }) => {
 		return response;
 	}
 	listen();
-	const key = keyOf(url, cookies, request.headers.get('accept-language'));
+	// The raw request URL, not event.url: SvelteKit strips `/__data.json` and
+	// `x-sveltekit-invalidated` from the latter, and a page and its data answer must not share a key.
+	const key = keyOf(new URL(request.url), cookies, request.headers.get('accept-language'));
 	const found = enabled ? cache.get(key) : undefined;
 	if (found) return answer(request, found, true, url, cookies);
 

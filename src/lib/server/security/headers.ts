@@ -1,5 +1,5 @@
 /**
- * Response headers every answer carries (pages, API, /auth/*, refusals), plus no-store on
+ * Response headers every answer carries (pages, API, /auth/*, refusals), plus `private, no-store` on
  * anything built for a signed-in user. The Content-Security-Policy itself comes from
  * `kit.csp` in svelte.config.js (SvelteKit adds nonces/hashes for its own scripts).
  * HSTS is the TLS proxy's job (see README, "Deployment behind TLS").
@@ -18,6 +18,6 @@ export function applySecurityHeaders(response: Response, signedIn: boolean): Res
 	headers.set('Referrer-Policy', 'strict-origin-when-cross-origin');
 	headers.set('X-Frame-Options', 'DENY');
 	headers.set('Cross-Origin-Opener-Policy', 'same-origin');
-	if (signedIn && (headers.get('content-type') ?? '').startsWith('text/html')) headers.set('Cache-Control', 'no-store');
+	if (signedIn && (headers.get('content-type') ?? '').startsWith('text/html')) headers.set('Cache-Control', 'private, no-store');
 	return response;
 }
