@@ -6,7 +6,9 @@ import { readFileSync } from 'node:fs';
 // app.html's one inline script (the theme, before first paint), allowed by its hash: hashes
 // rather than nonces because anonymous pages are cached and served to many visitors, and a
 // nonce must never be reused (CSP Level 3, section 7.2).
-const themeScript = readFileSync(new URL('./src/app.html', import.meta.url), 'utf8').match(/<script>([\s\S]*?)<\/script>/)?.[1];
+const themeScript = readFileSync(new URL('./src/app.html', import.meta.url), 'utf8').match(
+	/<script>([\s\S]*?)<\/script>/
+)?.[1];
 if (themeScript === undefined) throw new Error('src/app.html: the theme <script> is missing');
 const themeScriptHash = `sha256-${createHash('sha256').update(themeScript).digest('base64')}`;
 

@@ -7,12 +7,20 @@ import { removeUnattachedUploads } from '../src/lib/server/curate/uploads';
 import type { Storage } from '../src/lib/server/storage/index';
 
 export async function housekeeping(db: Database, now = new Date(), storage?: Storage) {
-	const expiredSessions = await db.delete(sessions).where(lt(sessions.expires, now)).returning({ t: sessions.sessionToken });
+	const expiredSessions = await db
+		.delete(sessions)
+		.where(lt(sessions.expires, now))
+		.returning({ t: sessions.sessionToken });
 	const expiredTokens = await db
 		.delete(verificationTokens)
 		.where(lt(verificationTokens.expires, now))
 		.returning({ t: verificationTokens.token });
 	const rateLimitRows = await pruneRateLimits(db, now);
 	const unattachedUploads = storage ? await removeUnattachedUploads(db, storage, now) : 0;
-	return { expiredSessions: expiredSessions.length, expiredTokens: expiredTokens.length, rateLimitRows, unattachedUploads };
+	return {
+		expiredSessions: expiredSessions.length,
+		expiredTokens: expiredTokens.length,
+		rateLimitRows,
+		unattachedUploads
+	};
 }

@@ -27,11 +27,17 @@ export async function startJobs(
 	extra: { poller?: PollerOptions; log?: (line: string) => void } = {}
 ): Promise<Jobs> {
 	const log = extra.log ?? ((l: string) => console.log(l));
-	const logError = (name: string) => (err: unknown) => console.error(`${name}: ${err instanceof Error ? err.message : err}`);
+	const logError = (name: string) => (err: unknown) =>
+		console.error(`${name}: ${err instanceof Error ? err.message : err}`);
 	// Polls due shop listings every 30 s; restocks write alert outbox rows in the same transaction.
 	// One quiet period (ALERT_QUIET_HOURS) for the poller's quiet flag and the alert matching.
 	const quietHours = quietHoursFromEnv(env);
-	const poller = schedulePoller(db, { onStockEvents: createAlertHook({ quietHours }), restockQuietMs: quietHours * 3_600_000, log, ...extra.poller });
+	const poller = schedulePoller(db, {
+		onStockEvents: createAlertHook({ quietHours }),
+		restockQuietMs: quietHours * 3_600_000,
+		log,
+		...extra.poller
+	});
 	const sendAlerts = senderTask(db, env);
 	const sendDigests = digestTask(db, env);
 	// One sender run at a time, whether the cron tick or a NOTIFY from the poller's commit asked for it.
@@ -51,10 +57,14 @@ export async function startJobs(
 
 	const tasks = [
 		poller.task,
-		cron.schedule('17 * * * *', () => housekeeping(db, new Date(), uploadStorage()).then((r) => log(`housekeeping: ${JSON.stringify(r)}`)), {
-			name: 'housekeeping',
-			noOverlap: true
-		}),
+		cron.schedule(
+			'17 * * * *',
+			() => housekeeping(db, new Date(), uploadStorage()).then((r) => log(`housekeeping: ${JSON.stringify(r)}`)),
+			{
+				name: 'housekeeping',
+				noOverlap: true
+			}
+		),
 		cron.schedule(env.SENDER_CRON || DEFAULT_SENDER_CRON, () => runSender(), { name: 'sender', noOverlap: true }),
 		cron.schedule(
 			env.DIGEST_CRON || DEFAULT_DIGEST_CRON,

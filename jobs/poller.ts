@@ -26,8 +26,12 @@ export function schedulePoller(db: Database, options: PollerOptions = {}): { tas
 			try {
 				const s = await poller.drain({ budgetMs: RUN_BUDGET_MS });
 				if (s.polled) {
-					const outcomes = Object.entries(s.byOutcome).map(([k, v]) => `${k} ${v}`).join(', ');
-					console.log(`poller: ${s.polled} polled in ${s.ms} ms (${outcomes}); ${s.changed} changed, ${s.events} stock events`);
+					const outcomes = Object.entries(s.byOutcome)
+						.map(([k, v]) => `${k} ${v}`)
+						.join(', ');
+					console.log(
+						`poller: ${s.polled} polled in ${s.ms} ms (${outcomes}); ${s.changed} changed, ${s.events} stock events`
+					);
 				}
 			} catch (err) {
 				// The database may be away for a moment; the next tick tries again and leases expire meanwhile.

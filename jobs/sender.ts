@@ -9,7 +9,13 @@
 import type { Database } from '../src/lib/server/db/client';
 import { createDb } from '../src/lib/server/db/client';
 import { smtpConfigFrom } from '../src/lib/server/mail/transport';
-import { createAlertTransport, sendDue, senderOptionsFromEnv, type SendReport, type SenderOptions } from '../src/lib/server/alerts/sender';
+import {
+	createAlertTransport,
+	sendDue,
+	senderOptionsFromEnv,
+	type SendReport,
+	type SenderOptions
+} from '../src/lib/server/alerts/sender';
 
 /**
  * Send batches until nothing due is left (or `maxBatches` passes); returns the summed report.
@@ -18,7 +24,12 @@ import { createAlertTransport, sendDue, senderOptionsFromEnv, type SendReport, t
  * connection count, and the messages sent but not yet marked stay within one ALERT_BATCH_SIZE (the
  * bound README's "at least once" gives for a crash).
  */
-export async function drainOutbox(db: Database, options: SenderOptions, maxBatches = 100, lanes = 2): Promise<SendReport> {
+export async function drainOutbox(
+	db: Database,
+	options: SenderOptions,
+	maxBatches = 100,
+	lanes = 2
+): Promise<SendReport> {
 	const total: SendReport = { claimed: 0, sent: 0, retried: 0, dead: 0, deferred: 0, skipped: 0, released: 0 };
 	const transport = options.transport ?? createAlertTransport(options.smtp, options.concurrency ?? 4);
 	const n = Math.max(1, Math.min(lanes, options.batchSize ?? 50));

@@ -39,6 +39,10 @@ export function serialRunner(task: () => Promise<unknown>, onError: (err: unknow
  * listening connection (notifications sent while it was away are not replayed). Returns unlisten.
  */
 export async function listenForOutbox(sql: postgres.Sql, wake: () => void): Promise<() => Promise<void>> {
-	const sub = await sql.listen(OUTBOX_CHANNEL, () => wake(), () => wake());
+	const sub = await sql.listen(
+		OUTBOX_CHANNEL,
+		() => wake(),
+		() => wake()
+	);
 	return () => sub.unlisten();
 }

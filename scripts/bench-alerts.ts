@@ -86,16 +86,33 @@ async function main() {
 	const { db, sql } = createDb(await freshDatabase(NAME), { max: 10 });
 	try {
 		await seedDemo(db, { shopsPort: 5610, historyDays: 0 });
-		const [conv] = await db.select({ id: t.converters.id }).from(t.converters).where(eq(t.converters.slug, 'vantacove-beam-bridge'));
-		const [listing] = await db.select({ id: t.listings.id, shopId: t.listings.shopId }).from(t.listings).where(eq(t.listings.converterId, conv.id)).limit(1);
+		const [conv] = await db
+			.select({ id: t.converters.id })
+			.from(t.converters)
+			.where(eq(t.converters.slug, 'vantacove-beam-bridge'));
+		const [listing] = await db
+			.select({ id: t.listings.id, shopId: t.listings.shopId })
+			.from(t.listings)
+			.where(eq(t.listings.converterId, conv.id))
+			.limit(1);
 
 		console.log(`creating ${WATCHERS} watchers…`);
 		for (let i = 0; i < WATCHERS; i += 2000) {
 			const users = await db
 				.insert(t.users)
-				.values(Array.from({ length: Math.min(2000, WATCHERS - i) }, (_, k) => ({ email: `bench-${i + k}@example.test` })))
+				.values(
+					Array.from({ length: Math.min(2000, WATCHERS - i) }, (_, k) => ({ email: `bench-${i + k}@example.test` }))
+				)
 				.returning({ id: t.users.id });
-			await db.insert(t.watches).values(users.map((u, k) => ({ userId: u.id, converterId: conv.id, minBand: (k % 3 === 0 ? 'close' : null) as t.Band | null })));
+			await db
+				.insert(t.watches)
+				.values(
+					users.map((u, k) => ({
+						userId: u.id,
+						converterId: conv.id,
+						minBand: (k % 3 === 0 ? 'close' : null) as t.Band | null
+					}))
+				);
 		}
 
 		// The restock: observation + stock event + matching, in one transaction, as the poller does.
@@ -104,10 +121,21 @@ async function main() {
 		let matchMs = 0;
 		await db.transaction(async (tx) => {
 			const at = new Date();
-			const [obs] = await tx.insert(t.observations).values({ listingId: listing.id, observedAt: at, priceMinor: 2399, currency: 'USD', stock: 'in_stock' }).returning({ id: t.observations.id });
+			const [obs] = await tx
+				.insert(t.observations)
+				.values({ listingId: listing.id, observedAt: at, priceMinor: 2399, currency: 'USD', stock: 'in_stock' })
+				.returning({ id: t.observations.id });
 			const [ev] = await tx
 				.insert(t.stockEvents)
-				.values({ listingId: listing.id, observationId: obs.id, kind: 'restock', at, priceMinor: 2399, currency: 'USD', previousStock: 'out_of_stock' })
+				.values({
+					listingId: listing.id,
+					observationId: obs.id,
+					kind: 'restock',
+					at,
+					priceMinor: 2399,
+					currency: 'USD',
+					previousStock: 'out_of_stock'
+				})
 				.returning();
 			const m0 = performance.now();
 			const [r] = await matchStockEvents(tx, [{ ...ev }], { quietHours: 12 });
@@ -135,12 +163,18 @@ async function smtpCeiling(count: number): Promise<number> {
 	const [row] = await db.select({ id: t.alertOutbox.id }).from(t.alertOutbox).limit(1);
 	const [ctx] = await loadOutboxContexts(db, [row.id], { baseUrl: senderBase.baseUrl, rates: {} });
 	const message = buildAlertMail(ctx, senderBase);
-	const bare = nodemailer.createTransport({ ...transportOptions(smtp), pool: true, maxConnections: CONCURRENCY, maxMessages: 500 });
+	const bare = nodemailer.createTransport({
+		...transportOptions(smtp),
+		pool: true,
+		maxConnections: CONCURRENCY,
+		maxMessages: 500
+	});
 	let next = 0;
 	const t0 = performance.now();
 	await Promise.all(
 		Array.from({ length: CONCURRENCY }, async () => {
-			for (let i = next++; i < count; i = next++) await bare.sendMail({ ...message, to: `ceiling-${i}@example.test`, messageId: undefined });
+			for (let i = next++; i < count; i = next++)
+				await bare.sendMail({ ...message, to: `ceiling-${i}@example.test`, messageId: undefined });
 		})
 	);
 	const rate = count / ((performance.now() - t0) / 1000);
@@ -154,7 +188,11 @@ const ceilingBefore = await smtpCeiling(ceilingCount);
 const transport = createAlertTransport(smtp, CONCURRENCY);
 const s0 = performance.now();
 // The jobs process's own drain (two lanes over one pooled transport).
-const { sent } = await drainOutbox(db, { ...senderBase, batchSize: BATCH, concurrency: CONCURRENCY, transport }, Infinity);
+const { sent } = await drainOutbox(
+	db,
+	{ ...senderBase, batchSize: BATCH, concurrency: CONCURRENCY, transport },
+	Infinity
+);
 const sendMs = performance.now() - s0;
 transport.close();
 const ceilingAfter = await smtpCeiling(ceilingCount);
@@ -165,9 +203,15 @@ await sql.end();
 console.log('');
 console.log(`watchers on one converter:          ${WATCHERS}`);
 console.log(`outbox rows written:                ${created}`);
-console.log(`restock event -> all outbox rows:   ${fanoutMs.toFixed(0)} ms (matching insert ${matchMs.toFixed(0)} ms, committed with the event)`);
-console.log(`messages through the fake SMTP:     ${sent} in ${(sendMs / 1000).toFixed(1)} s = ${senderRate.toFixed(0)} messages/s (concurrency ${CONCURRENCY}, batch ${BATCH})`);
-console.log(`SMTP ceiling (bare pooled client):  ${ceilingBefore.toFixed(0)} messages/s before, ${ceilingAfter.toFixed(0)} after (${ceilingCount} messages each, ${CONCURRENCY} connections)`);
+console.log(
+	`restock event -> all outbox rows:   ${fanoutMs.toFixed(0)} ms (matching insert ${matchMs.toFixed(0)} ms, committed with the event)`
+);
+console.log(
+	`messages through the fake SMTP:     ${sent} in ${(sendMs / 1000).toFixed(1)} s = ${senderRate.toFixed(0)} messages/s (concurrency ${CONCURRENCY}, batch ${BATCH})`
+);
+console.log(
+	`SMTP ceiling (bare pooled client):  ${ceilingBefore.toFixed(0)} messages/s before, ${ceilingAfter.toFixed(0)} after (${ceilingCount} messages each, ${CONCURRENCY} connections)`
+);
 console.log(`sender share of the SMTP ceiling: ${(senderRate / ceiling).toFixed(2)}`);
 
 // ---------------------------------------------------------------- end to end, default schedules
@@ -182,19 +226,29 @@ try {
 	const rows = await e2e.db
 		.select({ id: t.listings.id, url: t.listings.url, converterId: t.listings.converterId, shopId: t.listings.shopId })
 		.from(t.listings);
-	const demo = LISTINGS.map((l) => ({ ...l, row: rows.find((r) => r.url === shops.urls.shops[l.shop] + l.path)! })).filter((l) => l.row);
+	const demo = LISTINGS.map((l) => ({
+		...l,
+		row: rows.find((r) => r.url === shops.urls.shops[l.shop] + l.path)!
+	})).filter((l) => l.row);
 	const users = await e2e.db
 		.insert(t.users)
 		.values(demo.map((l) => ({ email: `e2e-${l.row.id}@example.test` })))
 		.returning({ id: t.users.id, email: t.users.email });
-	await e2e.db.insert(t.watches).values(demo.map((l, i) => ({ userId: users[i].id, converterId: l.row.converterId, shopIds: [l.row.shopId] })));
+	await e2e.db
+		.insert(t.watches)
+		.values(demo.map((l, i) => ({ userId: users[i].id, converterId: l.row.converterId, shopIds: [l.row.shopId] })));
 	await e2e.db.update(t.shops).set({ minSpacingMs: 0 });
 	const control = (body: unknown) =>
-		fetch(`${shops.urls.control}/listing`, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify(body) }).then((r) => r.json());
+		fetch(`${shops.urls.control}/listing`, {
+			method: 'POST',
+			headers: { 'content-type': 'application/json' },
+			body: JSON.stringify(body)
+		}).then((r) => r.json());
 	const setAll = async (stock: 'out_of_stock' | 'in_stock') => {
 		for (const l of demo) await control({ shop: l.shop, path: l.path, stock });
 	};
-	const makeDue = (ids: number[]) => e2e.db.update(t.listingStates).set({ nextPollAt: new Date() }).where(inArray(t.listingStates.listingId, ids));
+	const makeDue = (ids: number[]) =>
+		e2e.db.update(t.listingStates).set({ nextPollAt: new Date() }).where(inArray(t.listingStates.listingId, ids));
 
 	// Everything out of stock and known to be: one poll of everything before the jobs start.
 	await setAll('out_of_stock');
@@ -216,7 +270,8 @@ try {
 		DIGEST_CRON: ''
 	};
 	const jobs = await startJobs(e2e.db, e2e.sql, env, { log: () => {}, poller: { allowPrivate: true } });
-	const accepted = () => new Map(mail.messages.filter((m) => m.to.some((a) => a.startsWith('e2e-'))).map((m) => [m.to[0], m] as const));
+	const accepted = () =>
+		new Map(mail.messages.filter((m) => m.to.some((a) => a.startsWith('e2e-'))).map((m) => [m.to[0], m] as const));
 	try {
 		for (let round = 1; round <= ROUNDS; round++) {
 			if (round > 1) {
@@ -224,7 +279,15 @@ try {
 				await setAll('out_of_stock');
 				await makeDue(demo.map((l) => l.row.id));
 				for (let i = 0; i < 120; i++) {
-					const st = await e2e.db.select({ s: t.listingStates.currentStock }).from(t.listingStates).where(inArray(t.listingStates.listingId, demo.map((l) => l.row.id)));
+					const st = await e2e.db
+						.select({ s: t.listingStates.currentStock })
+						.from(t.listingStates)
+						.where(
+							inArray(
+								t.listingStates.listingId,
+								demo.map((l) => l.row.id)
+							)
+						);
 					if (st.every((x) => x.s === 'out_of_stock')) break;
 					await new Promise((r) => setTimeout(r, 1000));
 				}

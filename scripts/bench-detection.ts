@@ -45,7 +45,8 @@ function rng(seed: number) {
 }
 const random = rng(SEED);
 /** Log-normal draw with median `median` and log-sd `sd` (Box-Muller). */
-const logNormal = (median: number, sd: number) => median * Math.exp(sd * Math.sqrt(-2 * Math.log(1 - random())) * Math.cos(2 * Math.PI * random()));
+const logNormal = (median: number, sd: number) =>
+	median * Math.exp(sd * Math.sqrt(-2 * Math.log(1 - random())) * Math.cos(2 * Math.PI * random()));
 
 /** The stock patterns of the fake shops, as typical spell lengths. */
 const PATTERNS = {
@@ -87,7 +88,16 @@ function makeListings(): SimListing[] {
 			}
 			// About a quarter are watched, more often the ones that sell out; some have a good band.
 			const watched = random() < (pattern === 'mostlyIn' ? 0.1 : 0.3);
-			out.push({ id: id++, shopId: s, pattern, watched, goodBand: random() < 0.3, intervalMinutes: 60, flips, startsIn });
+			out.push({
+				id: id++,
+				shopId: s,
+				pattern,
+				watched,
+				goodBand: random() < 0.3,
+				intervalMinutes: 60,
+				flips,
+				startsIn
+			});
 		}
 	}
 	return out;
@@ -124,8 +134,22 @@ interface RunResult {
  * Poll the listings from `from` to `to` on the simulated clock. `plan` null = fixed schedule.
  * `measure` collects detection delays (watched listings) and request counts.
  */
-function run(listings: SimListing[], state: Map<number, Observed>, from: number, to: number, adaptive: boolean, measure: boolean): RunResult {
-	const res: RunResult = { delays: [], missed: 0, restocks: 0, requestsPerShopDay: Array(SHOPS).fill(0), maxPerShopHour: Array(SHOPS).fill(0), minGapMinutes: Infinity };
+function run(
+	listings: SimListing[],
+	state: Map<number, Observed>,
+	from: number,
+	to: number,
+	adaptive: boolean,
+	measure: boolean
+): RunResult {
+	const res: RunResult = {
+		delays: [],
+		missed: 0,
+		restocks: 0,
+		requestsPerShopDay: Array(SHOPS).fill(0),
+		maxPerShopHour: Array(SHOPS).fill(0),
+		minGapMinutes: Infinity
+	};
 	const perHour = new Map<string, number>();
 	const lastPoll = new Map<number, number>();
 	let plan = new Map<number, PlannedInterval>();
@@ -133,7 +157,14 @@ function run(listings: SimListing[], state: Map<number, Observed>, from: number,
 	const jitter = rng(SEED + 7);
 	for (let t = from; t < to; t += MIN) {
 		if (adaptive && t - planAt >= REPLAN_MS) {
-			const inputs: PlanInput[] = listings.map((l) => ({ listingId: l.id, shopId: l.shopId, intervalMinutes: l.intervalMinutes, watched: l.watched, goodBand: l.goodBand, points: state.get(l.id)!.points }));
+			const inputs: PlanInput[] = listings.map((l) => ({
+				listingId: l.id,
+				shopId: l.shopId,
+				intervalMinutes: l.intervalMinutes,
+				watched: l.watched,
+				goodBand: l.goodBand,
+				points: state.get(l.id)!.points
+			}));
 			plan = planIntervals(inputs, new Map(listings.map((l) => [l.id, state.get(l.id)!.lastBuyable])), new Date(t));
 			planAt = t;
 		}
@@ -150,7 +181,15 @@ function run(listings: SimListing[], state: Map<number, Observed>, from: number,
 				lastPoll.set(l.id, t);
 			}
 			if (o.lastBuyable !== seen.buyable) {
-				if (measure && l.watched && o.lastBuyable === false && seen.buyable && seen.since >= from && seen.since < to - DAY) res.delays.push((t - seen.since) / MIN);
+				if (
+					measure &&
+					l.watched &&
+					o.lastBuyable === false &&
+					seen.buyable &&
+					seen.since >= from &&
+					seen.since < to - DAY
+				)
+					res.delays.push((t - seen.since) / MIN);
 				o.points.push({ at: new Date(t), stock: seen.buyable ? 'in_stock' : 'out_of_stock' });
 				o.lastBuyable = seen.buyable;
 			}
@@ -186,17 +225,27 @@ const quantile = (xs: number[], q: number) => {
 };
 
 const listings = makeListings();
-const warm = new Map<number, Observed>(listings.map((l) => [l.id, { points: [], nextPollAt: T0 + random() * l.intervalMinutes * MIN, lastBuyable: null }]));
+const warm = new Map<number, Observed>(
+	listings.map((l) => [l.id, { points: [], nextPollAt: T0 + random() * l.intervalMinutes * MIN, lastBuyable: null }])
+);
 const start = T0 + WARMUP_DAYS * DAY;
 run(listings, warm, T0, start, false, false);
-const copy = () => new Map([...warm].map(([id, o]) => [id, { points: [...o.points], nextPollAt: o.nextPollAt, lastBuyable: o.lastBuyable }]));
+const copy = () =>
+	new Map(
+		[...warm].map(([id, o]) => [id, { points: [...o.points], nextPollAt: o.nextPollAt, lastBuyable: o.lastBuyable }])
+	);
 const end = start + MEASURE_DAYS * DAY;
 const fixed = run(listings, copy(), start, end, false, true);
 const adaptive = run(listings, copy(), start, end, true, true);
 
 const watched = listings.filter((l) => l.watched).length;
-console.log(`${SHOPS} shops x ${PER_SHOP} listings (${watched} watched), own interval 60 min; ${WARMUP_DAYS} days of history, then ${MEASURE_DAYS} days replayed; seed ${SEED}`);
-for (const [name, r] of [['fixed', fixed], ['adaptive', adaptive]] as const) {
+console.log(
+	`${SHOPS} shops x ${PER_SHOP} listings (${watched} watched), own interval 60 min; ${WARMUP_DAYS} days of history, then ${MEASURE_DAYS} days replayed; seed ${SEED}`
+);
+for (const [name, r] of [
+	['fixed', fixed],
+	['adaptive', adaptive]
+] as const) {
 	console.log(
 		`${name.padEnd(8)}: restock detection delay (watched listings) median ${quantile(r.delays, 0.5).toFixed(1)} min, p90 ${quantile(r.delays, 0.9).toFixed(1)} min; ` +
 			`${r.delays.length} of ${r.restocks} restocks seen, ${r.missed} missed (back and gone between polls)`
@@ -208,4 +257,6 @@ for (const [name, r] of [['fixed', fixed], ['adaptive', adaptive]] as const) {
 }
 const budgetShare = adaptive.requestsPerShopDay.map((n, i) => n / fixed.requestsPerShopDay[i]);
 console.log(`adaptive/fixed requests per shop: ${budgetShare.map((x) => x.toFixed(2)).join(', ')}`);
-console.log(`adaptive/fixed median delay: ${(quantile(adaptive.delays, 0.5) / quantile(fixed.delays, 0.5)).toFixed(2)}`);
+console.log(
+	`adaptive/fixed median delay: ${(quantile(adaptive.delays, 0.5) / quantile(fixed.delays, 0.5)).toFixed(2)}`
+);

@@ -28,7 +28,11 @@ const TARGET_RATIO = 4;
 
 const gc = (globalThis as { gc?: () => void }).gc ?? (() => {});
 const line = (what: string, fields: Record<string, string | number>) =>
-	console.log(`bench:levels ${what} ${Object.entries(fields).map(([k, v]) => `${k}=${v}`).join(' ')}`);
+	console.log(
+		`bench:levels ${what} ${Object.entries(fields)
+			.map(([k, v]) => `${k}=${v}`)
+			.join(' ')}`
+	);
 const fixed = (x: number, d = 2) => x.toFixed(d);
 
 /** The ceiling: split the text into lines and fields and parseFloat every field. */
@@ -84,7 +88,12 @@ function seededRuns(n: number): LevelInput[] {
 	return Array.from({ length: n }, () => ({
 		steps: Array.from({ length: 11 }, (_, k) => {
 			const e = 70 * k;
-			return { ire: 10 * k, r: Math.max(0, e + rnd() * 20), g: Math.max(0, e + rnd() * 20), b: Math.max(0, e + rnd() * 20) };
+			return {
+				ire: 10 * k,
+				r: Math.max(0, e + rnd() * 20),
+				g: Math.max(0, e + rnd() * 20),
+				b: Math.max(0, e + rnd() * 20)
+			};
 		})
 	}));
 }
@@ -97,7 +106,13 @@ function benchAnalyse() {
 		for (const r of runs) analyzeLevels(r);
 	});
 	const ceiling = best(() => bareParse(csv));
-	line('analyse', { runs: RUNS, ms: fixed(ms, 1), us_per_run: fixed((ms * 1000) / RUNS, 1), ceiling_ms: fixed(ceiling, 1), ratio: fixed(ms / ceiling) });
+	line('analyse', {
+		runs: RUNS,
+		ms: fixed(ms, 1),
+		us_per_run: fixed((ms * 1000) / RUNS, 1),
+		ceiling_ms: fixed(ceiling, 1),
+		ratio: fixed(ms / ceiling)
+	});
 }
 
 // ---------------------------------------------------------------- import in Node
@@ -163,7 +178,13 @@ async function benchImportNode(samples: number, text: string) {
 		target: `<=${TARGET_RATIO}`,
 		ok: ms / ceiling <= TARGET_RATIO ? 'yes' : 'no'
 	});
-	line('memory', { env: 'node', samples, peak_mb: fixed(peak / 1e6, 1), numbers_mb: fixed(numbersBytes / 1e6, 1), ratio: fixed(peak / numbersBytes) });
+	line('memory', {
+		env: 'node',
+		samples,
+		peak_mb: fixed(peak / 1e6, 1),
+		numbers_mb: fixed(numbersBytes / 1e6, 1),
+		ratio: fixed(peak / numbersBytes)
+	});
 }
 
 // ---------------------------------------------------------------- import in Chromium
@@ -213,19 +234,26 @@ async function benchImportBrowser(texts: Map<number, string>) {
 	});
 	const code = bundle.outputFiles[0].text;
 	const { chromium } = await import('playwright-core');
-	const browser = await chromium.launch({ executablePath: '/usr/bin/chromium', args: ['--headless', '--no-sandbox', '--disable-gpu', '--js-flags=--expose-gc'] });
+	const browser = await chromium.launch({
+		executablePath: '/usr/bin/chromium',
+		args: ['--headless', '--no-sandbox', '--disable-gpu', '--js-flags=--expose-gc']
+	});
 	try {
 		const page = await browser.newPage();
 		await page.route('http://bench.invalid/**', (route) => {
 			const url = new URL(route.request().url());
-			if (url.pathname === '/') return route.fulfill({ contentType: 'text/html', body: `<!doctype html><script>${code}</script>` });
+			if (url.pathname === '/')
+				return route.fulfill({ contentType: 'text/html', body: `<!doctype html><script>${code}</script>` });
 			const n = Number(url.pathname.slice(1));
 			return route.fulfill({ contentType: 'text/csv', body: texts.get(n) ?? '' });
 		});
 		await page.goto('http://bench.invalid/');
 		for (const [samples] of texts) {
 			// Plain JavaScript text: functions passed to evaluate() would carry tsx's helpers.
-			const r = (await page.evaluate(`(${IN_PAGE})(${samples}, ${roundsFor(samples)})`)) as { ms: number; ceiling: number };
+			const r = (await page.evaluate(`(${IN_PAGE})(${samples}, ${roundsFor(samples)})`)) as {
+				ms: number;
+				ceiling: number;
+			};
 			line('import', {
 				env: 'chromium',
 				samples,

@@ -51,7 +51,11 @@ async function prepare() {
 function build(out: string) {
 	if (process.env.BENCH_SKIP_BUILD && existsSync(resolve(out, 'handler.js'))) return;
 	console.log('building the app…');
-	const r = spawnSync('npm', ['run', 'build', '--silent'], { cwd: ROOT, env: { ...process.env, SG_BUILD_DIR: out }, stdio: ['ignore', 'ignore', 'inherit'] });
+	const r = spawnSync('npm', ['run', 'build', '--silent'], {
+		cwd: ROOT,
+		env: { ...process.env, SG_BUILD_DIR: out },
+		stdio: ['ignore', 'ignore', 'inherit']
+	});
 	if (r.status !== 0) throw new Error('build failed');
 }
 
@@ -79,14 +83,25 @@ async function main() {
 		build(out);
 		app = spawn(process.execPath, [resolve(ROOT, 'scripts/serve.mjs'), out], {
 			cwd: ROOT,
-			env: { ...process.env, DATABASE_URL: url, HOST: '127.0.0.1', PORT: String(PORT), ORIGIN: origin, AUTH_SECRET: 'bench-secret-not-for-production-0123456789', NODE_ENV: 'production' },
+			env: {
+				...process.env,
+				DATABASE_URL: url,
+				HOST: '127.0.0.1',
+				PORT: String(PORT),
+				ORIGIN: origin,
+				AUTH_SECRET: 'bench-secret-not-for-production-0123456789',
+				NODE_ENV: 'production'
+			},
 			stdio: ['ignore', 'ignore', 'inherit']
 		});
 		await waitFor(`${origin}/robots.txt`);
 		const slug = CONVERTERS.find((c) => c.slug === 'brisling-scanlet')?.slug ?? CONVERTERS[0].slug;
 		const pages = ['/converters', `/converters/${slug}`];
 		for (const path of pages) await fetch(origin + path); // warm the page cache and the cards
-		chrome = await chromeLauncher.launch({ chromePath: CHROME, chromeFlags: ['--headless=new', '--no-sandbox', '--disable-gpu', '--disable-dev-shm-usage'] });
+		chrome = await chromeLauncher.launch({
+			chromePath: CHROME,
+			chromeFlags: ['--headless=new', '--no-sandbox', '--disable-gpu', '--disable-dev-shm-usage']
+		});
 		for (const path of pages) {
 			const result = await lighthouse(origin + path, { port: chrome.port, output: 'json', logLevel: 'error' });
 			if (!result) throw new Error(`lighthouse gave no result for ${path}`);
@@ -94,11 +109,15 @@ async function main() {
 			const score = (k: string) => Math.round((c[k]?.score ?? 0) * 100);
 			console.log(`${path} performance ${score('performance')}`);
 			console.log(`${path} total-blocking-time ${Math.round(a['total-blocking-time'].numericValue ?? 0)} ms`);
-			console.log(`${path} largest-contentful-paint ${((a['largest-contentful-paint'].numericValue ?? 0) / 1000).toFixed(2)} s`);
+			console.log(
+				`${path} largest-contentful-paint ${((a['largest-contentful-paint'].numericValue ?? 0) / 1000).toFixed(2)} s`
+			);
 			console.log(`${path} accessibility ${score('accessibility')}`);
 			console.log(`${path} best-practices ${score('best-practices')}`);
 			console.log(`${path} seo ${score('seo')}`);
-			const failing = Object.values(a).filter((x) => x.score !== null && x.score < 1 && x.scoreDisplayMode === 'binary').map((x) => x.id);
+			const failing = Object.values(a)
+				.filter((x) => x.score !== null && x.score < 1 && x.scoreDisplayMode === 'binary')
+				.map((x) => x.id);
 			if (failing.length) console.log(`${path} failing audits: ${failing.join(', ')}`);
 		}
 	} finally {

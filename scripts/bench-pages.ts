@@ -63,7 +63,8 @@ async function load() {
 	try {
 		await loadBenchCatalogue(sql, { converters: CONVERTERS, per: PER });
 		await sql`analyze`;
-		const [counts] = await sql`select (select count(*)::int from converter) converters, (select count(*)::int from listing) listings, (select count(*)::int from observation) observations, (select count(*)::int from stock_event) restocks`;
+		const [counts] =
+			await sql`select (select count(*)::int from converter) converters, (select count(*)::int from listing) listings, (select count(*)::int from observation) observations, (select count(*)::int from stock_event) restocks`;
 		console.log(`loaded ${JSON.stringify(counts)} in ${((Date.now() - t0) / 1000).toFixed(1)} s`);
 	} finally {
 		await sql.end();
@@ -73,7 +74,11 @@ async function load() {
 function build(out: string) {
 	if (process.env.BENCH_SKIP_BUILD && existsSync(resolve(out, 'index.js'))) return;
 	console.log('building the app…');
-	const r = spawnSync('npm', ['run', 'build', '--silent'], { cwd: ROOT, env: { ...process.env, SG_BUILD_DIR: out }, stdio: ['ignore', 'ignore', 'inherit'] });
+	const r = spawnSync('npm', ['run', 'build', '--silent'], {
+		cwd: ROOT,
+		env: { ...process.env, SG_BUILD_DIR: out },
+		stdio: ['ignore', 'ignore', 'inherit']
+	});
 	if (r.status !== 0) throw new Error('build failed');
 }
 
@@ -109,10 +114,18 @@ interface Result {
 
 function cannon(target: string): Promise<Result> {
 	return new Promise((resolveRun, reject) => {
-		autocannon({ url: target, connections: 32, duration: SECONDS, pipelining: 1, timeout: 30 }, (err: Error | null, res: autocannon.Result) => {
-			if (err) return reject(err);
-			resolveRun({ rps: res.requests.average, p50: res.latency.p50, p99: res.latency.p99, errors: res.errors + res.non2xx });
-		});
+		autocannon(
+			{ url: target, connections: 32, duration: SECONDS, pipelining: 1, timeout: 30 },
+			(err: Error | null, res: autocannon.Result) => {
+				if (err) return reject(err);
+				resolveRun({
+					rps: res.requests.average,
+					p50: res.latency.p50,
+					p99: res.latency.p99,
+					errors: res.errors + res.non2xx
+				});
+			}
+		);
 	});
 }
 
@@ -123,7 +136,10 @@ function cannon(target: string): Promise<Result> {
  */
 async function shippedJs(base: string, path: string) {
 	const { chromium } = await import('playwright-core');
-	const browser = await chromium.launch({ executablePath: '/usr/bin/chromium', args: ['--headless', '--no-sandbox', '--disable-gpu'] });
+	const browser = await chromium.launch({
+		executablePath: '/usr/bin/chromium',
+		args: ['--headless', '--no-sandbox', '--disable-gpu']
+	});
 	try {
 		const page = await browser.newPage();
 		const bodies: Promise<Buffer>[] = [];
@@ -160,7 +176,16 @@ function startApp(out: string, port: number, cache: boolean) {
 	const origin = `http://127.0.0.1:${port}`;
 	const child = spawn(process.execPath, [resolve(ROOT, 'scripts/serve.mjs'), out], {
 		cwd: ROOT,
-		env: { ...process.env, DATABASE_URL: url, HOST: '127.0.0.1', PORT: String(port), ORIGIN: origin, AUTH_SECRET: 'bench-secret-not-for-production-0123456789', NODE_ENV: 'production', PAGE_CACHE: cache ? 'on' : 'off' },
+		env: {
+			...process.env,
+			DATABASE_URL: url,
+			HOST: '127.0.0.1',
+			PORT: String(port),
+			ORIGIN: origin,
+			AUTH_SECRET: 'bench-secret-not-for-production-0123456789',
+			NODE_ENV: 'production',
+			PAGE_CACHE: cache ? 'on' : 'off'
+		},
 		stdio: ['ignore', 'ignore', 'inherit']
 	});
 	return { origin, child };
@@ -183,7 +208,9 @@ async function measure(origin: string, cache: boolean) {
 		await drain(origin);
 	}
 	const line = (label: string, r: Result) =>
-		console.log(`${(label + tag).padEnd(36)} ${r.rps.toFixed(1).padStart(9)} req/s   p50 ${String(r.p50).padStart(5)} ms   p99 ${String(r.p99).padStart(5)} ms${r.errors ? `   (${r.errors} errors/non-2xx)` : ''}`);
+		console.log(
+			`${(label + tag).padEnd(36)} ${r.rps.toFixed(1).padStart(9)} req/s   p50 ${String(r.p50).padStart(5)} ms   p99 ${String(r.p99).padStart(5)} ms${r.errors ? `   (${r.errors} errors/non-2xx)` : ''}`
+		);
 	line('static /robots.txt', results.static);
 	for (const [label] of TARGETS) line(label, results[label]);
 	// One line per figure, for scripts: `<url> rps x<ratio>` (and p99 in ms).
@@ -206,7 +233,9 @@ async function afterInvalidation(origin: string) {
 			const t = performance.now();
 			const res = await fetch(origin + path);
 			await res.arrayBuffer();
-			console.log(`${label} first request after an invalidation ${Math.round(performance.now() - t)} ms (${res.headers.get('x-page-cache')})`);
+			console.log(
+				`${label} first request after an invalidation ${Math.round(performance.now() - t)} ms (${res.headers.get('x-page-cache')})`
+			);
 		}
 	} finally {
 		await sql.end();
@@ -232,9 +261,13 @@ async function main() {
 					console.log(`${label} bytes on the wire ${w.bytes} (${w.encoding})`);
 				}
 				const js = await shippedJs(app.origin, '/converters');
-				console.log(`\nJavaScript shipped to /converters: ${js.files} files, ${js.raw} bytes, ${js.gz} bytes gzip; chart code included: ${js.chart ? 'yes' : 'no'}`);
+				console.log(
+					`\nJavaScript shipped to /converters: ${js.files} files, ${js.raw} bytes, ${js.gz} bytes gzip; chart code included: ${js.chart ? 'yes' : 'no'}`
+				);
 				const jsDetail = await shippedJs(app.origin, '/converters/bench-box-42');
-				console.log(`JavaScript on a converter page before any section is opened: ${jsDetail.files} files, ${jsDetail.gz} bytes gzip; chart code included: ${jsDetail.chart ? 'yes' : 'no'}\n`);
+				console.log(
+					`JavaScript on a converter page before any section is opened: ${jsDetail.files} files, ${jsDetail.gz} bytes gzip; chart code included: ${jsDetail.chart ? 'yes' : 'no'}\n`
+				);
 			}
 			app.child.kill('SIGTERM');
 			await new Promise((r) => app!.child.once('exit', r));

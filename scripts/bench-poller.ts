@@ -24,7 +24,15 @@ import { startCluster, stopCluster } from './lib/bootstrap.mjs';
 import { createDb } from '../src/lib/server/db/client';
 import { applyMigrations } from '../src/lib/server/db/migrate';
 import { seedDemo } from '../src/lib/server/db/seed';
-import { converters, listingStates, listings, observations, pollCounts, shops, stockEvents } from '../src/lib/server/db/schema';
+import {
+	converters,
+	listingStates,
+	listings,
+	observations,
+	pollCounts,
+	shops,
+	stockEvents
+} from '../src/lib/server/db/schema';
 import { SHOPS, SHOP_API_MAPPINGS, SHOP_SELECTORS } from '../src/lib/demo/scenario';
 import { createPoller, ShopGate, type RunSummary } from '../src/lib/server/polling';
 import { extractOffer } from '../src/lib/feeds';
@@ -49,7 +57,10 @@ async function startShops(): Promise<FakeShops> {
  * every page and its offer (extractOffer, as a poll must), `conditional()` asks again with the
  * validators the last full read got. Each returns requests per second.
  */
-function bareClient(rows: Array<{ shopId: number; url: string; format: (typeof shops.$inferSelect)['defaultFormat'] }>, created: Array<{ id: number; slug: string }>) {
+function bareClient(
+	rows: Array<{ shopId: number; url: string; format: (typeof shops.$inferSelect)['defaultFormat'] }>,
+	created: Array<{ id: number; slug: string }>
+) {
 	const gate = new ShopGate();
 	const limits = { maxConcurrency: CONCURRENCY, minSpacingMs: SPACING_MS };
 	const demo = new Map(SHOPS.map((s) => [`${BENCH_PREFIX}${s.slug}`, s]));
@@ -65,7 +76,14 @@ function bareClient(rows: Array<{ shopId: number; url: string; format: (typeof s
 					const body = await res.text();
 					if (res.status === 200) {
 						const s = shopOf.get(r.shopId)!;
-						extractOffer({ body, contentType: res.headers.get('content-type') ?? undefined, format: r.format, selectors: SHOP_SELECTORS[s.slug], apiMapping: SHOP_API_MAPPINGS[s.slug], expectedCurrency: s.currency });
+						extractOffer({
+							body,
+							contentType: res.headers.get('content-type') ?? undefined,
+							format: r.format,
+							selectors: SHOP_SELECTORS[s.slug],
+							apiMapping: SHOP_API_MAPPINGS[s.slug],
+							expectedCurrency: s.currency
+						});
 						if (res.headers.get('etag')) etags.set(r.url, res.headers.get('etag')!);
 					}
 				})
@@ -104,7 +122,8 @@ async function main() {
 	try {
 		await applyMigrations(url);
 		// Converters are all the bench needs from the demo; a database that has some keeps its own.
-		if (!(await main.db.select({ id: converters.id }).from(converters).limit(1)).length) await seedDemo(main.db, { shopsPort, historyDays: 0 });
+		if (!(await main.db.select({ id: converters.id }).from(converters).limit(1)).length)
+			await seedDemo(main.db, { shopsPort, historyDays: 0 });
 		const convIds = (await main.db.select({ id: converters.id }).from(converters)).map((c) => c.id);
 		// Bench shops mirror the demo shops' formats and feed configs, pointing at this run's fake shops.
 		const created = await main.db
@@ -118,7 +137,12 @@ async function main() {
 					shipsTo: s.shipsTo,
 					baseUrl: fake.urls.shops[s.slug],
 					defaultFormat: s.format,
-					feedConfig: s.format === 'api' ? { apiMapping: SHOP_API_MAPPINGS[s.slug] } : SHOP_SELECTORS[s.slug] ? { selectors: SHOP_SELECTORS[s.slug] } : {},
+					feedConfig:
+						s.format === 'api'
+							? { apiMapping: SHOP_API_MAPPINGS[s.slug] }
+							: SHOP_SELECTORS[s.slug]
+								? { selectors: SHOP_SELECTORS[s.slug] }
+								: {},
 					maxConcurrency: CONCURRENCY,
 					minSpacingMs: SPACING_MS
 				}))
@@ -133,20 +157,34 @@ async function main() {
 			.returning({ id: listings.id });
 		const rows = Array.from({ length: N }, (_, i) => {
 			const s = created[i % created.length];
-			return { shopId: s.id, converterId: convIds[i % convIds.length], url: `${s.baseUrl}/bench/${i}`, format: s.format, pollIntervalMinutes: 60 };
+			return {
+				shopId: s.id,
+				converterId: convIds[i % convIds.length],
+				url: `${s.baseUrl}/bench/${i}`,
+				format: s.format,
+				pollIntervalMinutes: 60
+			};
 		});
 		const start = new Date();
 		for (let i = 0; i < rows.length; i += 1000) {
-			const ids = await main.db.insert(listings).values(rows.slice(i, i + 1000)).returning({ id: listings.id });
+			const ids = await main.db
+				.insert(listings)
+				.values(rows.slice(i, i + 1000))
+				.returning({ id: listings.id });
 			await main.db.insert(listingStates).values(ids.map(({ id }) => ({ listingId: id, nextPollAt: start })));
 		}
 
 		let t = start.getTime();
 		const clock = () => new Date(t);
 		const pools = Array.from({ length: WORKERS }, () => createDb(url, { max: 10 }));
-		const pollers = pools.map((p, i) => createPoller(p.db, { workerId: `bench-${i}`, clock, allowPrivate: true, random: () => 0.5, claimLimit: 200 }));
+		const pollers = pools.map((p, i) =>
+			createPoller(p.db, { workerId: `bench-${i}`, clock, allowPrivate: true, random: () => 0.5, claimLimit: 200 })
+		);
 
-		const perShop = SPACING_MS > 0 ? Math.min(CONCURRENCY / (LATENCY_MS / 1000), 1000 / SPACING_MS) : CONCURRENCY / (LATENCY_MS / 1000);
+		const perShop =
+			SPACING_MS > 0
+				? Math.min(CONCURRENCY / (LATENCY_MS / 1000), 1000 / SPACING_MS)
+				: CONCURRENCY / (LATENCY_MS / 1000);
 		const politeness = created.length * perShop;
 		// What this machine can do right now within the same manners: a bare client with the same per-shop
 		// gate fetches and reads every page (no database), once in full and once with the validators it got.
@@ -170,7 +208,8 @@ async function main() {
 			const after = await rowCounts(main.db, shopIds);
 			const polled = results.reduce((n, r) => n + r.polled, 0);
 			const outcomes: Record<string, number> = {};
-			for (const r of results) for (const [k, v] of Object.entries(r.byOutcome)) outcomes[k] = (outcomes[k] ?? 0) + (v ?? 0);
+			for (const r of results)
+				for (const [k, v] of Object.entries(r.byOutcome)) outcomes[k] = (outcomes[k] ?? 0) + (v ?? 0);
 			const rate = polled / secs;
 			// Measured again after the pass and averaged, so load that comes and goes on this shared
 			// machine weighs on the ceiling as it did on the pass.
@@ -193,10 +232,24 @@ async function main() {
 		for (const p of pools) await p.sql.end({ timeout: 5 });
 		if (!cluster) {
 			// Someone else's database: take the bench rows out again.
-			const benchShopIds = (await main.db.select({ id: shops.id }).from(shops).where(like(shops.slug, `${BENCH_PREFIX}%`))).map((s) => s.id);
+			const benchShopIds = (
+				await main.db
+					.select({ id: shops.id })
+					.from(shops)
+					.where(like(shops.slug, `${BENCH_PREFIX}%`))
+			).map((s) => s.id);
 			await main.db.delete(listings).where(inArray(listings.shopId, benchShopIds));
 			await main.db.delete(shops).where(inArray(shops.id, benchShopIds));
-			if (paused.length) await main.db.update(listings).set({ active: true }).where(inArray(listings.id, paused.map((l) => l.id)));
+			if (paused.length)
+				await main.db
+					.update(listings)
+					.set({ active: true })
+					.where(
+						inArray(
+							listings.id,
+							paused.map((l) => l.id)
+						)
+					);
 		}
 	} finally {
 		await main.sql.end({ timeout: 5 });

@@ -14,7 +14,9 @@ try {
 	const db = drizzle(sql, { schema });
 	const done = await db.transaction((tx) => regradeStaleReports(tx));
 	if (done.runs || done.revisions)
-		console.log(`level reports regraded: ${done.runs} bench runs, ${done.revisions} revisions, ${done.bandChanges} band changes`);
+		console.log(
+			`level reports regraded: ${done.runs} bench runs, ${done.revisions} revisions, ${done.bandChanges} band changes`
+		);
 } finally {
 	await sql.end();
 }

@@ -9,7 +9,9 @@ try {
 	const added = await seedDemo(db, { shopsPort: Number(process.env.SHOPS_PORT || 4310), storage });
 	const total = await countRows(db);
 	const addedAny = Object.values(added).some((n) => n > 0);
-	console.log(addedAny ? `demo scenario loaded: ${JSON.stringify(added)}` : 'demo scenario already loaded: nothing changed');
+	console.log(
+		addedAny ? `demo scenario loaded: ${JSON.stringify(added)}` : 'demo scenario already loaded: nothing changed'
+	);
 	console.log(`rows now: ${JSON.stringify(total)}`);
 } finally {
 	await sql.end();

@@ -8,7 +8,14 @@ import { mkdirSync, readFileSync, rmSync } from 'node:fs';
 import { resolve } from 'node:path';
 import { appEnv, profile, ROOT } from './lib/profiles.mjs';
 import { log, portIsFree, run, startService, stopAll, waitForHttp } from './lib/run.mjs';
-import { ensureChromium, ensureDatabase, ensureJava, ensureNodeModules, startCluster, stopCluster } from './lib/bootstrap.mjs';
+import {
+	ensureChromium,
+	ensureDatabase,
+	ensureJava,
+	ensureNodeModules,
+	startCluster,
+	stopCluster
+} from './lib/bootstrap.mjs';
 
 // The switch for lint in a plain `npm test`: off until the whole tree has been through
 // `npm run format` once (one commit, after the parallel branches have landed); then set it to
@@ -21,7 +28,11 @@ const filters = process.argv.slice(2).filter((a) => !PARTS.includes(a));
 const want = (part) => (parts.length === 0 ? part !== 'lint' || LINT_IN_FULL_RUN : parts.includes(part));
 
 const p = profile('test');
-const e2e = { ...p, database: 'scopegrade_e2e', databaseUrl: p.databaseUrl.replace(/\/scopegrade_test$/, '/scopegrade_e2e') };
+const e2e = {
+	...p,
+	database: 'scopegrade_e2e',
+	databaseUrl: p.databaseUrl.replace(/\/scopegrade_test$/, '/scopegrade_e2e')
+};
 const artifacts = resolve(ROOT, 'tests', 'artifacts');
 const children = [];
 let failed = false;
@@ -96,7 +107,11 @@ async function main() {
 		log('vitest: unit and integration tests');
 		const out = resolve(artifacts, 'vitest.json');
 		try {
-			run(resolve(ROOT, 'node_modules/.bin/vitest'), ['run', '--reporter=default', '--reporter=json', `--outputFile.json=${out}`, ...filters], { cwd: ROOT, env });
+			run(
+				resolve(ROOT, 'node_modules/.bin/vitest'),
+				['run', '--reporter=default', '--reporter=json', `--outputFile.json=${out}`, ...filters],
+				{ cwd: ROOT, env }
+			);
 		} catch {
 			failed = true;
 		}
@@ -115,8 +130,10 @@ async function main() {
 		run(tsx, ['scripts/migrate.ts'], { cwd: ROOT, env: e2eEnv });
 		run(tsx, ['scripts/seed.ts'], { cwd: ROOT, env: e2eEnv });
 		// The jobs process (poller, alert sender, digest) for journeys that need it; the sender runs every 2 s.
-		children.push(startService('jobs', tsx, ['jobs/index.ts'], { cwd: ROOT, env: { ...e2eEnv, SENDER_CRON: '*/2 * * * * *' } }));
-		log('playwright: end-to-end tests in Debian\'s Chromium');
+		children.push(
+			startService('jobs', tsx, ['jobs/index.ts'], { cwd: ROOT, env: { ...e2eEnv, SENDER_CRON: '*/2 * * * * *' } })
+		);
+		log("playwright: end-to-end tests in Debian's Chromium");
 		const out = resolve(artifacts, 'playwright.json');
 		try {
 			run(resolve(ROOT, 'node_modules/.bin/playwright'), ['test', ...filters], {

@@ -12,7 +12,10 @@ import { pageCacheHandle } from '$lib/server/page-cache';
 /** Refuse cross-site form posts (see $lib/server/csrf for the one exemption) and foreign-origin API writes. */
 const originCheck: Handle = async ({ event, resolve }) => {
 	if (isForbiddenCrossSiteForm(event.request, event.url)) {
-		return applySecurityHeaders(new Response(`Cross-site ${event.request.method} form submissions are forbidden`, { status: 403 }), false);
+		return applySecurityHeaders(
+			new Response(`Cross-site ${event.request.method} form submissions are forbidden`, { status: 403 }),
+			false
+		);
 	}
 	if (isForeignOriginApiWrite(event.request, event.url)) {
 		return applySecurityHeaders(problem(403, 'Requests that change data must come from this site.'), false);
@@ -44,4 +47,12 @@ const securityHeaders: Handle = async ({ event, resolve }) => {
 	return applySecurityHeaders(response, Boolean(event.locals.user) || event.url.pathname.startsWith('/auth/'));
 };
 
-export const handle = sequence(pageCacheHandle, originCheck, securityHeaders, inputGuard, authEndpointLimit, authHandle, userHandle);
+export const handle = sequence(
+	pageCacheHandle,
+	originCheck,
+	securityHeaders,
+	inputGuard,
+	authEndpointLimit,
+	authHandle,
+	userHandle
+);

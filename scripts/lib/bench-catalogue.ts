@@ -22,7 +22,8 @@ export async function loadBenchCatalogue(sql: Sql, o: BenchCatalogueOptions): Pr
 	const points = o.historyPoints ?? 41;
 	const [{ chips }] = await sql<{ chips: number }[]>`select count(*)::int as chips from chip`;
 	if (chips === 0) {
-		for (const c of CHIPS) await sql`insert into chip (slug, name, maker, notes) values (${c.slug}, ${c.name}, ${c.maker}, ${c.notes})`;
+		for (const c of CHIPS)
+			await sql`insert into chip (slug, name, maker, notes) values (${c.slug}, ${c.name}, ${c.maker}, ${c.notes})`;
 		for (const s of SHOPS)
 			await sql`
 				insert into shop (slug, name, region, currency, ships_to, base_url, default_format)
@@ -59,19 +60,47 @@ export async function loadBenchCatalogue(sql: Sql, o: BenchCatalogueOptions): Pr
 			const i = batch[k];
 			for (let r = 0; r < (i % 3 === 0 ? 2 : 1); r++) {
 				const g = graded[(i + r) % graded.length];
-				revs.push({ converter_id: c.id, code: String.fromCharCode(65 + r), chip_id: chipId.get(g.chip), band: g.report.band, score: g.report.score, score_min: g.report.score, score_max: g.report.score, run_count: 1, rubric_version: g.report.rubricVersion, graded_at: new Date().toISOString() });
+				revs.push({
+					converter_id: c.id,
+					code: String.fromCharCode(65 + r),
+					chip_id: chipId.get(g.chip),
+					band: g.report.band,
+					score: g.report.score,
+					score_min: g.report.score,
+					score_max: g.report.score,
+					run_count: 1,
+					rubric_version: g.report.rubricVersion,
+					graded_at: new Date().toISOString()
+				});
 			}
 		});
-		const revRows = await sql<{ id: number; chip_id: number }[]>`insert into revision ${sql(revs as never)} returning id, chip_id`;
+		const revRows = await sql<
+			{ id: number; chip_id: number }[]
+		>`insert into revision ${sql(revs as never)} returning id, chip_id`;
 		const byChip = new Map(graded.map((g) => [chipId.get(g.chip)!, g]));
 		const runs = revRows.map((r) => {
 			const g = byChip.get(r.chip_id)!;
-			return { revision_id: r.id, status: 'accepted', measured_by: 'Bench generator', measured_on: '2026-01-15', test_source: 'generated', instrument: 'generated', report: JSON.stringify(g.report), band: g.report.band, score: g.report.score, rubric_version: g.report.rubricVersion };
+			return {
+				revision_id: r.id,
+				status: 'accepted',
+				measured_by: 'Bench generator',
+				measured_on: '2026-01-15',
+				test_source: 'generated',
+				instrument: 'generated',
+				report: JSON.stringify(g.report),
+				band: g.report.band,
+				score: g.report.score,
+				rubric_version: g.report.rubricVersion
+			};
 		});
-		const runRows = await sql<{ id: number; revision_id: number }[]>`insert into bench_run ${sql(runs as never)} returning id, revision_id`;
+		const runRows = await sql<
+			{ id: number; revision_id: number }[]
+		>`insert into bench_run ${sql(runs as never)} returning id, revision_id`;
 		const chipOfRev = new Map(revRows.map((r) => [r.id, r.chip_id]));
 		const readings = runRows.flatMap((run) =>
-			byChip.get(chipOfRev.get(run.revision_id)!)!.readings.map((s) => ({ bench_run_id: run.id, ire: s.ire, r_mv: s.r, g_mv: s.g, b_mv: s.b }))
+			byChip
+				.get(chipOfRev.get(run.revision_id)!)!
+				.readings.map((s) => ({ bench_run_id: run.id, ire: s.ire, r_mv: s.r, g_mv: s.g, b_mv: s.b }))
 		);
 		await sql`insert into bench_reading ${sql(readings as never)}`;
 	}

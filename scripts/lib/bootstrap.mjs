@@ -10,7 +10,9 @@ const isRoot = process.getuid?.() === 0;
 /** Install Debian packages that are missing (needs root, as on our machines and CI). */
 function aptInstall(packages) {
 	if (!isRoot) {
-		throw new Error(`missing system packages: ${packages.join(' ')}. Install them (sudo apt-get install -y ${packages.join(' ')}) and run again.`);
+		throw new Error(
+			`missing system packages: ${packages.join(' ')}. Install them (sudo apt-get install -y ${packages.join(' ')}) and run again.`
+		);
 	}
 	log(`installing ${packages.join(', ')} from Debian's packages (first run only)…`);
 	run('apt-get', ['update', '-qq']);
@@ -85,8 +87,17 @@ export async function startCluster(p, { fast = false } = {}) {
 		chownToPostgres(p.pgDataDir);
 		chownToPostgres(pwfile);
 		const r = pgExec(bin, 'initdb', [
-			'-D', p.pgDataDir, '-U', p.pgUser, '--pwfile', pwfile, '-E', 'UTF8', '--locale=C.UTF-8',
-			'--auth-local=trust', '--auth-host=scram-sha-256'
+			'-D',
+			p.pgDataDir,
+			'-U',
+			p.pgUser,
+			'--pwfile',
+			pwfile,
+			'-E',
+			'UTF8',
+			'--locale=C.UTF-8',
+			'--auth-local=trust',
+			'--auth-host=scram-sha-256'
 		]);
 		capture('rm', ['-f', pwfile]);
 		if (r.status !== 0) throw new Error(`initdb failed:\n${r.stdout}\n${r.stderr}`);
@@ -100,7 +111,18 @@ export async function startCluster(p, { fast = false } = {}) {
 	if (isRoot) run('chown', ['postgres:postgres', logFile]);
 	const options = [`-c listen_addresses=127.0.0.1`, `-p ${p.pgPort}`, `-k ${p.pgSocketDir}`];
 	if (fast) options.push('-c fsync=off', '-c synchronous_commit=off', '-c full_page_writes=off');
-	const r = pgExec(bin, 'pg_ctl', ['-D', p.pgDataDir, '-l', logFile, '-w', '-t', '30', '-o', options.join(' '), 'start']);
+	const r = pgExec(bin, 'pg_ctl', [
+		'-D',
+		p.pgDataDir,
+		'-l',
+		logFile,
+		'-w',
+		'-t',
+		'30',
+		'-o',
+		options.join(' '),
+		'start'
+	]);
 	if (r.status !== 0) {
 		const tail = existsSync(logFile) ? readFileSync(logFile, 'utf8').split('\n').slice(-15).join('\n') : '';
 		throw new Error(`PostgreSQL did not start on port ${p.pgPort}:\n${r.stderr}\n${tail}`);
@@ -117,7 +139,20 @@ export function stopCluster(p) {
 /** psql as the cluster's superuser over the Unix socket (trust auth, local only). */
 export function psql(p, database, sqlText) {
 	const bin = findPgBin();
-	const r = capture(resolve(bin, 'psql'), ['-h', p.pgSocketDir, '-p', String(p.pgPort), '-U', p.pgUser, '-d', database, '-v', 'ON_ERROR_STOP=1', '-qtAc', sqlText]);
+	const r = capture(resolve(bin, 'psql'), [
+		'-h',
+		p.pgSocketDir,
+		'-p',
+		String(p.pgPort),
+		'-U',
+		p.pgUser,
+		'-d',
+		database,
+		'-v',
+		'ON_ERROR_STOP=1',
+		'-qtAc',
+		sqlText
+	]);
 	if (r.status !== 0) throw new Error(`psql failed: ${r.stderr}`);
 	return r.stdout.trim();
 }

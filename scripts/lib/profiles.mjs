@@ -26,10 +26,34 @@ function clusterHome(dataDir) {
 }
 
 const BASE_PORTS = {
-	dev: { pgPort: 54330, database: 'scopegrade', appPort: 4300, inboxPort: 4301, smtpPort: 4325, shopsPort: 4310, s3Port: 4320 },
-	test: { pgPort: 54340, database: 'scopegrade_test', appPort: 4400, inboxPort: 4401, smtpPort: 4425, shopsPort: 4410, s3Port: 4420 },
+	dev: {
+		pgPort: 54330,
+		database: 'scopegrade',
+		appPort: 4300,
+		inboxPort: 4301,
+		smtpPort: 4325,
+		shopsPort: 4310,
+		s3Port: 4320
+	},
+	test: {
+		pgPort: 54340,
+		database: 'scopegrade_test',
+		appPort: 4400,
+		inboxPort: 4401,
+		smtpPort: 4425,
+		shopsPort: 4410,
+		s3Port: 4420
+	},
 	// The benchmarks' own cluster and services (bench:poller, bench:alerts, bench:detection).
-	bench: { pgPort: 54350, database: 'scopegrade_bench', appPort: 4500, inboxPort: 4501, smtpPort: 4525, shopsPort: 4510, s3Port: 4520 }
+	bench: {
+		pgPort: 54350,
+		database: 'scopegrade_bench',
+		appPort: 4500,
+		inboxPort: 4501,
+		smtpPort: 4525,
+		shopsPort: 4510,
+		s3Port: 4520
+	}
 };
 
 /** @param {'dev' | 'test' | 'bench'} name */

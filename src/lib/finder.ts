@@ -104,7 +104,11 @@ export function isPastRevision<R extends Pick<CatalogueRevision, 'retired' | 'se
 export function betterPastRevisions(revisions: CatalogueRevision[]): CatalogueRevision[] {
 	const lead = leadGrade(revisions).band;
 	return revisions.filter(
-		(r) => !r.retired && isPastRevision(r, revisions) && r.band !== null && (lead === null || bandRank(r.band) < bandRank(lead))
+		(r) =>
+			!r.retired &&
+			isPastRevision(r, revisions) &&
+			r.band !== null &&
+			(lead === null || bandRank(r.band) < bandRank(lead))
 	);
 }
 
@@ -119,7 +123,9 @@ export function leadGrade(revisions: CatalogueRevision[]): {
 	for (const r of currentRevisions(revisions)) {
 		if (!r.band) continue;
 		const better =
-			lead === null || bandRank(r.band) < bandRank(lead.band) || (r.band === lead.band && (r.score ?? -1) > (lead.score ?? -1));
+			lead === null ||
+			bandRank(r.band) < bandRank(lead.band) ||
+			(r.band === lead.band && (r.score ?? -1) > (lead.score ?? -1));
 		if (better) lead = r;
 	}
 	return {
@@ -131,11 +137,14 @@ export function leadGrade(revisions: CatalogueRevision[]): {
 }
 
 /** The best expected band among current revisions that have no measured grade, with its basis. */
-export function leadExpected(revisions: CatalogueRevision[]): { band: Band; basis: string; deviationIre: number | null } | null {
+export function leadExpected(
+	revisions: CatalogueRevision[]
+): { band: Band; basis: string; deviationIre: number | null } | null {
 	let lead: { band: Band; basis: string; deviationIre: number | null } | null = null;
 	for (const r of currentRevisions(revisions)) {
 		if (r.band || !r.expected) continue;
-		if (!lead || bandRank(r.expected) < bandRank(lead.band)) lead = { band: r.expected, basis: r.expectedBasis ?? '', deviationIre: r.expectedDeviationIre ?? null };
+		if (!lead || bandRank(r.expected) < bandRank(lead.band))
+			lead = { band: r.expected, basis: r.expectedBasis ?? '', deviationIre: r.expectedDeviationIre ?? null };
 	}
 	return lead;
 }
@@ -205,9 +214,18 @@ const byPrice = (a: CatalogueEntry, b: CatalogueEntry) =>
 	(a.best?.displayMinor ?? Infinity) - (b.best?.displayMinor ?? Infinity);
 
 /** Sort a copy: best band (then score), lowest price (unpriced last), or brand and model. */
-export function sortCatalogue(entries: CatalogueEntry[], sort: CatalogueSort, includeExpected = false): CatalogueEntry[] {
+export function sortCatalogue(
+	entries: CatalogueEntry[],
+	sort: CatalogueSort,
+	includeExpected = false
+): CatalogueEntry[] {
 	const byBand = byBandWith(includeExpected);
-	const cmp = sort === 'name' ? byName : sort === 'price' ? (a: CatalogueEntry, b: CatalogueEntry) => byPrice(a, b) || byBand(a, b) || byName(a, b) : (a: CatalogueEntry, b: CatalogueEntry) => byBand(a, b) || byPrice(a, b) || byName(a, b);
+	const cmp =
+		sort === 'name'
+			? byName
+			: sort === 'price'
+				? (a: CatalogueEntry, b: CatalogueEntry) => byPrice(a, b) || byBand(a, b) || byName(a, b)
+				: (a: CatalogueEntry, b: CatalogueEntry) => byBand(a, b) || byPrice(a, b) || byName(a, b);
 	return [...entries].sort(cmp);
 }
 
@@ -231,7 +249,13 @@ export interface FinderResult {
 	notes: string[];
 }
 
-const BAND_WORD: Record<Band, string> = { exact: 'Exact', close: 'Close', fair: 'Fair', poor: 'Poor', failing: 'Failing' };
+const BAND_WORD: Record<Band, string> = {
+	exact: 'Exact',
+	close: 'Close',
+	fair: 'Fair',
+	poor: 'Poor',
+	failing: 'Failing'
+};
 
 /** Explain one entry in words, e.g. "Close band; in stock at 2 shops in your region; lowest 12.90 EUR". */
 export function explainEntry(e: CatalogueEntry, region: Region, includeExpected = false): string {
@@ -239,7 +263,8 @@ export function explainEntry(e: CatalogueEntry, region: Region, includeExpected 
 	const band = sortBand(e, includeExpected);
 	if (band && band !== e.bestBand) parts.push(`expected ${BAND_WORD[band]} band (not yet measured)`);
 	else parts.push(band ? `${BAND_WORD[band]} band` : 'not graded yet');
-	if (e.inStockShops > 0) parts.push(`in stock at ${e.inStockShops} ${e.inStockShops === 1 ? 'shop' : 'shops'} in your region`);
+	if (e.inStockShops > 0)
+		parts.push(`in stock at ${e.inStockShops} ${e.inStockShops === 1 ? 'shop' : 'shops'} in your region`);
 	else if (e.best) parts.push(`${e.best.stock === 'preorder' ? 'pre-order only' : 'orderable'} in your region`);
 	else parts.push(`not buyable in ${REGION_LABELS[region]} right now`);
 	if (e.best?.displayMinor != null) parts.push(`lowest ${formatMoney(e.best.displayMinor, e.best.displayCurrency)}`);
@@ -251,7 +276,9 @@ function notesFor(e: CatalogueEntry, minBand: Band | undefined): string[] {
 	const current = currentRevisions(e.revisions).filter((r) => r.band);
 	const worse = current.filter((r) => e.bestBand && bandRank(r.band) > bandRank(e.bestBand));
 	for (const r of worse) {
-		notes.push(`Revision ${r.code} (chip ${r.chip}) grades ${BAND_WORD[r.band!]}: which one a shop sends cannot be chosen.`);
+		notes.push(
+			`Revision ${r.code} (chip ${r.chip}) grades ${BAND_WORD[r.band!]}: which one a shop sends cannot be chosen.`
+		);
 	}
 	if (minBand && worse.some((r) => bandRank(r.band) > bandRank(minBand))) {
 		notes.push(`Only some revisions reach ${BAND_WORD[minBand]} or better.`);
@@ -332,7 +359,15 @@ export function finderItem(r: FinderResult): FinderItem {
 		expected: e.expected,
 		hasAudioOut: e.hasAudioOut,
 		inStockShops: e.inStockShops,
-		best: e.best ? { shop: e.best.shopName, stock: e.best.stock, priceMinor: e.best.displayMinor, currency: e.best.displayCurrency, url: e.best.url } : null,
+		best: e.best
+			? {
+					shop: e.best.shopName,
+					stock: e.best.stock,
+					priceMinor: e.best.displayMinor,
+					currency: e.best.displayCurrency,
+					url: e.best.url
+				}
+			: null,
 		explanation: r.explanation,
 		notes: r.notes
 	};

@@ -66,7 +66,11 @@ const clamp = (x: number, lo: number, hi: number) => Math.min(hi, Math.max(lo, x
  * not buyable, or unknown = null). Returns minutes per listing for either state; the budget is met
  * for the states given.
  */
-export function planIntervals(inputs: readonly PlanInput[], current: ReadonlyMap<number, boolean | null>, now: Date): Map<number, PlannedInterval> {
+export function planIntervals(
+	inputs: readonly PlanInput[],
+	current: ReadonlyMap<number, boolean | null>,
+	now: Date
+): Map<number, PlannedInterval> {
 	const out = new Map<number, PlannedInterval>();
 	const byShop = new Map<number, PlanInput[]>();
 	for (const i of inputs) byShop.set(i.shopId, [...(byShop.get(i.shopId) ?? []), i]);

@@ -69,7 +69,12 @@ export interface PricedOffer extends CurrentOffer {
  * Buyable offers in a region, priced in the display currency, cheapest first.
  * Offers with an unknown price or currency are left out: they cannot be compared.
  */
-export function buyableOffers(offers: CurrentOffer[], region: Region, displayCurrency: string, rates: RatesPerEur): PricedOffer[] {
+export function buyableOffers(
+	offers: CurrentOffer[],
+	region: Region,
+	displayCurrency: string,
+	rates: RatesPerEur
+): PricedOffer[] {
 	return offers
 		.filter((o) => isBuyable(o.stock) && o.priceMinor != null && o.currency && servesRegion(o, region))
 		.map((o) => ({
@@ -108,8 +113,45 @@ export function regionFromAcceptLanguage(header: string | null | undefined): Reg
 		})
 		.filter((t) => t.tag && t.tag !== '*' && !Number.isNaN(t.q) && t.q > 0)
 		.sort((a, b) => b.q - a.q);
-	const byCountry: Record<string, Region> = { us: 'na', ca: 'na', mx: 'na', gb: 'uk', uk: 'uk', jp: 'jp', au: 'au', nz: 'au' };
-	const euCountries = new Set(['de', 'fr', 'it', 'es', 'nl', 'be', 'at', 'pt', 'ie', 'fi', 'se', 'dk', 'pl', 'cz', 'gr', 'lu', 'si', 'sk', 'ee', 'lv', 'lt', 'hr', 'hu', 'ro', 'bg', 'cy', 'mt']);
+	const byCountry: Record<string, Region> = {
+		us: 'na',
+		ca: 'na',
+		mx: 'na',
+		gb: 'uk',
+		uk: 'uk',
+		jp: 'jp',
+		au: 'au',
+		nz: 'au'
+	};
+	const euCountries = new Set([
+		'de',
+		'fr',
+		'it',
+		'es',
+		'nl',
+		'be',
+		'at',
+		'pt',
+		'ie',
+		'fi',
+		'se',
+		'dk',
+		'pl',
+		'cz',
+		'gr',
+		'lu',
+		'si',
+		'sk',
+		'ee',
+		'lv',
+		'lt',
+		'hr',
+		'hu',
+		'ro',
+		'bg',
+		'cy',
+		'mt'
+	]);
 	for (const { tag } of tags) {
 		const country = tag.split('-')[1];
 		if (country && byCountry[country]) return byCountry[country];

@@ -54,14 +54,15 @@ export interface KmEstimate {
  */
 export function kaplanMeier(spells: readonly Spell[]): KmEstimate {
 	for (const s of spells) {
-		if (!(Number.isFinite(s.duration) && s.duration >= 0)) throw new RangeError(`spell duration must be a finite number >= 0, got ${s.duration}`);
+		if (!(Number.isFinite(s.duration) && s.duration >= 0))
+			throw new RangeError(`spell duration must be a finite number >= 0, got ${s.duration}`);
 	}
 	const sorted = [...spells].sort((a, b) => a.duration - b.duration || Number(a.censored) - Number(b.censored));
 	const steps: KmStep[] = [];
 	let atRisk = sorted.length;
 	let survival = 1;
 	let median: number | null = null;
-	for (let i = 0; i < sorted.length; ) {
+	for (let i = 0; i < sorted.length;) {
 		const t = sorted[i].duration;
 		let events = 0;
 		let censored = 0;
@@ -112,7 +113,11 @@ export interface ListingSpells {
 	/** Spells in stock before selling out. */
 	in: Spell[];
 	/** The state now, judged from the last known point; null with no known point. */
-	current: { buyable: boolean; since: Date; /** True when `since` is a real transition, not the start of history. */ spellStarted: boolean } | null;
+	current: {
+		buyable: boolean;
+		since: Date;
+		/** True when `since` is a real transition, not the start of history. */ spellStarted: boolean;
+	} | null;
 }
 
 /** Out-of-stock and in-stock spells of one listing from its change points (sorted by time). */
@@ -190,13 +195,24 @@ export function restockOutlook(points: readonly StockPoint[], now: Date): Restoc
 	const sellout = figure(s.in);
 	const state = s.current ? (s.current.buyable ? 'in' : 'out') : null;
 	const currentForMs = s.current ? now.getTime() - s.current.since.getTime() : null;
-	return { state, currentForMs, restock: strip(restock), sellout: strip(sellout), text: outlookText(state, currentForMs, restock, sellout) };
+	return {
+		state,
+		currentForMs,
+		restock: strip(restock),
+		sellout: strip(sellout),
+		text: outlookText(state, currentForMs, restock, sellout)
+	};
 }
 
 const strip = ({ medianMs, spells }: DurationFigure): DurationFigure => ({ medianMs, spells });
 const spellsWord = (n: number) => `${n} spell${n === 1 ? '' : 's'}`;
 
-function outlookText(state: 'out' | 'in' | null, currentForMs: number | null, restock: DurationFigure, sellout: DurationFigure): string | null {
+function outlookText(
+	state: 'out' | 'in' | null,
+	currentForMs: number | null,
+	restock: DurationFigure,
+	sellout: DurationFigure
+): string | null {
 	const restockPart =
 		restock.spells < MIN_OUTLOOK_SPELLS
 			? null
@@ -207,12 +223,16 @@ function outlookText(state: 'out' | 'in' | null, currentForMs: number | null, re
 	if (sellout.spells >= MIN_OUTLOOK_SPELLS) {
 		selloutPart =
 			(restockPart ? 'once back, ' : 'once in stock, ') +
-			(sellout.medianMs !== null ? `half sold out within ${formatSpan(sellout.medianMs)}` : 'most stock outlasted what we have seen') +
+			(sellout.medianMs !== null
+				? `half sold out within ${formatSpan(sellout.medianMs)}`
+				: 'most stock outlasted what we have seen') +
 			(restockPart ? '' : ` (${spellsWord(sellout.spells)})`);
 	}
 	const parts = [restockPart, selloutPart].filter((p): p is string => !!p);
 	if (!parts.length) return null;
 	const lead =
-		currentForMs === null || state === null ? '' : `${state === 'out' ? 'Out of stock' : 'In stock'} for ${formatSpan(currentForMs)}. `;
+		currentForMs === null || state === null
+			? ''
+			: `${state === 'out' ? 'Out of stock' : 'In stock'} for ${formatSpan(currentForMs)}. `;
 	return `${lead}Here, ${parts.join('; ')}.`;
 }

@@ -16,7 +16,15 @@ export const load: PageServerLoad = async ({ cookies, request }) => {
 			brand: e.brand,
 			name: e.model,
 			hasAudioOut: e.hasAudioOut,
-			revisions: e.revisions.map((r) => ({ code: r.code, chip: r.chip, band: r.band, score: r.score, deviationIre: r.deviationIre ?? null, bandReason: r.bandReason ?? null, runs: r.runs }))
+			revisions: e.revisions.map((r) => ({
+				code: r.code,
+				chip: r.chip,
+				band: r.band,
+				score: r.score,
+				deviationIre: r.deviationIre ?? null,
+				bandReason: r.bandReason ?? null,
+				runs: r.runs
+			}))
 		}))
 	};
 };

@@ -16,7 +16,11 @@ const SHOP = { shop: 'wattle-and-wire', path: '/shop/beam-bridge-pro' };
 const control = process.env.SHOPS_CONTROL_URL ?? 'http://127.0.0.1:4410';
 
 async function setShopStock(stock: 'in_stock' | 'out_of_stock') {
-	const res = await fetch(`${control}/listing`, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ ...SHOP, stock }) });
+	const res = await fetch(`${control}/listing`, {
+		method: 'POST',
+		headers: { 'content-type': 'application/json' },
+		body: JSON.stringify({ ...SHOP, stock })
+	});
 	expect(res.status).toBe(200);
 	// Ask the poller to look now instead of at the listing's next scheduled poll.
 	const sql = postgres(process.env.DATABASE_URL!, { max: 1, onnotice: () => {} });
@@ -58,19 +62,26 @@ test('a member watches a converter, its restock arrives by e-mail once, and unsu
 	expect(message.subject).toBe('Back in stock: Vantacove Beam Bridge Pro at Wattle & Wire, 54.95 AUD');
 	expect(message.text).toContain('Wattle & Wire, Australia');
 	expect(message.headers['list-unsubscribe-post']).toBe('List-Unsubscribe=One-Click');
-	const link = /^<([^>]+\/unsubscribe\/[^>]+)>, <mailto:unsubscribe\+[^>]+@scopegrade\.test>$/.exec(message.headers['list-unsubscribe'])?.[1];
+	const link = /^<([^>]+\/unsubscribe\/[^>]+)>, <mailto:unsubscribe\+[^>]+@scopegrade\.test>$/.exec(
+		message.headers['list-unsubscribe']
+	)?.[1];
 	expect(link, message.headers['list-unsubscribe']).toBeTruthy();
 
 	// Once: a few more sender passes bring nothing new.
 	await page.waitForTimeout(5000);
-	const res = await fetch(`${process.env.INBOX_URL ?? 'http://127.0.0.1:4401'}/api/messages?to=${encodeURIComponent(EMAIL)}`);
+	const res = await fetch(
+		`${process.env.INBOX_URL ?? 'http://127.0.0.1:4401'}/api/messages?to=${encodeURIComponent(EMAIL)}`
+	);
 	const alerts = ((await res.json()) as { id: number; subject: string }[]).filter((m) => m.id > before);
 	expect(alerts).toHaveLength(1);
 
 	// Opening the link (a GET) only asks; the watch stays active.
 	await page.goto(link!);
 	await expect(page.getByRole('heading', { name: 'Stop these alerts?' })).toBeVisible();
-	let watches = (await (await page.request.get('/api/v1/watches')).json()).watches as { converterSlug: string; paused: boolean }[];
+	let watches = (await (await page.request.get('/api/v1/watches')).json()).watches as {
+		converterSlug: string;
+		paused: boolean;
+	}[];
 	expect(watches.find((w) => w.converterSlug === SLUG)?.paused).toBe(false);
 
 	// The mail provider's one-click POST (RFC 8058 section 3.2): no cookies, no Origin, no HTML
@@ -96,15 +107,19 @@ test('a member watches a converter, its restock arrives by e-mail once, and unsu
 	// that follow find the seeded stock.
 	await setShopStock('out_of_stock');
 	await expect
-		.poll(async () => {
-			const sql = postgres(process.env.DATABASE_URL!, { max: 1, onnotice: () => {} });
-			try {
-				const [row] = await sql`select current_stock from listing_state where listing_id in (select id from listing where url like ${'%' + SHOP.path})`;
-				return row?.current_stock;
-			} finally {
-				await sql.end();
-			}
-		}, { timeout: 60_000, intervals: [1000] })
+		.poll(
+			async () => {
+				const sql = postgres(process.env.DATABASE_URL!, { max: 1, onnotice: () => {} });
+				try {
+					const [row] =
+						await sql`select current_stock from listing_state where listing_id in (select id from listing where url like ${'%' + SHOP.path})`;
+					return row?.current_stock;
+				} finally {
+					await sql.end();
+				}
+			},
+			{ timeout: 60_000, intervals: [1000] }
+		)
 		.toBe('out_of_stock');
 });
 
@@ -121,13 +136,17 @@ test('the account page keeps what was typed and says what is wrong', async ({ pa
 	await expect(form.getByLabel('Lowest band')).toHaveValue('close');
 	await form.getByLabel('Highest price').fill('20');
 	await form.getByRole('button', { name: 'Add watch' }).click();
-	await expect(page.getByTestId('watch-list')).toContainText('Any converter · graded Close or better · at most 20.00 EUR');
+	await expect(page.getByTestId('watch-list')).toContainText(
+		'Any converter · graded Close or better · at most 20.00 EUR'
+	);
 });
 
 // RFC 8058 section 3.1: a mail provider POSTs "List-Unsubscribe=One-Click" from its own servers,
 // with a form content type, no cookies and no Origin header. Our origin check (src/lib/server/csrf.ts)
 // lets exactly that endpoint through; a forged token still gets 400, and a GET never acts.
-test('a one-click POST from a mail provider (no Origin header) reaches the endpoint, and a forged token is refused', async ({ request }) => {
+test('a one-click POST from a mail provider (no Origin header) reaches the endpoint, and a forged token is refused', async ({
+	request
+}) => {
 	const forged = await request.post('/unsubscribe/w1.AAAAAAAAAAAAAAAAAAAAAA', {
 		headers: { 'content-type': 'application/x-www-form-urlencoded' },
 		data: 'List-Unsubscribe=One-Click',

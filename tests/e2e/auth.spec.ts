@@ -15,7 +15,10 @@ test('a visitor signs in through the e-mailed link and sees the signed-in state'
 	await expect(page).toHaveURL(/\/signin\?next=%2Faccount/);
 });
 
-test('a signed-out visitor is sent to sign in from protected pages, and the API answers 401', async ({ page, request }) => {
+test('a signed-out visitor is sent to sign in from protected pages, and the API answers 401', async ({
+	page,
+	request
+}) => {
 	await page.goto('/curate');
 	await expect(page).toHaveURL(/\/signin\?next=%2Fcurate/);
 	const api = await request.get('/api/v1/curate/summary');

@@ -39,14 +39,17 @@ test.afterAll(async () => {
 			await sql`delete from revision where converter_id = ${id}`;
 			await sql`delete from converter where id = ${id}`;
 			const ids = files.map((f) => f.f as string);
-			if (ids.length) await sql`delete from file where id in ${sql(ids)} or id in (select thumbnail_id from file where id in ${sql(ids)})`;
+			if (ids.length)
+				await sql`delete from file where id in ${sql(ids)} or id in (select thumbnail_id from file where id in ${sql(ids)})`;
 		}
 	} finally {
 		await sql.end();
 	}
 });
 
-test('a curator reads good-3ch.csv into a bench run, sees the levels, saves, and the grade goes public', async ({ browser }) => {
+test('a curator reads good-3ch.csv into a bench run, sees the levels, saves, and the grade goes public', async ({
+	browser
+}) => {
 	const page = await as(browser, 'curator@scopegrade.test');
 
 	await page.goto('/curate/converters');
@@ -85,7 +88,9 @@ test('a curator reads good-3ch.csv into a bench run, sees the levels, saves, and
 
 	await page.getByRole('button', { name: 'Save bench run' }).click();
 	await expect(page).toHaveURL(/\/curate\/revisions\/\d+\?run=\d+$/);
-	await expect(page.getByTestId('revision-grade').getByRole('img', { name: /Level grade: (Exact|Close) · \d+\.\d IRE/ })).toBeVisible();
+	await expect(
+		page.getByTestId('revision-grade').getByRole('img', { name: /Level grade: (Exact|Close) · \d+\.\d IRE/ })
+	).toBeVisible();
 	await expect(page.getByTestId('run-row')).toHaveCount(1);
 
 	// The public home page lists the revision with its new grade.
@@ -112,7 +117,9 @@ test('a member sends a teardown report with a photo and a curator verifies it', 
 	await member.getByLabel('Month you bought it').fill('2025-04');
 	await member.getByLabel('Chip', { exact: true }).selectOption({ index: 1 });
 	await member.getByLabel('Board marking').fill(`BM-${stamp}`);
-	const png = await sharp({ create: { width: 120, height: 80, channels: 3, background: { r: 30, g: 110, b: 70 } } }).png().toBuffer();
+	const png = await sharp({ create: { width: 120, height: 80, channels: 3, background: { r: 30, g: 110, b: 70 } } })
+		.png()
+		.toBuffer();
 	await member.getByTestId('photo-input').setInputFiles({ name: 'board.png', mimeType: 'image/png', buffer: png });
 	await expect(member.getByTestId('photo-thumb')).toBeVisible();
 	await member.getByRole('button', { name: 'Send report' }).click();
@@ -133,7 +140,10 @@ test('a member sends a teardown report with a photo and a curator verifies it', 
 	await curator.context().close();
 });
 
-test('a member gets 403 from every curator and admin page and action, and cannot change a role', async ({ browser, baseURL }) => {
+test('a member gets 403 from every curator and admin page and action, and cannot change a role', async ({
+	browser,
+	baseURL
+}) => {
 	const page = await as(browser, `nosy-${stamp}@example.test`);
 	for (const path of [
 		'/curate',
@@ -155,11 +165,17 @@ test('a member gets 403 from every curator and admin page and action, and cannot
 	expect(me.status()).toBe(200);
 
 	// Crafted form posts with a valid origin still meet the role check.
-	const role = await page.request.post('/admin?/role', { headers, form: { userId: 'anyone', role: 'admin', reason: 'let me in' } });
+	const role = await page.request.post('/admin?/role', {
+		headers,
+		form: { userId: 'anyone', role: 'admin', reason: 'let me in' }
+	});
 	expect(role.status()).toBe(403);
 	const create = await page.request.post('/curate/converters?/create', { headers, form: { brand: 'X', model: 'Y' } });
 	expect(create.status()).toBe(403);
-	const review = await page.request.post('/curate/review?/teardown', { headers, form: { id: '1', decision: 'verify', reason: 'sure' } });
+	const review = await page.request.post('/curate/review?/teardown', {
+		headers,
+		form: { id: '1', decision: 'verify', reason: 'sure' }
+	});
 	expect(review.status()).toBe(403);
 
 	await page.goto('/account');

@@ -9,8 +9,14 @@ test('converters list: shape, region pricing and ETag 304', async ({ request }) 
 	expect(body).toMatchObject({ region: 'eu', currency: 'EUR', licence: 'CC BY 4.0' });
 	expect(body.converters).toHaveLength(CONVERTERS.length);
 	const scanlet = body.converters.find((c: { slug: string }) => c.slug === 'brisling-scanlet');
-	expect(scanlet.revisions.map((r: { code: string; band: string }) => `${r.code}:${r.band}`)).toEqual(['A:close', 'B:failing']);
-	expect(scanlet.bestOffer).toMatchObject({ shop: { slug: 'kanalhaus' }, displayPrice: { minor: 1190, currency: 'EUR' } });
+	expect(scanlet.revisions.map((r: { code: string; band: string }) => `${r.code}:${r.band}`)).toEqual([
+		'A:close',
+		'B:failing'
+	]);
+	expect(scanlet.bestOffer).toMatchObject({
+		shop: { slug: 'kanalhaus' },
+		displayPrice: { minor: 1190, currency: 'EUR' }
+	});
 	const etag = res.headers()['etag'];
 	expect(etag).toMatch(/^"[^"]+"$/);
 	const again = await request.get('/api/v1/converters?region=eu&currency=EUR', { headers: { 'If-None-Match': etag } });
@@ -20,12 +26,22 @@ test('converters list: shape, region pricing and ETag 304', async ({ request }) 
 });
 
 test('validation errors are 400 problem details (RFC 9457) with field messages in errors', async ({ request }) => {
-	for (const url of ['/api/v1/converters?region=mars', '/api/v1/finder?budget=-5', '/api/v1/listings', '/api/v1/finder?band=great']) {
+	for (const url of [
+		'/api/v1/converters?region=mars',
+		'/api/v1/finder?budget=-5',
+		'/api/v1/listings',
+		'/api/v1/finder?band=great'
+	]) {
 		const res = await request.get(url);
 		expect(res.status(), url).toBe(400);
 		expect(res.headers()['content-type'], url).toContain('application/problem+json');
 		const body = await res.json();
-		expect(body).toMatchObject({ type: 'about:blank', title: expect.any(String), status: 400, detail: expect.any(String) });
+		expect(body).toMatchObject({
+			type: 'about:blank',
+			title: expect.any(String),
+			status: 400,
+			detail: expect.any(String)
+		});
 		expect(Object.keys(body.errors).length, url).toBeGreaterThan(0);
 		expect(typeof Object.values(body.errors)[0], url).toBe('string');
 	}
@@ -46,11 +62,17 @@ test('converter, revision and listings carry the engine reports and listing stat
 	expect(r.revision.runs[0].report.findings.length).toBeGreaterThan(0);
 	const l = await (await request.get('/api/v1/listings?converter=brisling-scanlet&region=eu')).json();
 	expect(l.listings).toHaveLength(3);
-	expect(l.listings[0]).toMatchObject({ id: expect.any(Number), stock: expect.any(String), shop: { slug: expect.any(String) } });
+	expect(l.listings[0]).toMatchObject({
+		id: expect.any(Number),
+		stock: expect.any(String),
+		shop: { slug: expect.any(String) }
+	});
 });
 
 test('finder API ranks and explains', async ({ request }) => {
-	const body = await (await request.get('/api/v1/finder?region=eu&currency=EUR&audio=1&stock=1&band=close&budget=25')).json();
+	const body = await (
+		await request.get('/api/v1/finder?region=eu&currency=EUR&audio=1&stock=1&band=close&budget=25')
+	).json();
 	// Beam Bridge (Exact, 22.90 EUR at Kanalhaus), then the RGB Porter (revision B Close, 21.50 EUR).
 	expect(body.results.map((r: { slug: string }) => r.slug)).toEqual(['vantacove-beam-bridge', 'halvecraft-rgb-porter']);
 	expect(body.results[0].explanation).toBe('Exact band; in stock at 1 shop in your region; lowest 22.90 EUR');
@@ -66,10 +88,21 @@ test('exports state their licence; OpenAPI 3.1 lists the routes', async ({ reque
 	const readings = await (await request.get('/api/v1/export/readings.json')).json();
 	expect(readings.licence.name).toBe('CC BY 4.0');
 	// every accepted demo run (curators' and the three testers'), 11 steps each
-	const runs = CONVERTERS.reduce((n, c) => n + c.revisions.reduce((m, r) => m + r.runs, 0), 0) + TESTERS.length * TESTER_REVISIONS.length;
+	const runs =
+		CONVERTERS.reduce((n, c) => n + c.revisions.reduce((m, r) => m + r.runs, 0), 0) +
+		TESTERS.length * TESTER_REVISIONS.length;
 	expect(readings.count).toBe(runs * 11);
 	expect((await request.get('/api/v1/export/other.csv')).status()).toBe(404);
 	const doc = await (await request.get('/api/v1/openapi.json')).json();
 	expect(doc.openapi).toBe('3.1.0');
-	expect(Object.keys(doc.paths)).toEqual(expect.arrayContaining(['/converters', '/converters/{slug}', '/revisions/{id}', '/listings', '/finder', '/export/{file}']));
+	expect(Object.keys(doc.paths)).toEqual(
+		expect.arrayContaining([
+			'/converters',
+			'/converters/{slug}',
+			'/revisions/{id}',
+			'/listings',
+			'/finder',
+			'/export/{file}'
+		])
+	);
 });

@@ -3,13 +3,21 @@
  * converters match a filter is worked out from the scenario in the comments beside each check.
  */
 import { expect, test } from '@playwright/test';
-import { distinctColours, expectAccessible, expectNoSidewaysScroll, paintedPixels, screenshot } from './support/guide-pages';
+import {
+	distinctColours,
+	expectAccessible,
+	expectNoSidewaysScroll,
+	paintedPixels,
+	screenshot
+} from './support/guide-pages';
 
 const slugsOn = async (page: import('@playwright/test').Page, list: string) =>
 	page.locator(`[data-testid=${list}] > li`).evaluateAll((els) => els.map((e) => e.getAttribute('data-slug')));
 
 test.describe('catalogue', () => {
-	test('filtering to in stock, Close or better, EU, with audio gives exactly the Beam Bridge and the RGB Porter', async ({ page }) => {
+	test('filtering to in stock, Close or better, EU, with audio gives exactly the Beam Bridge and the RGB Porter', async ({
+		page
+	}) => {
 		// EU is served by Kanalhaus (EU) and Thamesbit (UK, ships to the EU). In stock there with
 		// audio out: Beam Bridge (Exact), Scanlet (rev A Close, but shops stopped sending it on
 		// 2025-08-31; rev B, sold now, Failing), Loop RGB (Poor), Beam Bridge Pro (Fair), RGB
@@ -50,7 +58,11 @@ test.describe('catalogue', () => {
 	});
 
 	test('works without JavaScript, sorts by price, and remembers the region in a cookie', async ({ browser }) => {
-		const ctx = await browser.newContext({ javaScriptEnabled: false, locale: 'en-US', extraHTTPHeaders: { 'Accept-Language': 'en-US' } });
+		const ctx = await browser.newContext({
+			javaScriptEnabled: false,
+			locale: 'en-US',
+			extraHTTPHeaders: { 'Accept-Language': 'en-US' }
+		});
 		const page = await ctx.newPage();
 		await page.goto('/converters');
 		// Accept-Language en-US -> North America, USD.
@@ -71,7 +83,9 @@ test.describe('catalogue', () => {
 });
 
 test.describe('converter page', () => {
-	test('draws the level chart, shows findings, what-if, preview, listings and switches history range', async ({ page }) => {
+	test('draws the level chart, shows findings, what-if, preview, listings and switches history range', async ({
+		page
+	}) => {
 		await page.goto('/converters/brisling-scanlet');
 		await expect(page.getByRole('heading', { level: 1, name: 'Scanlet' })).toBeVisible();
 		await expect(page.getByTestId('last-reviewed')).not.toHaveText('never');
@@ -147,7 +161,9 @@ test('finder ranks and explains as the visitor changes inputs', async ({ page })
 	// then the RGB Porter (its revision B is Close).
 	await expect(page.getByTestId('finder-count')).toHaveText('2 matches');
 	expect(await slugsOn(page, 'finder-results')).toEqual(['vantacove-beam-bridge', 'halvecraft-rgb-porter']);
-	await expect(page.getByTestId('explanation').first()).toHaveText('Exact band; in stock at 1 shop in your region; lowest 22.90 EUR.');
+	await expect(page.getByTestId('explanation').first()).toHaveText(
+		'Exact band; in stock at 1 shop in your region; lowest 22.90 EUR.'
+	);
 	// Any band: six match (Beam Bridge, Scanlet, Loop RGB, Beam Bridge Pro, RGB Porter, Component Kit).
 	await form.getByLabel('Lowest acceptable band', { exact: true }).selectOption('');
 	await expect(page.getByTestId('finder-count')).toHaveText('6 matches');
@@ -184,15 +200,21 @@ test('restocks list and Atom feed', async ({ page, request }) => {
 	expect(xml).toContain('Wattle &amp; Wire');
 });
 
-test('the demo guide shows live picks, one unbuyable and one re-graded; learn shows the rubric and the cautions', async ({ page }) => {
+test('the demo guide shows live picks, one unbuyable and one re-graded; learn shows the rubric and the cautions', async ({
+	page
+}) => {
 	await page.goto('/guides');
 	await expect(page.getByTestId('no-guides')).toHaveCount(0);
 	await page.getByRole('link', { name: 'A first converter for a CRT' }).first().click();
 	await expect(page.getByRole('heading', { level: 1, name: 'A first converter for a CRT' })).toBeVisible();
 	// Linecaster S: discontinued at Northbay, sold out at Thamesbit; Scanlet: picked Close, now Failing.
 	await expect(page.locator('[data-pick=pellamy-linecaster-s] [data-flag=unbuyable]')).toBeVisible();
-	await expect(page.locator('[data-pick=brisling-scanlet] [data-flag=regraded]')).toContainText('Close then, Failing now');
-	await expect(page.locator('[data-pick=orrinford-tubelink-duo]').getByRole('img', { name: /^Level grade: Exact · \d\.\d IRE/ })).toBeVisible();
+	await expect(page.locator('[data-pick=brisling-scanlet] [data-flag=regraded]')).toContainText(
+		'Close then, Failing now'
+	);
+	await expect(
+		page.locator('[data-pick=orrinford-tubelink-duo]').getByRole('img', { name: /^Level grade: Exact · \d\.\d IRE/ })
+	).toBeVisible();
 	await page.goto('/learn');
 	await expect(page.getByTestId('rubric').locator('tbody tr')).toHaveCount(5);
 	await expect(page.locator('#polling')).toBeVisible();
@@ -217,7 +239,10 @@ test.describe('every public page', () => {
 		test(`${name}: accessible, fits a phone, screenshots in both themes`, async ({ browser }) => {
 			test.setTimeout(180_000); // four page loads with axe each, on the 14-converter demo
 			for (const scheme of ['light', 'dark'] as const) {
-				for (const [label, width] of [['desktop', 1280], ['phone', 360]] as const) {
+				for (const [label, width] of [
+					['desktop', 1280],
+					['phone', 360]
+				] as const) {
 					const ctx = await browser.newContext({ viewport: { width, height: 900 }, colorScheme: scheme });
 					const page = await ctx.newPage();
 					const res = await page.goto(path);
@@ -225,7 +250,8 @@ test.describe('every public page', () => {
 					await page.waitForLoadState('networkidle');
 					if (label === 'phone') await expectNoSidewaysScroll(page, `${name} at ${width}px`);
 					if (label === 'desktop' || scheme === 'light') await expectAccessible(page, `${name} (${scheme}, ${label})`);
-					if (scheme === 'light' || label === 'desktop') await screenshot(page, `${name}-${label}${scheme === 'dark' ? '-dark' : ''}`);
+					if (scheme === 'light' || label === 'desktop')
+						await screenshot(page, `${name}-${label}${scheme === 'dark' ? '-dark' : ''}`);
 					await ctx.close();
 				}
 			}

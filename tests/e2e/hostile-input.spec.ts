@@ -31,12 +31,70 @@ const CORPUS: string[] = [
 
 /** Every field name any form posts (the union; each action ignores the ones it does not read). */
 const FIELDS = [
-	'name', 'maker', 'slug', 'notes', 'brand', 'model', 'summary', 'power', 'outputs', 'hasAudioOut', 'converterId', 'code', 'chipId',
-	'boardMarking', 'seenFrom', 'seenTo', 'reason', 'id', 'status', 'title', 'bodyMarkdown', 'position', 'note', 'url', 'format',
-	'pollIntervalMinutes', 'feedConfig', 'shopId', 'active', 'role', 'userId', 'base', 'quote', 'day', 'rate', 'region', 'currency',
-	'baseUrl', 'defaultFormat', 'maxConcurrency', 'minSpacingMs', 'shipsTo', 'converterSlug', 'minBand', 'quietFrom', 'quietTo',
-	'digestHour', 'watchId', 'alsoPriceDrops', 'mode', 'r0', 'g0', 'b0', 'r100', 'fullScaleMv', 'termination', 'decision', 'revisionId',
-	'boughtAt', 'boughtOn', 'unitCount', 'verdict', 'comment', 'next'
+	'name',
+	'maker',
+	'slug',
+	'notes',
+	'brand',
+	'model',
+	'summary',
+	'power',
+	'outputs',
+	'hasAudioOut',
+	'converterId',
+	'code',
+	'chipId',
+	'boardMarking',
+	'seenFrom',
+	'seenTo',
+	'reason',
+	'id',
+	'status',
+	'title',
+	'bodyMarkdown',
+	'position',
+	'note',
+	'url',
+	'format',
+	'pollIntervalMinutes',
+	'feedConfig',
+	'shopId',
+	'active',
+	'role',
+	'userId',
+	'base',
+	'quote',
+	'day',
+	'rate',
+	'region',
+	'currency',
+	'baseUrl',
+	'defaultFormat',
+	'maxConcurrency',
+	'minSpacingMs',
+	'shipsTo',
+	'converterSlug',
+	'minBand',
+	'quietFrom',
+	'quietTo',
+	'digestHour',
+	'watchId',
+	'alsoPriceDrops',
+	'mode',
+	'r0',
+	'g0',
+	'b0',
+	'r100',
+	'fullScaleMv',
+	'termination',
+	'decision',
+	'revisionId',
+	'boughtAt',
+	'boughtOn',
+	'unitCount',
+	'verdict',
+	'comment',
+	'next'
 ];
 
 const ID = '1';
@@ -84,7 +142,11 @@ async function expectNo5xx(res: APIResponse, label: string) {
 }
 
 async function post(request: APIRequestContext, target: string, init: Parameters<APIRequestContext['post']>[1]) {
-	return request.post(target, { maxRedirects: 0, ...init, headers: { Origin: origin, Accept: 'application/json', ...(init?.headers ?? {}) } });
+	return request.post(target, {
+		maxRedirects: 0,
+		...init,
+		headers: { Origin: origin, Accept: 'application/json', ...(init?.headers ?? {}) }
+	});
 }
 
 test('every form action answers hostile input without a 5xx', async ({ page }) => {
@@ -104,19 +166,34 @@ test('every form action answers hostile input without a 5xx', async ({ page }) =
 				`${target} multipart`
 			);
 			const dup = FIELDS.map((f) => `${f}=1&${f}=2147483648&${f}=a%00b`).join('&');
-			await expectNo5xx(await post(request, target, { data: dup, headers: { 'content-type': 'application/x-www-form-urlencoded' } }), `${target} duplicates`);
+			await expectNo5xx(
+				await post(request, target, { data: dup, headers: { 'content-type': 'application/x-www-form-urlencoded' } }),
+				`${target} duplicates`
+			);
 			// Broken multipart and the wrong content type.
 			await expectNo5xx(
-				await post(request, target, { data: '--zz\r\nContent-Disposition: form-data; name="name"\r\n\r\nunterminated', headers: { 'content-type': 'multipart/form-data; boundary=zz' } }),
+				await post(request, target, {
+					data: '--zz\r\nContent-Disposition: form-data; name="name"\r\n\r\nunterminated',
+					headers: { 'content-type': 'multipart/form-data; boundary=zz' }
+				}),
 				`${target} broken multipart`
 			);
-			const json = await post(request, target, { data: '{"name": "x"', headers: { 'content-type': 'application/json' } });
+			const json = await post(request, target, {
+				data: '{"name": "x"',
+				headers: { 'content-type': 'application/json' }
+			});
 			await expectNo5xx(json, `${target} json body`);
 			expect(json.status(), `${target} json body`).toBe(415);
 		}
 	}
 	// Ids beyond PostgreSQL integer never reach a query.
-	for (const p of ['/curate/chips/2147483648', '/curate/converters/99999999999', '/admin/shops/1e3', '/curate/listings/1.5', '/curate/revisions/%200']) {
+	for (const p of [
+		'/curate/chips/2147483648',
+		'/curate/converters/99999999999',
+		'/admin/shops/1e3',
+		'/curate/listings/1.5',
+		'/curate/revisions/%200'
+	]) {
 		const res = await request.get(p);
 		expect(res.status(), p).toBe(404);
 	}
@@ -133,17 +210,47 @@ test('every JSON API answers hostile input without a 5xx, errors as problem deta
 	test.setTimeout(300_000);
 	await signIn(page, 'owner@scopegrade.test');
 	const request = page.request;
-	const gets = ['/api/v1/converters', '/api/v1/finder', '/api/v1/listings', '/api/v1/curate/shops/health', '/api/v1/listings/1/history', '/api/v1/revisions/1', '/api/v1/converters/a', '/api/v1/export/catalogue.csv'];
-	const params = ['region', 'currency', 'budget', 'band', 'page', 'days', 'range', 'points', 'audio', 'power', 'q', 'sort', 'converter', 'shop', 'output'];
+	const gets = [
+		'/api/v1/converters',
+		'/api/v1/finder',
+		'/api/v1/listings',
+		'/api/v1/curate/shops/health',
+		'/api/v1/listings/1/history',
+		'/api/v1/revisions/1',
+		'/api/v1/converters/a',
+		'/api/v1/export/catalogue.csv'
+	];
+	const params = [
+		'region',
+		'currency',
+		'budget',
+		'band',
+		'page',
+		'days',
+		'range',
+		'points',
+		'audio',
+		'power',
+		'q',
+		'sort',
+		'converter',
+		'shop',
+		'output'
+	];
 	for (const path of gets) {
 		for (const value of CORPUS.filter((v) => v !== BIG)) {
 			const qs = params.map((p) => `${p}=${encodeURIComponent(value)}`).join('&');
 			const res = await request.get(`${path}?${qs}`);
 			expect(res.status(), `${path} <- ${JSON.stringify(value)}`).toBeLessThan(500);
-			if (res.status() >= 400) expect(res.headers()['content-type'], `${path} problem type`).toContain('application/problem+json');
+			if (res.status() >= 400)
+				expect(res.headers()['content-type'], `${path} problem type`).toContain('application/problem+json');
 		}
 	}
-	for (const p of ['/api/v1/revisions/2147483648', '/api/v1/listings/99999999999/history', '/api/v1/watches/2147483648']) {
+	for (const p of [
+		'/api/v1/revisions/2147483648',
+		'/api/v1/listings/99999999999/history',
+		'/api/v1/watches/2147483648'
+	]) {
 		const res = p.includes('watches') ? await request.delete(p, { headers: { Origin: origin } }) : await request.get(p);
 		expect(res.status(), p).toBe(404);
 		expect(res.headers()['content-type'], p).toContain('application/problem+json');
@@ -167,7 +274,10 @@ test('every JSON API answers hostile input without a 5xx, errors as problem deta
 		expect(res.headers()['content-type']).toContain('application/problem+json');
 	}
 	// Uploads: wrong type and broken multipart.
-	for (const [type, data] of [['application/json', '{}'], ['multipart/form-data; boundary=zz', '--zz\r\nbroken']]) {
+	for (const [type, data] of [
+		['application/json', '{}'],
+		['multipart/form-data; boundary=zz', '--zz\r\nbroken']
+	]) {
 		const res = await request.post('/files', { data, headers: { 'content-type': type, Origin: origin } });
 		expect(res.status(), `/files ${type}`).toBe(400);
 	}

@@ -36,15 +36,30 @@ test('every public page passes the Nu HTML Checker with no errors', async ({ req
 		files.set(`file:${file}`, path);
 	}
 	// vnu writes its JSON report to stderr; --exit-zero-always leaves the verdict to us.
-	const run = spawnSync('java', ['-jar', VNU_JAR, '--format', 'json', '--errors-only', '--exit-zero-always', ...[...files.keys()].map((u) => u.slice(5))], {
-		encoding: 'utf8',
-		maxBuffer: 32 * 1024 * 1024
-	});
+	const run = spawnSync(
+		'java',
+		[
+			'-jar',
+			VNU_JAR,
+			'--format',
+			'json',
+			'--errors-only',
+			'--exit-zero-always',
+			...[...files.keys()].map((u) => u.slice(5))
+		],
+		{
+			encoding: 'utf8',
+			maxBuffer: 32 * 1024 * 1024
+		}
+	);
 	expect(run.error, 'java runs the Nu HTML Checker').toBeUndefined();
 	const out = run.stderr.trim();
 	const report = JSON.parse(out) as { messages: VnuMessage[] };
 	const errors = report.messages
 		.filter((m) => m.type === 'error' || m.subType === 'fatal')
-		.map((m) => `${files.get(m.url) ?? m.url}:${m.lastLine ?? '?'} ${m.message}${m.extract ? ` [${m.extract.trim().slice(0, 80)}]` : ''}`);
+		.map(
+			(m) =>
+				`${files.get(m.url) ?? m.url}:${m.lastLine ?? '?'} ${m.message}${m.extract ? ` [${m.extract.trim().slice(0, 80)}]` : ''}`
+		);
 	expect(errors, 'Nu HTML Checker errors').toEqual([]);
 });

@@ -73,7 +73,11 @@ async function listingId(): Promise<number> {
 }
 
 async function setShopPrice(priceMinor: number) {
-	const res = await fetch(`${control}/listing`, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ ...SHOP, priceMinor, stock: 'in_stock' }) });
+	const res = await fetch(`${control}/listing`, {
+		method: 'POST',
+		headers: { 'content-type': 'application/json' },
+		body: JSON.stringify({ ...SHOP, priceMinor, stock: 'in_stock' })
+	});
 	expect(res.status).toBe(200);
 	await sql`update listing_state set poll_requested_at = now() where listing_id = ${await listingId()}`;
 }
@@ -82,10 +86,18 @@ test.beforeAll(async () => {
 	test.setTimeout(180_000);
 	const env = { ...process.env, HOST: '127.0.0.1', ORIGIN: PROXY };
 	for (const port of PORTS) {
-		const app = spawn(process.execPath, [resolve('scripts/serve.mjs'), BUILD], { env: { ...env, PORT: String(port) }, stdio: ['ignore', 'ignore', 'inherit'] });
+		const app = spawn(process.execPath, [resolve('scripts/serve.mjs'), BUILD], {
+			env: { ...env, PORT: String(port) },
+			stdio: ['ignore', 'ignore', 'inherit']
+		});
 		children.push(app);
 	}
-	children.push(spawn(resolve('node_modules/.bin/tsx'), ['jobs/index.ts'], { env: { ...process.env }, stdio: ['ignore', 'ignore', 'inherit'] }));
+	children.push(
+		spawn(resolve('node_modules/.bin/tsx'), ['jobs/index.ts'], {
+			env: { ...process.env },
+			stdio: ['ignore', 'ignore', 'inherit']
+		})
+	);
 	let next = 0;
 	const proxy = httpProxy.createProxyServer({});
 	proxy.on('error', (_err, _req, res) => {
@@ -123,24 +135,33 @@ test('a price polled by either worker shows on both instances within 2 s, fetche
 	// Warm both caches with the old price.
 	for (const origin of INSTANCES) for (let i = 0; i < 2; i++) await text(`${origin}/converters/${SLUG}`);
 	const price = 111 + Math.floor(Math.random() * 300);
-	const [{ seq }] = (await (await fetch(`${control}/requests?shop=${SHOP.shop}`)).json()).requests.slice(-1).concat([{ seq: 0 }]);
+	const [{ seq }] = (await (await fetch(`${control}/requests?shop=${SHOP.shop}`)).json()).requests
+		.slice(-1)
+		.concat([{ seq: 0 }]);
 	await setShopPrice(price);
 	// The poller ticks every 30 s; wait for either worker to store the new price.
 	const until = Date.now() + 90_000;
 	while (Date.now() < until) {
-		const [row] = await sql<{ p: number | null }[]>`select current_price_minor::int as p from listing_state where listing_id = ${id}`;
+		const [row] = await sql<
+			{ p: number | null }[]
+		>`select current_price_minor::int as p from listing_state where listing_id = ${id}`;
 		if (row.p === price) break;
 		await new Promise((r) => setTimeout(r, 50));
 	}
 	const shown = (price / 100).toFixed(2) + ' EUR';
 	const ms = await untilAll(async (origin) => {
 		const page = await text(`${origin}/converters/${SLUG}`);
-		const api = (await (await fetch(`${origin}/api/v1/converters/${SLUG}?region=eu`)).json()) as { listings: Array<{ listingId: number; price: { minor: number } | null }> };
+		const api = (await (await fetch(`${origin}/api/v1/converters/${SLUG}?region=eu`)).json()) as {
+			listings: Array<{ listingId: number; price: { minor: number } | null }>;
+		};
 		return page.includes(shown) && api.listings.some((l) => l.listingId === id && l.price?.minor === price);
 	}, 2_000);
 	expect(ms).toBeLessThanOrEqual(2_000);
 	// One worker fetched the page for this change: no listing is polled twice.
-	const log = (await (await fetch(`${control}/requests?shop=${SHOP.shop}&since=${seq}`)).json()).requests as Array<{ path: string; method: string }>;
+	const log = (await (await fetch(`${control}/requests?shop=${SHOP.shop}&since=${seq}`)).json()).requests as Array<{
+		path: string;
+		method: string;
+	}>;
 	expect(log.filter((r) => r.path === SHOP.path && r.method === 'GET')).toHaveLength(1);
 });
 
@@ -148,20 +169,33 @@ test('a new price, grade and exchange rate show on every page and API of both in
 	test.setTimeout(120_000);
 	const { db, sql: dbSql } = createDb(process.env.DATABASE_URL, { max: 1 });
 	const day = new Date().toISOString().slice(0, 10);
-	const [oldRate] = await sql<{ rate: string }[]>`select rate::text from exchange_rate where base = 'EUR' and quote = 'GBP' and day = ${day}`;
+	const [oldRate] = await sql<
+		{ rate: string }[]
+	>`select rate::text from exchange_rate where base = 'EUR' and quote = 'GBP' and day = ${day}`;
 	const runs = await sql<{ id: number; revision_id: number }[]>`
 		select b.id, b.revision_id from bench_run b join revision r on r.id = b.revision_id join converter c on c.id = r.converter_id
 		where c.slug = ${SLUG} and b.status = 'accepted'`;
 	try {
-		const [{ p }] = await sql<{ p: number }[]>`select current_price_minor::int as p from listing_state where listing_id = ${await listingId()}`;
+		const [{ p }] = await sql<
+			{ p: number }[]
+		>`select current_price_minor::int as p from listing_state where listing_id = ${await listingId()}`;
 		const eur = (p / 100).toFixed(2) + ' EUR';
 		// Warm every cache first.
-		const pages = ['/', '/converters?region=eu', `/converters/${SLUG}?region=eu`, '/finder?region=eu', `/compare?c=${SLUG}`];
+		const pages = [
+			'/',
+			'/converters?region=eu',
+			`/converters/${SLUG}?region=eu`,
+			'/finder?region=eu',
+			`/compare?c=${SLUG}`
+		];
 		for (const origin of INSTANCES) for (const path of pages) await text(origin + path);
 
 		// A grade: another process supersedes the converter's runs and regrades (the engine's path).
 		await db.transaction(async (tx) => {
-			await tx.update(benchRuns).set({ status: 'superseded' }).where(inArray(benchRuns.id, runs.length ? runs.map((r) => r.id) : [-1]));
+			await tx
+				.update(benchRuns)
+				.set({ status: 'superseded' })
+				.where(inArray(benchRuns.id, runs.length ? runs.map((r) => r.id) : [-1]));
 			for (const rev of new Set(runs.map((r) => r.revision_id))) await regradeRevision(tx, rev);
 		});
 		// An exchange rate: 100 GBP per EUR for today.
@@ -170,10 +204,20 @@ test('a new price, grade and exchange rate show on every page and API of both in
 		const gbp = ((p / 100) * 100).toFixed(2) + ' GBP';
 
 		const ms = await untilAll(async (origin) => {
-			const api = (await (await fetch(`${origin}/api/v1/converters?region=eu&currency=GBP&limit=500`)).json()) as { converters: Array<{ slug: string; band: string | null; bestOffer: { price: { minor: number }; displayPrice: { minor: number } } | null }> };
+			const api = (await (await fetch(`${origin}/api/v1/converters?region=eu&currency=GBP&limit=500`)).json()) as {
+				converters: Array<{
+					slug: string;
+					band: string | null;
+					bestOffer: { price: { minor: number }; displayPrice: { minor: number } } | null;
+				}>;
+			};
 			const mine = api.converters.find((c) => c.slug === SLUG)!;
-			const detail = (await (await fetch(`${origin}/api/v1/converters/${SLUG}?region=eu`)).json()) as { converter: { band: string | null; revisions: Array<{ band: string | null }> } };
-			const finder = (await (await fetch(`${origin}/api/v1/finder?region=eu&currency=GBP`)).json()) as { results: Array<{ slug: string; band: string | null; best: { priceMinor: number } | null }> };
+			const detail = (await (await fetch(`${origin}/api/v1/converters/${SLUG}?region=eu`)).json()) as {
+				converter: { band: string | null; revisions: Array<{ band: string | null }> };
+			};
+			const finder = (await (await fetch(`${origin}/api/v1/finder?region=eu&currency=GBP`)).json()) as {
+				results: Array<{ slug: string; band: string | null; best: { priceMinor: number } | null }>;
+			};
 			const hit = finder.results.find((r) => r.slug === SLUG);
 			const catalogue = await text(`${origin}/converters?region=eu&currency=GBP`);
 			const detailPage = await text(`${origin}/converters/${SLUG}?region=eu&currency=EUR`);
@@ -195,11 +239,20 @@ test('a new price, grade and exchange rate show on every page and API of both in
 		// Put the demo back for whoever runs next.
 		if (runs.length) {
 			await db.transaction(async (tx) => {
-				await tx.update(benchRuns).set({ status: 'accepted' }).where(inArray(benchRuns.id, runs.map((r) => r.id)));
+				await tx
+					.update(benchRuns)
+					.set({ status: 'accepted' })
+					.where(
+						inArray(
+							benchRuns.id,
+							runs.map((r) => r.id)
+						)
+					);
 				for (const rev of new Set(runs.map((r) => r.revision_id))) await regradeRevision(tx, rev);
 			});
 		}
-		if (oldRate) await sql`update exchange_rate set rate = ${oldRate.rate} where base = 'EUR' and quote = 'GBP' and day = ${day}`;
+		if (oldRate)
+			await sql`update exchange_rate set rate = ${oldRate.rate} where base = 'EUR' and quote = 'GBP' and day = ${day}`;
 		else await sql`delete from exchange_rate where base = 'EUR' and quote = 'GBP' and day = ${day}`;
 		await dbSql.end({ timeout: 5 });
 	}

@@ -25,7 +25,9 @@ for (const theme of ['light', 'dark'] as const) {
 					await page.waitForLoadState('networkidle');
 					expect(await page.evaluate(() => document.documentElement.classList.contains('dark'))).toBe(theme === 'dark');
 					await expectNoSidewaysScroll(page, `${path} at ${width} px`);
-					for (const label of await page.locator('.band-mark').evaluateAll((els) => els.map((e) => e.getAttribute('aria-label') ?? ''))) {
+					for (const label of await page
+						.locator('.band-mark')
+						.evaluateAll((els) => els.map((e) => e.getAttribute('aria-label') ?? ''))) {
 						expect(label, `${path}: band mark label`).toMatch(/^(Level grade|\d+ IRE step: worst channel)/);
 						expect(label).not.toMatch(/of 5/);
 					}

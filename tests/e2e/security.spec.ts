@@ -57,17 +57,27 @@ test('sign-in e-mails are limited per address on /signin, with a message and Ret
 		expect(ok.status(), `try ${i + 1}`).toBeLessThan(400);
 	}
 	// As a browser posts it without JavaScript (Accept: text/html), so the page answers with the action's status.
-	const refused = await request.post('/signin', { form: { email }, headers: { Origin: origin, Accept: 'text/html' }, maxRedirects: 0 });
+	const refused = await request.post('/signin', {
+		form: { email },
+		headers: { Origin: origin, Accept: 'text/html' },
+		maxRedirects: 0
+	});
 	expect(refused.status()).toBe(429);
 	expect(Number(refused.headers()['retry-after'])).toBeGreaterThan(0);
 	expect(await refused.text()).toContain('Too many sign-in links');
 	// The same address through the Auth.js endpoint itself is refused too.
-	const direct = await request.post('/auth/signin/nodemailer', { form: { email }, headers: { Origin: origin }, maxRedirects: 0 });
+	const direct = await request.post('/auth/signin/nodemailer', {
+		form: { email },
+		headers: { Origin: origin },
+		maxRedirects: 0
+	});
 	expect(direct.status()).toBe(429);
 	expect(direct.headers()['content-type']).toContain('application/problem+json');
 	expect(Number(direct.headers()['retry-after'])).toBeGreaterThan(0);
 	// Five messages went out, not more.
-	const res = await fetch(`${process.env.INBOX_URL ?? 'http://127.0.0.1:4401'}/api/messages?to=${encodeURIComponent(email)}`);
+	const res = await fetch(
+		`${process.env.INBOX_URL ?? 'http://127.0.0.1:4401'}/api/messages?to=${encodeURIComponent(email)}`
+	);
 	expect(((await res.json()) as unknown[]).length).toBe(5);
 });
 
@@ -75,7 +85,11 @@ test('the Auth.js endpoint alone is limited per address as well', async ({ reque
 	const email = `limited-direct-${Date.now()}@example.test`;
 	const statuses: number[] = [];
 	for (let i = 0; i < 6; i++) {
-		const res = await request.post('/auth/signin/nodemailer', { form: { email }, headers: { Origin: origin }, maxRedirects: 0 });
+		const res = await request.post('/auth/signin/nodemailer', {
+			form: { email },
+			headers: { Origin: origin },
+			maxRedirects: 0
+		});
 		statuses.push(res.status());
 	}
 	expect(statuses.slice(0, 5).every((s) => s < 400)).toBe(true);
@@ -111,7 +125,9 @@ test('pages carry a Content-Security-Policy, and the theme script still runs und
 	expect(errors).toEqual([]);
 });
 
-test('signed-in pages are not stored by caches; a foreign Origin cannot write through the JSON API', async ({ page }) => {
+test('signed-in pages are not stored by caches; a foreign Origin cannot write through the JSON API', async ({
+	page
+}) => {
 	await signIn(page, `nostore-${Date.now()}@example.test`);
 	const res = await page.goto('/account');
 	expect(res?.headers()['cache-control']).toBe('private, no-store');

@@ -66,12 +66,25 @@ describe('a restock of a well-graded unit', () => {
 		]);
 		beamBridgeAtNorthbay = await listingId(db, 'northbay-circuits', 'vantacove-beam-bridge');
 		// History for "how long it lasted": an earlier restock that sold out 3 days 4 hours later.
-		await scriptChange(db, async () => {}, { listingId: beamBridgeAtNorthbay, stock: 'in_stock', at: new Date(t0.getTime() - hours(24 * 10)) });
-		await scriptChange(db, async () => {}, { listingId: beamBridgeAtNorthbay, stock: 'out_of_stock', at: new Date(t0.getTime() - hours(24 * 10 - 76)) });
+		await scriptChange(db, async () => {}, {
+			listingId: beamBridgeAtNorthbay,
+			stock: 'in_stock',
+			at: new Date(t0.getTime() - hours(24 * 10))
+		});
+		await scriptChange(db, async () => {}, {
+			listingId: beamBridgeAtNorthbay,
+			stock: 'out_of_stock',
+			at: new Date(t0.getTime() - hours(24 * 10 - 76))
+		});
 	});
 
 	it('writes one outbox row per matching watch in the event transaction', async () => {
-		const ev = await scriptChange(env.db, hook, { listingId: beamBridgeAtNorthbay, stock: 'in_stock', priceMinor: 2499, at: t0 });
+		const ev = await scriptChange(env.db, hook, {
+			listingId: beamBridgeAtNorthbay,
+			stock: 'in_stock',
+			priceMinor: 2499,
+			at: t0
+		});
 		expect(ev?.kind).toBe('restock');
 		const rows = await outboxRows(env.db);
 		expect(rows.map((r) => r.userId).sort()).toEqual([anyRev, closeOrBetter, ruleNa].sort());
@@ -79,7 +92,12 @@ describe('a restock of a well-graded unit', () => {
 	});
 
 	it('a replayed event creates no second row and no second message', async () => {
-		const [ev] = await env.db.select().from(t.stockEvents).where(eq(t.stockEvents.kind, 'restock')).orderBy(sql`id desc`).limit(1);
+		const [ev] = await env.db
+			.select()
+			.from(t.stockEvents)
+			.where(eq(t.stockEvents.kind, 'restock'))
+			.orderBy(sql`id desc`)
+			.limit(1);
 		const input = { ...ev, kind: ev.kind, priceMinor: ev.priceMinor, currency: ev.currency };
 		const again = await env.db.transaction((tx) => matchStockEvents(tx, [input, input], { quietHours: 12 }));
 		expect(again.map((r) => r.created)).toEqual([0, 0]);
@@ -96,7 +114,10 @@ describe('a restock of a well-graded unit', () => {
 		expect(inbox).toHaveLength(1);
 		const m = inbox[0];
 		expect(m.subject).toBe('Back in stock: Vantacove Beam Bridge at Northbay Circuits, 24.99 USD');
-		const [rev] = await env.db.select({ band: t.revisions.band }).from(t.revisions).where(eq(t.revisions.converterId, await converterId(env.db, 'vantacove-beam-bridge')));
+		const [rev] = await env.db
+			.select({ band: t.revisions.band })
+			.from(t.revisions)
+			.where(eq(t.revisions.converterId, await converterId(env.db, 'vantacove-beam-bridge')));
 		const label = { exact: 'Exact', close: 'Close', fair: 'Fair', poor: 'Poor', failing: 'Failing' }[rev.band!];
 		expect(m.text).toContain('Vantacove Beam Bridge is back in stock');
 		expect(m.text).toContain('Northbay Circuits, North America');
@@ -112,7 +133,10 @@ describe('a restock of a well-graded unit', () => {
 
 		// RFC 2369 section 3.2 + RFC 8058 section 3.1.
 		const lu = m.headers['list-unsubscribe'];
-		const match = /^<(https:\/\/scopegrade\.example\/unsubscribe\/([A-Za-z0-9._~-]+))>, <mailto:unsubscribe\+([A-Za-z0-9._~-]+)@scopegrade\.test>$/.exec(lu);
+		const match =
+			/^<(https:\/\/scopegrade\.example\/unsubscribe\/([A-Za-z0-9._~-]+))>, <mailto:unsubscribe\+([A-Za-z0-9._~-]+)@scopegrade\.test>$/.exec(
+				lu
+			);
 		expect(match, lu).toBeTruthy();
 		expect(match![2]).toBe(match![3]);
 		expect(verifyUnsubscribeToken(SECRET, match![2])?.kind).toBe('watch');
@@ -120,7 +144,7 @@ describe('a restock of a well-graded unit', () => {
 		expect(`unsubscribe+${match![3]}`.length).toBeLessThanOrEqual(64);
 		expect(m.headers['list-unsubscribe-post']).toBe('List-Unsubscribe=One-Click');
 		// RFC 5322 section 3.6.4, and the outbox keeps the id it used.
-		const [row] = (await outboxRows(env.db, anyRev));
+		const [row] = await outboxRows(env.db, anyRev);
 		expect(m.headers['message-id']).toBe(row.messageId);
 		expect(row.messageId).toMatch(/^<alert-\d+\.\d+@scopegrade\.test>$/);
 		expect(row.status).toBe('sent');
@@ -134,10 +158,26 @@ describe('a restock of a well-graded unit', () => {
 
 	it('flapping within the quiet period sends no second message', async () => {
 		const before = mail.to('any-revision@example.test').length;
-		await scriptChange(env.db, hook, { listingId: beamBridgeAtNorthbay, stock: 'out_of_stock', at: new Date(t0.getTime() + minutes(40)) });
-		const again = await scriptChange(env.db, hook, { listingId: beamBridgeAtNorthbay, stock: 'in_stock', at: new Date(t0.getTime() + minutes(90)) });
-		await scriptChange(env.db, hook, { listingId: beamBridgeAtNorthbay, stock: 'out_of_stock', at: new Date(t0.getTime() + hours(3)) });
-		const third = await scriptChange(env.db, hook, { listingId: beamBridgeAtNorthbay, stock: 'in_stock', at: new Date(t0.getTime() + hours(11)) });
+		await scriptChange(env.db, hook, {
+			listingId: beamBridgeAtNorthbay,
+			stock: 'out_of_stock',
+			at: new Date(t0.getTime() + minutes(40))
+		});
+		const again = await scriptChange(env.db, hook, {
+			listingId: beamBridgeAtNorthbay,
+			stock: 'in_stock',
+			at: new Date(t0.getTime() + minutes(90))
+		});
+		await scriptChange(env.db, hook, {
+			listingId: beamBridgeAtNorthbay,
+			stock: 'out_of_stock',
+			at: new Date(t0.getTime() + hours(3))
+		});
+		const third = await scriptChange(env.db, hook, {
+			listingId: beamBridgeAtNorthbay,
+			stock: 'in_stock',
+			at: new Date(t0.getTime() + hours(11))
+		});
 		const [e2] = await env.db.select().from(t.stockEvents).where(eq(t.stockEvents.id, again!.id));
 		const [e3] = await env.db.select().from(t.stockEvents).where(eq(t.stockEvents.id, third!.id));
 		expect(e2.quiet).toBe(true);
@@ -147,8 +187,16 @@ describe('a restock of a well-graded unit', () => {
 		expect(mail.to('any-revision@example.test').length).toBe(before);
 
 		// Past the quiet period (12 h after the restock that alerted), a restock alerts again.
-		await scriptChange(env.db, hook, { listingId: beamBridgeAtNorthbay, stock: 'out_of_stock', at: new Date(t0.getTime() + hours(12)) });
-		const fourth = await scriptChange(env.db, hook, { listingId: beamBridgeAtNorthbay, stock: 'in_stock', at: new Date(t0.getTime() + hours(13)) });
+		await scriptChange(env.db, hook, {
+			listingId: beamBridgeAtNorthbay,
+			stock: 'out_of_stock',
+			at: new Date(t0.getTime() + hours(12))
+		});
+		const fourth = await scriptChange(env.db, hook, {
+			listingId: beamBridgeAtNorthbay,
+			stock: 'in_stock',
+			at: new Date(t0.getTime() + hours(13))
+		});
 		const [e4] = await env.db.select().from(t.stockEvents).where(eq(t.stockEvents.id, fourth!.id));
 		expect(e4.quiet).toBe(false);
 		await sendDue(env.db, senderOptions(mail.smtpPort));
@@ -166,7 +214,10 @@ describe('a restock of a poorly graded unit', () => {
 			{ userId: limited, converterId: mini, minBand: 'fair' },
 			{ userId: anyBand, converterId: mini }
 		]);
-		const [band] = await db.select({ band: t.revisions.band }).from(t.revisions).where(eq(t.revisions.converterId, mini));
+		const [band] = await db
+			.select({ band: t.revisions.band })
+			.from(t.revisions)
+			.where(eq(t.revisions.converterId, mini));
 		expect(['poor', 'failing']).toContain(band.band);
 		const listing = await listingId(db, 'kanalhaus', 'quillfen-q-cast-mini');
 		await scriptChange(db, hook, { listingId: listing, stock: 'out_of_stock', at: new Date(t0.getTime() + hours(20)) });
@@ -181,7 +232,10 @@ describe('a restock of a poorly graded unit', () => {
 		const { db } = env;
 		// Brisling Scanlet: revision A (seen_to set) graded well, revision B (current) crushes shadows.
 		const scanlet = await converterId(db, 'brisling-scanlet');
-		const revs = await db.select({ code: t.revisions.code, band: t.revisions.band, seenTo: t.revisions.seenTo }).from(t.revisions).where(eq(t.revisions.converterId, scanlet));
+		const revs = await db
+			.select({ code: t.revisions.code, band: t.revisions.band, seenTo: t.revisions.seenTo })
+			.from(t.revisions)
+			.where(eq(t.revisions.converterId, scanlet));
 		const current = revs.find((r) => r.seenTo == null)!;
 		const member = await createMember(db, 'scanlet-close@example.test');
 		await db.insert(t.watches).values({ userId: member, converterId: scanlet, minBand: 'close' });
@@ -206,7 +260,12 @@ describe('price drops', () => {
 			{ userId: tooLow, converterId: pro, alsoPriceDrops: true, maxPriceMinor: 2000, priceCurrency: 'GBP' }
 		]);
 		const listing = await listingId(db, 'thamesbit', 'vantacove-beam-bridge-pro');
-		const ev = await scriptChange(db, hook, { listingId: listing, stock: 'in_stock', priceMinor: 2590, at: new Date(t0.getTime() + hours(30)) });
+		const ev = await scriptChange(db, hook, {
+			listingId: listing,
+			stock: 'in_stock',
+			priceMinor: 2590,
+			at: new Date(t0.getTime() + hours(30))
+		});
 		expect(ev?.kind).toBe('price_drop');
 		expect((await outboxRows(db, wants)).length).toBe(1);
 		expect((await outboxRows(db, doesNot)).length).toBe(0);

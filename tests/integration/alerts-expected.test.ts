@@ -11,7 +11,16 @@ import { renderAlertMessage } from '../../src/lib/server/alerts/message';
 import { loadOutboxContexts } from '../../src/lib/server/alerts/view';
 import { loadRates } from '../../src/lib/server/queries/offers';
 import { regradeRevision } from '../../src/lib/server/grading';
-import { BASE_URL, converterId, createMember, hours, listingId, outboxRows, scriptChange, seededDatabase } from './alerts-support';
+import {
+	BASE_URL,
+	converterId,
+	createMember,
+	hours,
+	listingId,
+	outboxRows,
+	scriptChange,
+	seededDatabase
+} from './alerts-support';
 
 let env: Awaited<ReturnType<typeof seededDatabase>>;
 const hook = createAlertHook({ quietHours: 12 });
@@ -47,16 +56,26 @@ describe('a restock of a converter whose revision is not yet measured', () => {
 
 	it('matches only the watch that chose expected grades, and the e-mail says the grade is expected', async () => {
 		const listing = await listingId(env.db, 'northbay-circuits', 'vantacove-beam-bridge');
-		const ev = await scriptChange(env.db, hook, { listingId: listing, stock: 'in_stock', priceMinor: 2399, at: new Date(Date.now() + hours(1)) });
+		const ev = await scriptChange(env.db, hook, {
+			listingId: listing,
+			stock: 'in_stock',
+			priceMinor: 2399,
+			at: new Date(Date.now() + hours(1))
+		});
 		expect(ev?.kind).toBe('restock');
 		const rows = await outboxRows(env.db);
 		expect(rows.map((r) => r.userId)).toEqual([withExpected]);
 		const [ctx] = await loadOutboxContexts(env.db, [rows[0].id], { baseUrl: BASE_URL, rates: await loadRates(env.db) });
 		expect(ctx.view.band).toBeNull();
 		expect(ctx.view.expected?.band).toBe(expectedBand);
-		const msg = renderAlertMessage(ctx.view, { manageUrl: `${BASE_URL}/account/watches`, unsubscribeUrl: `${BASE_URL}/unsubscribe/x` });
+		const msg = renderAlertMessage(ctx.view, {
+			manageUrl: `${BASE_URL}/account/watches`,
+			unsubscribeUrl: `${BASE_URL}/unsubscribe/x`
+		});
 		expect(msg.text).toMatch(/Level grade: +Not graded yet/);
-		expect(msg.text).toMatch(/Expected grade: Expected: \w+, revision A \(not yet measured; from \d+ runs of this chip in \d+ other converters?\)/);
+		expect(msg.text).toMatch(
+			/Expected grade: Expected: \w+, revision A \(not yet measured; from \d+ runs of this chip in \d+ other converters?\)/
+		);
 		expect(msg.html).toContain('Expected grade');
 		expect(msg.html).toContain('not yet measured');
 	});

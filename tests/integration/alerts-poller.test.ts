@@ -31,8 +31,14 @@ afterAll(async () => {
 });
 
 async function pollNow(listingId: number) {
-	const poller = world.poller({ onStockEvents: createAlertHook({ quietHours }), restockQuietMs: quietHours * 3_600_000 });
-	await world.db.update(t.listingStates).set({ pollRequestedAt: world.clock.now() }).where(eq(t.listingStates.listingId, listingId));
+	const poller = world.poller({
+		onStockEvents: createAlertHook({ quietHours }),
+		restockQuietMs: quietHours * 3_600_000
+	});
+	await world.db
+		.update(t.listingStates)
+		.set({ pollRequestedAt: world.clock.now() })
+		.where(eq(t.listingStates.listingId, listingId));
 	const r = await poller.pollListing(listingId);
 	await poller.release();
 	return r;
@@ -41,14 +47,21 @@ async function pollNow(listingId: number) {
 describe('through the real poller', () => {
 	it('a restock on the shop page reaches the watcher once', async () => {
 		const member = await createMember(world.db, 'poller-watch@example.test');
-		await world.db.insert(t.watches).values({ userId: member, converterId: await converterId(world.db, 'vantacove-beam-bridge'), minBand: 'close' });
+		await world.db
+			.insert(t.watches)
+			.values({ userId: member, converterId: await converterId(world.db, 'vantacove-beam-bridge'), minBand: 'close' });
 		const listing = await world.listingId('northbay-circuits', '/products/beam-bridge');
 
 		await pollNow(listing); // first poll: still out of stock, nothing happens
 		expect(await outboxRows(world.db, member)).toHaveLength(0);
 
 		world.clock.advance(60 * 60_000);
-		await world.control('POST', '/listing', { shop: 'northbay-circuits', path: '/products/beam-bridge', stock: 'in_stock', priceMinor: 2399 });
+		await world.control('POST', '/listing', {
+			shop: 'northbay-circuits',
+			path: '/products/beam-bridge',
+			stock: 'in_stock',
+			priceMinor: 2399
+		});
 		await pollNow(listing);
 		const rows = await outboxRows(world.db, member);
 		expect(rows).toHaveLength(1);
@@ -67,10 +80,18 @@ describe('through the real poller', () => {
 
 		// Flapping one hour later: sold out, back again, inside the quiet period.
 		world.clock.advance(30 * 60_000);
-		await world.control('POST', '/listing', { shop: 'northbay-circuits', path: '/products/beam-bridge', stock: 'out_of_stock' });
+		await world.control('POST', '/listing', {
+			shop: 'northbay-circuits',
+			path: '/products/beam-bridge',
+			stock: 'out_of_stock'
+		});
 		await pollNow(listing);
 		world.clock.advance(30 * 60_000);
-		await world.control('POST', '/listing', { shop: 'northbay-circuits', path: '/products/beam-bridge', stock: 'in_stock' });
+		await world.control('POST', '/listing', {
+			shop: 'northbay-circuits',
+			path: '/products/beam-bridge',
+			stock: 'in_stock'
+		});
 		await pollNow(listing);
 		const restocks = await world.db.select().from(t.stockEvents).where(eq(t.stockEvents.listingId, listing));
 		expect(restocks.filter((e) => e.kind === 'restock').map((e) => e.quiet)).toEqual([false, true]);
@@ -82,9 +103,21 @@ describe('through the real poller', () => {
 describe('the daily digest', () => {
 	it('gathers a digest member’s alerts into one message, once a day, and skips an empty digest', async () => {
 		const hourUtc = new Date().getUTCHours();
-		const member = await createMember(world.db, 'digest@example.test', { alertMode: 'digest', timezone: 'UTC', digestHour: hourUtc });
-		const later = await createMember(world.db, 'digest-later@example.test', { alertMode: 'digest', timezone: 'UTC', digestHour: (hourUtc + 1) % 24 });
-		await createMember(world.db, 'digest-empty@example.test', { alertMode: 'digest', timezone: 'UTC', digestHour: hourUtc });
+		const member = await createMember(world.db, 'digest@example.test', {
+			alertMode: 'digest',
+			timezone: 'UTC',
+			digestHour: hourUtc
+		});
+		const later = await createMember(world.db, 'digest-later@example.test', {
+			alertMode: 'digest',
+			timezone: 'UTC',
+			digestHour: (hourUtc + 1) % 24
+		});
+		await createMember(world.db, 'digest-empty@example.test', {
+			alertMode: 'digest',
+			timezone: 'UTC',
+			digestHour: hourUtc
+		});
 		const phosphor = await converterId(world.db, 'morrowgate-phosphor-one');
 		const pro = await converterId(world.db, 'vantacove-beam-bridge-pro');
 		await world.db.insert(t.watches).values([
@@ -93,8 +126,17 @@ describe('the daily digest', () => {
 			{ userId: later, converterId: phosphor }
 		]);
 		world.clock.advance(60 * 60_000);
-		await world.control('POST', '/listing', { shop: 'thamesbit', path: '/item/phosphor-one', stock: 'in_stock', priceMinor: 3250 });
-		await world.control('POST', '/listing', { shop: 'wattle-and-wire', path: '/shop/beam-bridge-pro', stock: 'in_stock' });
+		await world.control('POST', '/listing', {
+			shop: 'thamesbit',
+			path: '/item/phosphor-one',
+			stock: 'in_stock',
+			priceMinor: 3250
+		});
+		await world.control('POST', '/listing', {
+			shop: 'wattle-and-wire',
+			path: '/shop/beam-bridge-pro',
+			stock: 'in_stock'
+		});
 		await pollNow(await world.listingId('thamesbit', '/item/phosphor-one'));
 		await pollNow(await world.listingId('wattle-and-wire', '/shop/beam-bridge-pro'));
 		const rows = await outboxRows(world.db, member);

@@ -14,7 +14,19 @@ import * as t from '../../src/lib/server/db/schema';
 import { createAlertHook } from '../../src/lib/server/alerts/match';
 import { claimDue, outboxOverview, sendDue } from '../../src/lib/server/alerts/sender';
 import { inQuietWindow, quietUntil } from '../../src/lib/server/alerts/schedule';
-import { BASE_URL, SECRET, converterId, createMember, fakeMail, hours, listingId, outboxRows, scriptChange, seededDatabase, senderOptions } from './alerts-support';
+import {
+	BASE_URL,
+	SECRET,
+	converterId,
+	createMember,
+	fakeMail,
+	hours,
+	listingId,
+	outboxRows,
+	scriptChange,
+	seededDatabase,
+	senderOptions
+} from './alerts-support';
 
 let env: Awaited<ReturnType<typeof seededDatabase>>;
 let mail: Awaited<ReturnType<typeof fakeMail>>;
@@ -113,10 +125,17 @@ describe('several senders and crashes', () => {
 		expect(a.length + b.length, `${a.length}+${b.length}`).toBe(40);
 		expect(a.filter((id) => b.includes(id))).toEqual([]);
 		// Hand the rows back (as if both leases ran out) and let two senders deliver them.
-		await env.db.update(t.alertOutbox).set({ leaseUntil: sql`now() - interval '1 second'` }).where(inArray(t.alertOutbox.id, [...a, ...b]));
+		await env.db
+			.update(t.alertOutbox)
+			.set({ leaseUntil: sql`now() - interval '1 second'` })
+			.where(inArray(t.alertOutbox.id, [...a, ...b]));
 		await Promise.all([
-			sendDue(env.db, senderOptions(mail.smtpPort, { batchSize: 7, owner: 's1' })).then(() => sendDue(env.db, senderOptions(mail.smtpPort, { batchSize: 50, owner: 's1' }))),
-			sendDue(env.db, senderOptions(mail.smtpPort, { batchSize: 9, owner: 's2' })).then(() => sendDue(env.db, senderOptions(mail.smtpPort, { batchSize: 50, owner: 's2' })))
+			sendDue(env.db, senderOptions(mail.smtpPort, { batchSize: 7, owner: 's1' })).then(() =>
+				sendDue(env.db, senderOptions(mail.smtpPort, { batchSize: 50, owner: 's1' }))
+			),
+			sendDue(env.db, senderOptions(mail.smtpPort, { batchSize: 9, owner: 's2' })).then(() =>
+				sendDue(env.db, senderOptions(mail.smtpPort, { batchSize: 50, owner: 's2' }))
+			)
 		]);
 		for (const u of users) expect(mail.to(u.email!)).toHaveLength(1);
 	});
@@ -142,7 +161,12 @@ describe('several senders and crashes', () => {
 		};
 		// Node itself with tsx's loader, not the tsx wrapper: SIGKILL must hit the process that sends
 		// (the wrapper's child would survive it as an orphan).
-		const start = () => spawn(process.execPath, ['--import', 'tsx', 'jobs/sender.ts'], { cwd: process.cwd(), env: childEnv, stdio: 'ignore' });
+		const start = () =>
+			spawn(process.execPath, ['--import', 'tsx', 'jobs/sender.ts'], {
+				cwd: process.cwd(),
+				env: childEnv,
+				stdio: 'ignore'
+			});
 
 		const received = () => users.reduce((k, u) => k + mail.to(u.email!).length, 0);
 
@@ -163,7 +187,10 @@ describe('several senders and crashes', () => {
 		running.add(child);
 		const deadline2 = Date.now() + 40_000;
 		while (Date.now() < deadline2) {
-			const rows = await env.db.select({ status: t.alertOutbox.status }).from(t.alertOutbox).where(eq(t.alertOutbox.stockEventId, ev!.id));
+			const rows = await env.db
+				.select({ status: t.alertOutbox.status })
+				.from(t.alertOutbox)
+				.where(eq(t.alertOutbox.stockEventId, ev!.id));
 			if (rows.every((r) => r.status === 'sent')) break;
 			await sleep(100);
 		}
@@ -196,16 +223,28 @@ describe('quiet hours', () => {
 	it('end at the local hour in the member time zone, across a daylight-saving change', () => {
 		// Europe/Berlin moves from 02:00 CET to 03:00 CEST on 2025-03-30.
 		const at = new Date('2025-03-30T00:30:00Z'); // 01:30 in Berlin (UTC+1)
-		expect(quietUntil(at, { quietFrom: 22, quietTo: 7, timezone: 'Europe/Berlin' })?.toISOString()).toBe('2025-03-30T05:00:00.000Z'); // 07:00 CEST
-		expect(quietUntil(new Date('2025-06-01T12:00:00Z'), { quietFrom: 22, quietTo: 7, timezone: 'Europe/Berlin' })).toBeNull();
-		expect(quietUntil(new Date('2025-06-01T12:15:00Z'), { quietFrom: 21, quietTo: 8, timezone: 'Asia/Tokyo' })?.toISOString()).toBe('2025-06-01T23:00:00.000Z');
+		expect(quietUntil(at, { quietFrom: 22, quietTo: 7, timezone: 'Europe/Berlin' })?.toISOString()).toBe(
+			'2025-03-30T05:00:00.000Z'
+		); // 07:00 CEST
+		expect(
+			quietUntil(new Date('2025-06-01T12:00:00Z'), { quietFrom: 22, quietTo: 7, timezone: 'Europe/Berlin' })
+		).toBeNull();
+		expect(
+			quietUntil(new Date('2025-06-01T12:15:00Z'), { quietFrom: 21, quietTo: 8, timezone: 'Asia/Tokyo' })?.toISOString()
+		).toBe('2025-06-01T23:00:00.000Z');
 	});
 
 	it('the sender defers an alert to the end of the member quiet hours', async () => {
 		// Quiet all day but the next hour, in UTC: whatever the time now, we are inside the window.
 		const h = new Date().getUTCHours();
-		const member = await createMember(env.db, 'sleeper@example.test', { quietFrom: (h + 23) % 24, quietTo: (h + 1) % 24, timezone: 'UTC' });
-		await env.db.insert(t.watches).values({ userId: member, converterId: await converterId(env.db, 'quillfen-q-cast-mini') });
+		const member = await createMember(env.db, 'sleeper@example.test', {
+			quietFrom: (h + 23) % 24,
+			quietTo: (h + 1) % 24,
+			timezone: 'UTC'
+		});
+		await env.db
+			.insert(t.watches)
+			.values({ userId: member, converterId: await converterId(env.db, 'quillfen-q-cast-mini') });
 		await restock('kumo-parts', 'quillfen-q-cast-mini');
 		const r = await sendDue(env.db, senderOptions(mail.smtpPort));
 		expect(r.deferred).toBe(1);

@@ -82,7 +82,10 @@ export function senderOptions(smtpPort: number, extra: Partial<SenderOptions> = 
 }
 
 export async function createMember(db: Database, email: string, pref?: Partial<typeof t.memberPrefs.$inferInsert>) {
-	const [u] = await db.insert(t.users).values({ email, name: email.split('@')[0] }).returning({ id: t.users.id });
+	const [u] = await db
+		.insert(t.users)
+		.values({ email, name: email.split('@')[0] })
+		.returning({ id: t.users.id });
 	if (pref) await db.insert(t.memberPrefs).values({ userId: u.id, ...pref });
 	return u.id;
 }
@@ -121,19 +124,47 @@ export async function scriptChange(
 		const price = change.priceMinor ?? state.currentPriceMinor ?? 1000;
 		const [obs] = await tx
 			.insert(t.observations)
-			.values({ listingId: change.listingId, observedAt: change.at, priceMinor: price, currency: shop.currency, stock: change.stock })
+			.values({
+				listingId: change.listingId,
+				observedAt: change.at,
+				priceMinor: price,
+				currency: shop.currency,
+				stock: change.stock
+			})
 			.returning({ id: t.observations.id });
 		const was = isBuyable(state.currentStock);
 		const now = isBuyable(change.stock);
-		const kind = !was && now ? 'restock' : was && !now ? 'sellout' : now && state.currentPriceMinor != null && price < state.currentPriceMinor ? 'price_drop' : null;
+		const kind =
+			!was && now
+				? 'restock'
+				: was && !now
+					? 'sellout'
+					: now && state.currentPriceMinor != null && price < state.currentPriceMinor
+						? 'price_drop'
+						: null;
 		await tx
 			.update(t.listingStates)
-			.set({ currentStock: change.stock, currentPriceMinor: price, currentCurrency: shop.currency, currentSince: change.at, lastCheckedAt: change.at, lastSuccessAt: change.at })
+			.set({
+				currentStock: change.stock,
+				currentPriceMinor: price,
+				currentCurrency: shop.currency,
+				currentSince: change.at,
+				lastCheckedAt: change.at,
+				lastSuccessAt: change.at
+			})
 			.where(eq(t.listingStates.listingId, change.listingId));
 		if (!kind) return null;
 		const [ev] = await tx
 			.insert(t.stockEvents)
-			.values({ listingId: change.listingId, observationId: obs.id, kind, at: change.at, priceMinor: price, currency: shop.currency, previousStock: state.currentStock })
+			.values({
+				listingId: change.listingId,
+				observationId: obs.id,
+				kind,
+				at: change.at,
+				priceMinor: price,
+				currency: shop.currency,
+				previousStock: state.currentStock
+			})
 			.returning();
 		const input: StockEventInput = {
 			id: ev.id,

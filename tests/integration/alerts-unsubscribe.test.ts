@@ -14,7 +14,18 @@ import { createAlertHook } from '../../src/lib/server/alerts/match';
 import { sendDue } from '../../src/lib/server/alerts/sender';
 import { signUnsubscribeToken, verifyUnsubscribeToken } from '../../src/lib/server/alerts/token';
 import { unsubscribeWithToken } from '../../src/lib/server/alerts/unsubscribe';
-import { SECRET, converterId, createMember, fakeMail, hours, listingId, outboxRows, scriptChange, seededDatabase, senderOptions } from './alerts-support';
+import {
+	SECRET,
+	converterId,
+	createMember,
+	fakeMail,
+	hours,
+	listingId,
+	outboxRows,
+	scriptChange,
+	seededDatabase,
+	senderOptions
+} from './alerts-support';
 
 // The route reads its settings through $env/dynamic/private: point that at process.env, set below.
 vi.mock('$env/dynamic/private', () => ({ env: process.env }));
@@ -64,7 +75,9 @@ describe('one-click unsubscribe', () => {
 
 	beforeAll(async () => {
 		member = await createMember(env.db, 'unsub@example.test');
-		await env.db.insert(t.watches).values({ userId: member, converterId: await converterId(env.db, 'morrowgate-phosphor-one') });
+		await env.db
+			.insert(t.watches)
+			.values({ userId: member, converterId: await converterId(env.db, 'morrowgate-phosphor-one') });
 		listing = await listingId(env.db, 'thamesbit', 'morrowgate-phosphor-one');
 		await scriptChange(env.db, hook, { listingId: listing, stock: 'in_stock', at: t0 });
 		await sendDue(env.db, senderOptions(mail.smtpPort));
@@ -97,14 +110,21 @@ describe('one-click unsubscribe', () => {
 	});
 
 	it('a forged token answers 400 and changes nothing', async () => {
-		const result = await route.actions.default({ params: { token: 'w1.AAAAAAAAAAAAAAAAAAAAAA' }, request: new Request('https://x.test', { method: 'POST' }) });
+		const result = await route.actions.default({
+			params: { token: 'w1.AAAAAAAAAAAAAAAAAAAAAA' },
+			request: new Request('https://x.test', { method: 'POST' })
+		});
 		expect(result.status).toBe(400);
 		expect((await route.load({ params: { token: 'nonsense' }, setHeaders: () => {} })).valid).toBe(false);
 	});
 
 	it('stops further mail: the next restock alerts nobody', async () => {
 		const before = mail.to('unsub@example.test').length;
-		await scriptChange(env.db, hook, { listingId: listing, stock: 'out_of_stock', at: new Date(t0.getTime() + hours(1)) });
+		await scriptChange(env.db, hook, {
+			listingId: listing,
+			stock: 'out_of_stock',
+			at: new Date(t0.getTime() + hours(1))
+		});
 		await scriptChange(env.db, hook, { listingId: listing, stock: 'in_stock', at: new Date(t0.getTime() + hours(2)) });
 		await sendDue(env.db, senderOptions(mail.smtpPort));
 		expect(mail.to('unsub@example.test').length).toBe(before);
@@ -112,11 +132,22 @@ describe('one-click unsubscribe', () => {
 
 	it('skips alerts already waiting in the outbox', async () => {
 		const other = await createMember(env.db, 'waiting@example.test');
-		const [w] = await env.db.insert(t.watches).values({ userId: other, converterId: await converterId(env.db, 'morrowgate-phosphor-one') }).returning();
-		await scriptChange(env.db, hook, { listingId: listing, stock: 'out_of_stock', at: new Date(t0.getTime() + hours(3)) });
+		const [w] = await env.db
+			.insert(t.watches)
+			.values({ userId: other, converterId: await converterId(env.db, 'morrowgate-phosphor-one') })
+			.returning();
+		await scriptChange(env.db, hook, {
+			listingId: listing,
+			stock: 'out_of_stock',
+			at: new Date(t0.getTime() + hours(3))
+		});
 		await scriptChange(env.db, hook, { listingId: listing, stock: 'in_stock', at: new Date(t0.getTime() + hours(4)) });
 		expect((await outboxRows(env.db, other))[0].status).toBe('pending');
-		const outcome = await unsubscribeWithToken(env.db, SECRET, signUnsubscribeToken(SECRET, { kind: 'watch', watchId: w.id }));
+		const outcome = await unsubscribeWithToken(
+			env.db,
+			SECRET,
+			signUnsubscribeToken(SECRET, { kind: 'watch', watchId: w.id })
+		);
 		expect(outcome).toMatchObject({ paused: 1, skipped: 1 });
 		await sendDue(env.db, senderOptions(mail.smtpPort));
 		expect(mail.to('waiting@example.test')).toHaveLength(0);
@@ -128,7 +159,11 @@ describe('one-click unsubscribe', () => {
 			{ userId: m, converterId: await converterId(env.db, 'tessaloop-loop-rgb') },
 			{ userId: m, minBand: 'close' }
 		]);
-		const outcome = await unsubscribeWithToken(env.db, SECRET, signUnsubscribeToken(SECRET, { kind: 'all', userId: m }));
+		const outcome = await unsubscribeWithToken(
+			env.db,
+			SECRET,
+			signUnsubscribeToken(SECRET, { kind: 'all', userId: m })
+		);
 		expect(outcome).toMatchObject({ paused: 2, what: 'every Scopegrade alert to this address' });
 		const watches = await env.db.select().from(t.watches).where(eq(t.watches.userId, m));
 		expect(watches.every((w) => w.paused)).toBe(true);

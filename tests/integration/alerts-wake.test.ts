@@ -31,10 +31,15 @@ const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
 describe('NOTIFY from the poller transaction', () => {
 	it('wakes a listener after the restock commits, with the outbox rows already there; a rolled-back poll wakes nobody', async () => {
 		const member = await createMember(world.db, 'wake@example.test');
-		await world.db.insert(t.watches).values({ userId: member, converterId: await converterId(world.db, 'vantacove-beam-bridge') });
+		await world.db
+			.insert(t.watches)
+			.values({ userId: member, converterId: await converterId(world.db, 'vantacove-beam-bridge') });
 		const listing = await world.listingId('northbay-circuits', '/products/beam-bridge');
 		const poll = async (hook = createAlertHook({ quietHours: 12 })) => {
-			await world.db.update(t.listingStates).set({ pollRequestedAt: world.clock.now() }).where(eq(t.listingStates.listingId, listing));
+			await world.db
+				.update(t.listingStates)
+				.set({ pollRequestedAt: world.clock.now() })
+				.where(eq(t.listingStates.listingId, listing));
 			const p = world.poller({ onStockEvents: hook });
 			const r = await p.pollListing(listing);
 			await p.release();
@@ -54,7 +59,11 @@ describe('NOTIFY from the poller transaction', () => {
 
 		// A hook that writes the rows, notifies, then fails: rolled back, so no notification.
 		world.clock.advance(3_600_000);
-		await world.control('POST', '/listing', { shop: 'northbay-circuits', path: '/products/beam-bridge', stock: 'in_stock' });
+		await world.control('POST', '/listing', {
+			shop: 'northbay-circuits',
+			path: '/products/beam-bridge',
+			stock: 'in_stock'
+		});
 		const real = createAlertHook({ quietHours: 12 });
 		const failing = await poll(async (tx, events) => {
 			await real(tx, events);

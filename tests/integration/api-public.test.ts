@@ -7,7 +7,16 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { eq } from 'drizzle-orm';
 import { seedDemo } from '../../src/lib/server/db/seed';
 import { converters, guidePicks, guides, revisions, shops, teardownReports } from '../../src/lib/server/db/schema';
-import { exportCatalogue, exportReadings, listGuides, loadCatalogue, loadConverterDetail, loadGuide, loadRestocks, loadRevision } from '../../src/lib/server/queries/public';
+import {
+	exportCatalogue,
+	exportReadings,
+	listGuides,
+	loadCatalogue,
+	loadConverterDetail,
+	loadGuide,
+	loadRestocks,
+	loadRevision
+} from '../../src/lib/server/queries/public';
 import { filterCatalogue, rankFinder } from '../../src/lib/finder';
 import { CONVERTERS, DEMO_GUIDE, LISTINGS, TEARDOWNS, TESTERS, TESTER_REVISIONS } from '../../src/lib/demo/scenario';
 import { freshDatabase } from './helpers/db';
@@ -28,7 +37,12 @@ describe('public guide queries', () => {
 		const scanlet = all.find((c) => c.slug === 'brisling-scanlet')!;
 		expect(scanlet.revisions.map((r) => `${r.code}:${r.band}`)).toEqual(['A:close', 'B:failing']);
 		// EU: Kanalhaus 11.90 EUR in stock is the cheapest buyable offer (scenario LISTINGS).
-		expect(scanlet.best).toMatchObject({ shopSlug: 'kanalhaus', displayMinor: 1190, displayCurrency: 'EUR', stock: 'in_stock' });
+		expect(scanlet.best).toMatchObject({
+			shopSlug: 'kanalhaus',
+			displayMinor: 1190,
+			displayCurrency: 'EUR',
+			stock: 'in_stock'
+		});
 	});
 
 	it('"in stock, Close or better, EU, with audio" gives exactly the matching demo converters', async () => {
@@ -40,11 +54,19 @@ describe('public guide queries', () => {
 		const all = await loadCatalogue(h.db, { region: 'eu', currency: 'EUR' });
 		const hit = filterCatalogue(all, { inStock: true, minBand: 'close', audio: true, sort: 'band' });
 		expect(hit.map((c) => c.slug)).toEqual(['vantacove-beam-bridge', 'halvecraft-rgb-porter']);
-		const ranked = rankFinder(all, { region: 'eu', inStockNow: true, minBand: 'close', needsAudio: true, budgetMinor: 2500 });
+		const ranked = rankFinder(all, {
+			region: 'eu',
+			inStockNow: true,
+			minBand: 'close',
+			needsAudio: true,
+			budgetMinor: 2500
+		});
 		expect(ranked.map((r) => r.entry.slug)).toEqual(['vantacove-beam-bridge', 'halvecraft-rgb-porter']);
 		expect(ranked[0].explanation).toBe('Exact band; in stock at 1 shop in your region; lowest 22.90 EUR');
 		// Under 20 EUR nothing that ships today is Close or better.
-		expect(rankFinder(all, { region: 'eu', inStockNow: true, minBand: 'close', needsAudio: true, budgetMinor: 2000 })).toEqual([]);
+		expect(
+			rankFinder(all, { region: 'eu', inStockNow: true, minBand: 'close', needsAudio: true, budgetMinor: 2000 })
+		).toEqual([]);
 	});
 
 	it('prices in another currency through the stored rates', async () => {
@@ -79,7 +101,15 @@ describe('public guide queries', () => {
 		const revs = await h.db.select().from(revisions).where(eq(revisions.converterId, conv.id));
 		const [shop] = await h.db.select().from(shops).where(eq(shops.slug, 'kanalhaus'));
 		const b = revs.find((r) => r.code === 'B')!;
-		await h.db.insert(teardownReports).values({ converterId: conv.id, revisionId: b.id, shopId: shop.id, purchaseMonth: '2026-09-01', status: 'pending' });
+		await h.db
+			.insert(teardownReports)
+			.values({
+				converterId: conv.id,
+				revisionId: b.id,
+				shopId: shop.id,
+				purchaseMonth: '2026-09-01',
+				status: 'pending'
+			});
 		const d = (await loadConverterDetail(h.db, 'brisling-scanlet', { region: 'eu', currency: 'EUR' }))!;
 		const seeded = TEARDOWNS.filter((t) => t.converter === 'brisling-scanlet');
 		expect(d.teardowns).toHaveLength(seeded.length);
@@ -97,7 +127,16 @@ describe('public guide queries', () => {
 	it('flags guide picks that were re-graded or cannot be bought', async () => {
 		// the demo guide is there from the seed
 		expect((await listGuides(h.db)).map((x) => x.slug)).toEqual([DEMO_GUIDE.slug]);
-		const [g] = await h.db.insert(guides).values({ slug: 'first-box', title: 'A first box', status: 'published', publishedAt: now, bodyMarkdown: '## Why\n\nBecause.' }).returning();
+		const [g] = await h.db
+			.insert(guides)
+			.values({
+				slug: 'first-box',
+				title: 'A first box',
+				status: 'published',
+				publishedAt: now,
+				bodyMarkdown: '## Why\n\nBecause.'
+			})
+			.returning();
 		await h.db.insert(guides).values({ slug: 'draft-one', title: 'Draft', status: 'draft' });
 		const ids = Object.fromEntries((await h.db.select().from(converters)).map((c) => [c.slug, c.id]));
 		await h.db.insert(guidePicks).values([
@@ -115,7 +154,7 @@ describe('public guide queries', () => {
 		expect(await loadGuide(h.db, 'draft-one', { region: 'na', currency: 'USD' })).toBeNull();
 	});
 
-	it('lists restocks newest first with the converter\'s lead band', async () => {
+	it("lists restocks newest first with the converter's lead band", async () => {
 		const restocks = await loadRestocks(h.db, 500);
 		expect(restocks.length).toBeGreaterThan(0);
 		expect(restocks.every((r, i) => i === 0 || restocks[i - 1].at >= r.at)).toBe(true);
@@ -128,7 +167,8 @@ describe('public guide queries', () => {
 		expect(cat).toHaveLength(CONVERTERS.reduce((n, c) => n + c.revisions.length, 0));
 		const readings = await exportReadings(h.db);
 		const runs =
-			CONVERTERS.reduce((n, c) => n + c.revisions.reduce((m, r) => m + r.runs, 0), 0) + TESTERS.length * TESTER_REVISIONS.length;
+			CONVERTERS.reduce((n, c) => n + c.revisions.reduce((m, r) => m + r.runs, 0), 0) +
+			TESTERS.length * TESTER_REVISIONS.length;
 		expect(readings).toHaveLength(runs * 11);
 	});
 });

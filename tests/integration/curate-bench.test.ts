@@ -109,13 +109,20 @@ describe('reading a trace', () => {
 		}
 		expect(engineMessage).toMatch(/plateaus/);
 		expect(data.traceError).toBe(engineMessage);
-		expect(data.form.data).toMatchObject({ measuredBy: 'Kept Name', instrument: 'Kept Scope', notes: 'typed before the upload' });
+		expect(data.form.data).toMatchObject({
+			measuredBy: 'Kept Name',
+			instrument: 'Kept Scope',
+			notes: 'typed before the upload'
+		});
 		expect(await w.db.select().from(t.files)).toHaveLength(before.length);
 	});
 
 	it('refuses a binary file posing as a trace', async () => {
 		const fd = meta();
-		fd.set('trace', new File([new Uint8Array([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a, 0, 0, 0, 13])], 'scope.csv'));
+		fd.set(
+			'trace',
+			new File([new Uint8Array([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a, 0, 0, 0, 13])], 'scope.csv')
+		);
 		const res = await readTraceAction(w.db, w.storage, w.curator, fd);
 		expect('status' in res && res.status).toBe(415);
 		expect((res as { data: { traceError: string } }).data.traceError).toMatch(/PNG image, not a CSV/);
@@ -124,7 +131,10 @@ describe('reading a trace', () => {
 
 describe('saving', () => {
 	it('a curator’s run is accepted, regrades the revision and marks the converter reviewed', async () => {
-		await w.db.update(t.converters).set({ lastReviewedAt: new Date('2020-01-01') }).where(eq(t.converters.id, converterId));
+		await w.db
+			.update(t.converters)
+			.set({ lastReviewedAt: new Date('2020-01-01') })
+			.where(eq(t.converters.id, converterId));
 		const res = await saveRunAction(w.db, w.curator, grid(meta(), exact));
 		expect(res.ok).toBe(true);
 		const [rev] = await w.db.select().from(t.revisions).where(eq(t.revisions.id, revisionId));
@@ -166,7 +176,9 @@ describe('saving', () => {
 		await reviewBenchRun(w.db, w.curator, { id: res.id, decision: 'accept', reason: 'Readings look plausible' });
 		[rev] = await w.db.select().from(t.revisions).where(eq(t.revisions.id, revisionId));
 		expect(rev.runCount).toBe(2);
-		await expect(reviewBenchRun(w.db, w.curator, { id: res.id, decision: 'reject', reason: 'again' })).rejects.toThrow(/already accepted/);
+		await expect(reviewBenchRun(w.db, w.curator, { id: res.id, decision: 'reject', reason: 'again' })).rejects.toThrow(
+			/already accepted/
+		);
 	});
 
 	it('superseding a run keeps it but regrades without it', async () => {

@@ -9,7 +9,10 @@ import { createListing } from '../../src/lib/server/curate/listings';
 import { createConverter } from '../../src/lib/server/curate/catalogue';
 import { curateWorld } from './helpers/curate-world';
 
-const resolvesTo = (...addresses: string[]): LookupFn => async () => addresses.map((address) => ({ address, family: address.includes(':') ? 6 : 4 }));
+const resolvesTo =
+	(...addresses: string[]): LookupFn =>
+	async () =>
+		addresses.map((address) => ({ address, family: address.includes(':') ? 6 : 4 }));
 
 describe('address ranges', () => {
 	it.each([
@@ -37,11 +40,18 @@ describe('checkFeedUrl', () => {
 	const base = 'https://shop.example';
 	it('refuses a host that resolves to a private address', async () => {
 		const r = await checkFeedUrl('https://shop.example/p/1', base, { lookup: resolvesTo('93.184.216.34', '10.0.0.5') });
-		expect(r).toEqual({ ok: false, reason: expect.stringMatching(/shop.example points to 10.0.0.5, a private address/) });
+		expect(r).toEqual({
+			ok: false,
+			reason: expect.stringMatching(/shop.example points to 10.0.0.5, a private address/)
+		});
 	});
 	it('refuses another host, a look-alike host and another port', async () => {
 		const lookup = resolvesTo('93.184.216.34');
-		for (const u of ['https://other.example/p', 'https://shop.example.attacker.test/p', 'https://shop.example:8443/p']) {
+		for (const u of [
+			'https://other.example/p',
+			'https://shop.example.attacker.test/p',
+			'https://shop.example:8443/p'
+		]) {
 			const r = await checkFeedUrl(u, base, { lookup });
 			expect(r.ok, u).toBe(false);
 			if (!r.ok) expect(r.reason).toMatch(/must be on the shop's own site/);
@@ -49,12 +59,18 @@ describe('checkFeedUrl', () => {
 	});
 	it('refuses other schemes and credentials', async () => {
 		expect((await checkFeedUrl('file:///etc/passwd', base)).ok).toBe(false);
-		expect((await checkFeedUrl('https://u:p@shop.example/', base, { lookup: resolvesTo('93.184.216.34') })).ok).toBe(false);
+		expect((await checkFeedUrl('https://u:p@shop.example/', base, { lookup: resolvesTo('93.184.216.34') })).ok).toBe(
+			false
+		);
 	});
 	it('admits a public address, and loopback only when private addresses are allowed', async () => {
-		expect((await checkFeedUrl('https://shop.example/p/1', base, { lookup: resolvesTo('93.184.216.34') })).ok).toBe(true);
+		expect((await checkFeedUrl('https://shop.example/p/1', base, { lookup: resolvesTo('93.184.216.34') })).ok).toBe(
+			true
+		);
 		expect((await checkFeedUrl('http://127.0.0.1:4411/p', 'http://127.0.0.1:4411')).ok).toBe(false);
-		expect((await checkFeedUrl('http://127.0.0.1:4411/p', 'http://127.0.0.1:4411', { allowPrivate: true })).ok).toBe(true);
+		expect((await checkFeedUrl('http://127.0.0.1:4411/p', 'http://127.0.0.1:4411', { allowPrivate: true })).ok).toBe(
+			true
+		);
 	});
 });
 
@@ -68,11 +84,36 @@ describe('createListing', () => {
 	it('refuses a listing on a private address and stores nothing', async () => {
 		const [shop] = await w.db
 			.insert(t.shops)
-			.values({ slug: 'loop-shop', name: 'Loop Shop', region: 'eu', currency: 'EUR', baseUrl: 'http://127.0.0.1:4999', defaultFormat: 'jsonld' })
+			.values({
+				slug: 'loop-shop',
+				name: 'Loop Shop',
+				region: 'eu',
+				currency: 'EUR',
+				baseUrl: 'http://127.0.0.1:4999',
+				defaultFormat: 'jsonld'
+			})
 			.returning();
-		const conv = await createConverter(w.db, w.curator, { brand: 'B', model: 'M', slug: '', summary: '', hasAudioOut: false, power: 'usb-bus', outputs: ['vga'] });
-		const input = { shopId: shop.id, converterId: conv.id, url: 'http://127.0.0.1:4999/p/1', format: 'jsonld' as const, pollIntervalMinutes: 60, feedConfig: '' };
-		await expect(createListing(w.db, w.curator, input)).rejects.toMatchObject({ field: 'url', message: expect.stringMatching(/loopback/) });
+		const conv = await createConverter(w.db, w.curator, {
+			brand: 'B',
+			model: 'M',
+			slug: '',
+			summary: '',
+			hasAudioOut: false,
+			power: 'usb-bus',
+			outputs: ['vga']
+		});
+		const input = {
+			shopId: shop.id,
+			converterId: conv.id,
+			url: 'http://127.0.0.1:4999/p/1',
+			format: 'jsonld' as const,
+			pollIntervalMinutes: 60,
+			feedConfig: ''
+		};
+		await expect(createListing(w.db, w.curator, input)).rejects.toMatchObject({
+			field: 'url',
+			message: expect.stringMatching(/loopback/)
+		});
 		expect(await w.db.select().from(t.listings)).toHaveLength(0);
 		const ok = await createListing(w.db, w.curator, input, { allowPrivate: true });
 		expect(ok.url).toBe('http://127.0.0.1:4999/p/1');

@@ -23,7 +23,10 @@ async function nothingStored() {
 async function photoWithGps() {
 	return sharp({ create: { width: 64, height: 48, channels: 3, background: { r: 40, g: 90, b: 60 } } })
 		.jpeg()
-		.withExif({ IFD0: { Make: 'Invented Camera', Model: 'Test 1' }, IFD3: { GPSLatitudeRef: 'N', GPSLatitude: '51/1 30/1 0/1' } })
+		.withExif({
+			IFD0: { Make: 'Invented Camera', Model: 'Test 1' },
+			IFD3: { GPSLatitudeRef: 'N', GPSLatitude: '51/1 30/1 0/1' }
+		})
 		.toBuffer();
 }
 
@@ -48,9 +51,9 @@ describe('refused uploads store nothing', () => {
 
 	it('a truncated image with a valid signature is refused as unreadable', async () => {
 		const good = await photoWithGps();
-		await expect(storePhoto(w.db, w.storage, w.member, { name: 'cut.jpg', bytes: new Uint8Array(good.subarray(0, 40)) })).rejects.toThrow(
-			/could not be read as an image/
-		);
+		await expect(
+			storePhoto(w.db, w.storage, w.member, { name: 'cut.jpg', bytes: new Uint8Array(good.subarray(0, 40)) })
+		).rejects.toThrow(/could not be read as an image/);
 		await nothingStored();
 	});
 });
@@ -63,7 +66,12 @@ describe('accepted photos', () => {
 		const rows = await w.db.select().from(t.files);
 		expect(rows.map((r) => r.kind).sort()).toEqual(['photo', 'thumbnail']);
 		const photo = rows.find((r) => r.id === stored.id)!;
-		expect(photo).toMatchObject({ status: 'pending', ownerId: w.member.id, contentType: 'image/jpeg', thumbnailId: stored.thumbnailId });
+		expect(photo).toMatchObject({
+			status: 'pending',
+			ownerId: w.member.id,
+			contentType: 'image/jpeg',
+			thumbnailId: stored.thumbnailId
+		});
 		const bytes = await w.storage.getBytes(photo.storageKey);
 		const meta = await sharp(bytes!).metadata();
 		expect(meta.exif).toBeUndefined();
@@ -85,8 +93,12 @@ describe('accepted photos', () => {
 
 describe('sniffing', () => {
 	it('tells images and text apart by their bytes', async () => {
-		const png = await sharp({ create: { width: 2, height: 2, channels: 3, background: '#000' } }).png().toBuffer();
-		const webp = await sharp({ create: { width: 2, height: 2, channels: 3, background: '#000' } }).webp().toBuffer();
+		const png = await sharp({ create: { width: 2, height: 2, channels: 3, background: '#000' } })
+			.png()
+			.toBuffer();
+		const webp = await sharp({ create: { width: 2, height: 2, channels: 3, background: '#000' } })
+			.webp()
+			.toBuffer();
 		expect(sniffType(new Uint8Array(png))).toBe('image/png');
 		expect(sniffType(new Uint8Array(webp))).toBe('image/webp');
 		expect(sniffType(new TextEncoder().encode('a,b\n1,2\n'))).toBe('text/csv');

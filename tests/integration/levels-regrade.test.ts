@@ -45,7 +45,10 @@ function run(readings: ReturnType<typeof ramp>, termination: '75-ohm' | 'unknown
 beforeAll(async () => {
 	w = await freshDatabase('sg_it_levels_regrade');
 	const [chip] = await w.db.insert(t.chips).values({ slug: 'qx-1', name: 'QX-1', maker: 'Test Maker' }).returning();
-	const [conv] = await w.db.insert(t.converters).values({ slug: 'box-one', brand: 'Testbrand', model: 'Box One' }).returning();
+	const [conv] = await w.db
+		.insert(t.converters)
+		.values({ slug: 'box-one', brand: 'Testbrand', model: 'Box One' })
+		.returning();
 	const [rev] = await w.db.insert(t.revisions).values({ converterId: conv.id, code: 'A', chipId: chip.id }).returning();
 	revisionId = rev.id;
 });
@@ -58,7 +61,10 @@ describe('regradeStaleReports (the data step after a rubric change)', () => {
 		const bad = await recordBenchRun(w.db, run(unterminated, 'unknown'));
 		// Pretend everything was stored under the previous rubric, where the median-score run
 		// decided the band (a Failing result for Close, Poor and Failing runs).
-		await w.db.update(t.benchRuns).set({ rubricVersion: 'sg-levels-1', band: 'poor', score: 50 }).where(eq(t.benchRuns.id, bad.id));
+		await w.db
+			.update(t.benchRuns)
+			.set({ rubricVersion: 'sg-levels-1', band: 'poor', score: 50 })
+			.where(eq(t.benchRuns.id, bad.id));
 		await w.db.update(t.benchRuns).set({ rubricVersion: 'sg-levels-1' }).where(eq(t.benchRuns.revisionId, revisionId));
 		await w.db
 			.update(t.revisions)
@@ -97,7 +103,14 @@ describe('regradeStaleReports (the data step after a rubric change)', () => {
 	});
 
 	it('a revision whose only runs are unterminated is not graded; a black a few mV below blanking is stored as read', async () => {
-		const [rev2] = await w.db.insert(t.revisions).values({ converterId: (await w.db.select().from(t.converters))[0].id, code: 'B', chipId: (await w.db.select().from(t.chips))[0].id }).returning();
+		const [rev2] = await w.db
+			.insert(t.revisions)
+			.values({
+				converterId: (await w.db.select().from(t.converters))[0].id,
+				code: 'B',
+				chipId: (await w.db.select().from(t.chips))[0].id
+			})
+			.returning();
 		await recordBenchRun(w.db, { ...run(unterminated), revisionId: rev2.id });
 		const agg = await regradeRevision(w.db, rev2.id);
 		expect(agg).toMatchObject({ band: null, count: 0, notGradedCount: 1 });
@@ -106,7 +119,10 @@ describe('regradeStaleReports (the data step after a rubric change)', () => {
 
 		const below = ramp((i) => (i === 0 ? [-4, -2.5, 0] : perfect(i)));
 		const { id } = await recordBenchRun(w.db, { ...run(below), revisionId: rev2.id });
-		const readings = await w.db.select().from(t.benchReadings).where(and(eq(t.benchReadings.benchRunId, id), eq(t.benchReadings.ire, 0)));
+		const readings = await w.db
+			.select()
+			.from(t.benchReadings)
+			.where(and(eq(t.benchReadings.benchRunId, id), eq(t.benchReadings.ire, 0)));
 		expect(readings[0]).toMatchObject({ rMv: -4, gMv: -2.5, bMv: 0 });
 		expect((await regradeRevision(w.db, rev2.id))!.band).toBe('exact');
 	});

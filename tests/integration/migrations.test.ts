@@ -19,10 +19,30 @@ describe('migrations', () => {
 			select table_name from information_schema.tables where table_schema = 'public' order by 1`;
 		const names = rows.map((r) => r.table_name);
 		for (const table of [
-			'user', 'account', 'session', 'verificationToken', 'member_pref',
-			'chip', 'converter', 'revision', 'bench_run', 'bench_reading', 'file',
-			'shop', 'listing', 'listing_state', 'observation', 'stock_event', 'poll_count', 'exchange_rate',
-			'teardown_report', 'watch', 'alert_outbox', 'guide', 'guide_pick', 'audit_log'
+			'user',
+			'account',
+			'session',
+			'verificationToken',
+			'member_pref',
+			'chip',
+			'converter',
+			'revision',
+			'bench_run',
+			'bench_reading',
+			'file',
+			'shop',
+			'listing',
+			'listing_state',
+			'observation',
+			'stock_event',
+			'poll_count',
+			'exchange_rate',
+			'teardown_report',
+			'watch',
+			'alert_outbox',
+			'guide',
+			'guide_pick',
+			'audit_log'
 		]) {
 			expect(names, `table ${table}`).toContain(table);
 		}
@@ -39,11 +59,17 @@ describe('migrations', () => {
 			select c.id, 'A', ch.id from converter c, chip ch returning id`;
 		const [run] = await sql`insert into bench_run (revision_id, measured_by, measured_on, test_source, instrument)
 			values (${rev.id}, 'tester', '2026-01-01', 'src', 'scope') returning id`;
-		await expect(sql`insert into bench_reading values (${run.id}, 15, 1, 1, 1)`).rejects.toThrow(/bench_reading_ire_step/);
-		await expect(sql`insert into bench_reading values (${run.id}, 10, -150, 70, 70)`).rejects.toThrow(/bench_reading_mv_range/);
+		await expect(sql`insert into bench_reading values (${run.id}, 15, 1, 1, 1)`).rejects.toThrow(
+			/bench_reading_ire_step/
+		);
+		await expect(sql`insert into bench_reading values (${run.id}, 10, -150, 70, 70)`).rejects.toThrow(
+			/bench_reading_mv_range/
+		);
 		// a black a few mV below blanking is a reading (the level engine's rubric sets the tolerance)
 		await sql`insert into bench_reading values (${run.id}, 0, -5, -2, 0)`;
-		await expect(sql`insert into bench_reading values (${run.id}, 10, 70, 70, 2500)`).rejects.toThrow(/bench_reading_mv_range/);
+		await expect(sql`insert into bench_reading values (${run.id}, 10, 70, 70, 2500)`).rejects.toThrow(
+			/bench_reading_mv_range/
+		);
 		await sql`insert into bench_reading values (${run.id}, 10, 70, 70, 70)`;
 		await expect(sql`insert into bench_reading values (${run.id}, 10, 71, 71, 71)`).rejects.toThrow(/duplicate key/);
 	});
@@ -52,6 +78,13 @@ describe('migrations', () => {
 		await expect(sql`select 'sold'::stock_state`).rejects.toThrow(/invalid input value/);
 		await expect(sql`select 'great'::band`).rejects.toThrow(/invalid input value/);
 		const states = await sql`select unnest(enum_range(null::stock_state))::text as s`;
-		expect(states.map((r) => r.s)).toEqual(['in_stock', 'out_of_stock', 'preorder', 'backorder', 'discontinued', 'unknown']);
+		expect(states.map((r) => r.s)).toEqual([
+			'in_stock',
+			'out_of_stock',
+			'preorder',
+			'backorder',
+			'discontinued',
+			'unknown'
+		]);
 	});
 });

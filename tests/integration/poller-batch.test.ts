@@ -20,7 +20,15 @@ afterAll(async () => {
 	await w?.close();
 });
 
-const ok = (stock: 'in_stock' | 'out_of_stock', priceMinor = 1000): PollVerdict => ({ kind: 'ok', priceMinor, currency: 'USD', stock, etag: '"v2"', lastModified: null, detail: 'test read' });
+const ok = (stock: 'in_stock' | 'out_of_stock', priceMinor = 1000): PollVerdict => ({
+	kind: 'ok',
+	priceMinor,
+	currency: 'USD',
+	stock,
+	etag: '"v2"',
+	lastModified: null,
+	detail: 'test read'
+});
 
 /** Claim `n` listings with a known state: out of stock at 1000 USD. */
 async function claimKnown(n: number): Promise<ClaimedListing[]> {
@@ -28,7 +36,16 @@ async function claimKnown(n: number): Promise<ClaimedListing[]> {
 	const ids = (await w.db.select({ id: listings.id }).from(listings).orderBy(listings.id).limit(n)).map((r) => r.id);
 	await w.db
 		.update(listingStates)
-		.set({ currentStock: 'out_of_stock', currentPriceMinor: 1000, currentCurrency: 'USD', nextPollAt: w.clock.now(), consecutiveFailures: 0, consecutiveNotFound: 0, leaseOwner: null, leaseUntil: null })
+		.set({
+			currentStock: 'out_of_stock',
+			currentPriceMinor: 1000,
+			currentCurrency: 'USD',
+			nextPollAt: w.clock.now(),
+			consecutiveFailures: 0,
+			consecutiveNotFound: 0,
+			leaseOwner: null,
+			leaseUntil: null
+		})
 		.where(inArray(listingStates.listingId, ids));
 	await w.db.update(listings).set({ delistedAt: null }).where(inArray(listings.id, ids));
 	const claimed = await w.poller({ workerId: 'batch-test' }).claim(n, ids);
@@ -36,7 +53,8 @@ async function claimKnown(n: number): Promise<ClaimedListing[]> {
 	return claimed.sort((a, b) => a.listingId - b.listingId);
 }
 
-const counts = async () => Number((await w.db.execute<{ n: number }>(sql`select coalesce(sum(count), 0)::int as n from ${pollCounts}`))[0].n);
+const counts = async () =>
+	Number((await w.db.execute<{ n: number }>(sql`select coalesce(sum(count), 0)::int as n from ${pollCounts}`))[0].n);
 
 describe('recordPolls', () => {
 	it('stores a mixed batch in one transaction, each listing as it would be alone', async () => {
@@ -55,7 +73,10 @@ describe('recordPolls', () => {
 			random: () => 0.5,
 			onStockEvents: async (tx, events) => {
 				// Inside the same transaction: the observation the event points at is visible here.
-				const [o] = await tx.select({ id: observations.id }).from(observations).where(eq(observations.id, events[0].observationId));
+				const [o] = await tx
+					.select({ id: observations.id })
+					.from(observations)
+					.where(eq(observations.id, events[0].observationId));
 				hookCalls.push({ kinds: events.map((ev) => ev.kind), sawObservation: !!o });
 			}
 		});
@@ -63,17 +84,58 @@ describe('recordPolls', () => {
 		expect(results.map((r) => r.outcome)).toEqual(['ok', 'ok', 'not_modified', 'timeout', 'gone']);
 		expect(results.map((r) => r.changed)).toEqual([true, false, false, false, false]);
 		expect(hookCalls).toEqual([{ kinds: ['restock'], sawObservation: true }]);
-		expect(results[0].events).toEqual([expect.objectContaining({ kind: 'restock', listingId: a.listingId, previousStock: 'out_of_stock', quiet: false })]);
+		expect(results[0].events).toEqual([
+			expect.objectContaining({ kind: 'restock', listingId: a.listingId, previousStock: 'out_of_stock', quiet: false })
+		]);
 
-		const st = new Map((await w.db.select().from(listingStates).where(inArray(listingStates.listingId, batch.map((p) => p.c.listingId)))).map((s) => [s.listingId, s]));
-		expect(st.get(a.listingId)).toMatchObject({ currentStock: 'in_stock', currentSince: now, etag: '"v2"', leaseOwner: null, lastOutcome: 'ok' });
+		const st = new Map(
+			(
+				await w.db
+					.select()
+					.from(listingStates)
+					.where(
+						inArray(
+							listingStates.listingId,
+							batch.map((p) => p.c.listingId)
+						)
+					)
+			).map((s) => [s.listingId, s])
+		);
+		expect(st.get(a.listingId)).toMatchObject({
+			currentStock: 'in_stock',
+			currentSince: now,
+			etag: '"v2"',
+			leaseOwner: null,
+			lastOutcome: 'ok'
+		});
 		expect(st.get(b.listingId)).toMatchObject({ currentStock: 'out_of_stock', etag: '"v2"', leaseOwner: null });
-		expect(st.get(c.listingId)).toMatchObject({ currentStock: 'out_of_stock', lastOutcome: 'not_modified', lastSuccessAt: now });
-		expect(st.get(d.listingId)).toMatchObject({ currentStock: 'out_of_stock', currentPriceMinor: 1000, consecutiveFailures: 1, lastError: 'slow', lastErrorAt: now });
+		expect(st.get(c.listingId)).toMatchObject({
+			currentStock: 'out_of_stock',
+			lastOutcome: 'not_modified',
+			lastSuccessAt: now
+		});
+		expect(st.get(d.listingId)).toMatchObject({
+			currentStock: 'out_of_stock',
+			currentPriceMinor: 1000,
+			consecutiveFailures: 1,
+			lastError: 'slow',
+			lastErrorAt: now
+		});
 		expect(st.get(d.listingId)!.nextPollAt.getTime()).toBeGreaterThan(now.getTime());
-		const [gone] = await w.db.select({ delistedAt: listings.delistedAt }).from(listings).where(eq(listings.id, e.listingId));
+		const [gone] = await w.db
+			.select({ delistedAt: listings.delistedAt })
+			.from(listings)
+			.where(eq(listings.id, e.listingId));
 		expect(gone.delistedAt).toEqual(now);
-		const obs = await w.db.select().from(observations).where(inArray(observations.listingId, batch.map((p) => p.c.listingId)));
+		const obs = await w.db
+			.select()
+			.from(observations)
+			.where(
+				inArray(
+					observations.listingId,
+					batch.map((p) => p.c.listingId)
+				)
+			);
 		expect(obs.filter((o) => o.observedAt.getTime() === now.getTime()).map((o) => o.listingId)).toEqual([a.listingId]);
 		expect(await counts()).toBe(before + 5);
 	});
@@ -93,20 +155,47 @@ describe('recordPolls', () => {
 			}
 		});
 		expect(results.map((r) => r.skipped ?? r.outcome)).toEqual(['write_failed', 'ok', 'not_modified']);
-		const st = new Map((await w.db.select().from(listingStates).where(inArray(listingStates.listingId, [a.listingId, b.listingId]))).map((s) => [s.listingId, s]));
-		expect(st.get(a.listingId)).toMatchObject({ currentStock: 'out_of_stock', currentPriceMinor: 1000, leaseOwner: null });
+		const st = new Map(
+			(
+				await w.db
+					.select()
+					.from(listingStates)
+					.where(inArray(listingStates.listingId, [a.listingId, b.listingId]))
+			).map((s) => [s.listingId, s])
+		);
+		expect(st.get(a.listingId)).toMatchObject({
+			currentStock: 'out_of_stock',
+			currentPriceMinor: 1000,
+			leaseOwner: null
+		});
 		expect(st.get(b.listingId)).toMatchObject({ currentStock: 'in_stock', currentPriceMinor: 1200 });
-		const evA = await w.db.select().from(stockEvents).where(and(eq(stockEvents.listingId, a.listingId), eq(stockEvents.at, now)));
-		const evB = await w.db.select().from(stockEvents).where(and(eq(stockEvents.listingId, b.listingId), eq(stockEvents.at, now)));
+		const evA = await w.db
+			.select()
+			.from(stockEvents)
+			.where(and(eq(stockEvents.listingId, a.listingId), eq(stockEvents.at, now)));
+		const evB = await w.db
+			.select()
+			.from(stockEvents)
+			.where(and(eq(stockEvents.listingId, b.listingId), eq(stockEvents.at, now)));
 		expect(evA).toHaveLength(0);
 		expect(evB).toHaveLength(1);
 	});
 
 	it('drops the result of a listing whose lease passed to another worker, and stores the rest', async () => {
 		const [a, b] = await claimKnown(2);
-		await w.db.update(listingStates).set({ leaseOwner: 'someone-else' }).where(eq(listingStates.listingId, a.listingId));
+		await w.db
+			.update(listingStates)
+			.set({ leaseOwner: 'someone-else' })
+			.where(eq(listingStates.listingId, a.listingId));
 		const now = w.clock.now();
-		const results = await recordPolls(w.db, [{ c: a, verdict: ok('in_stock'), now }, { c: b, verdict: ok('in_stock'), now }], { random: () => 0.5 });
+		const results = await recordPolls(
+			w.db,
+			[
+				{ c: a, verdict: ok('in_stock'), now },
+				{ c: b, verdict: ok('in_stock'), now }
+			],
+			{ random: () => 0.5 }
+		);
 		expect(results.map((r) => r.skipped ?? r.outcome)).toEqual(['lease_lost', 'ok']);
 		expect((await w.state(a.listingId)).currentStock).toBe('out_of_stock');
 		expect((await w.state(b.listingId)).currentStock).toBe('in_stock');
@@ -115,7 +204,16 @@ describe('recordPolls', () => {
 	it('refuses a batch that names one listing twice', async () => {
 		const [a] = await claimKnown(1);
 		const now = w.clock.now();
-		await expect(recordPolls(w.db, [{ c: a, verdict: ok('in_stock'), now }, { c: a, verdict: ok('out_of_stock'), now }], { random: () => 0.5 })).rejects.toThrow(/once/);
+		await expect(
+			recordPolls(
+				w.db,
+				[
+					{ c: a, verdict: ok('in_stock'), now },
+					{ c: a, verdict: ok('out_of_stock'), now }
+				],
+				{ random: () => 0.5 }
+			)
+		).rejects.toThrow(/once/);
 		await w.db.update(listingStates).set({ leaseOwner: null }).where(eq(listingStates.listingId, a.listingId));
 	});
 });

@@ -8,7 +8,14 @@
  */
 import { afterAll, beforeAll, beforeEach, describe, expect, it } from 'vitest';
 import { and, eq } from 'drizzle-orm';
-import { listingStates, listings, observations, pollCounts, shopPollStates, stockEvents } from '../../src/lib/server/db/schema';
+import {
+	listingStates,
+	listings,
+	observations,
+	pollCounts,
+	shopPollStates,
+	stockEvents
+} from '../../src/lib/server/db/schema';
 import { createWorld, setSpacing, T0, type World } from './poller-helpers';
 import { LISTINGS } from '../../src/lib/demo/scenario';
 
@@ -27,7 +34,9 @@ afterAll(async () => {
 beforeEach(async () => {
 	await w.control('POST', '/reset');
 	await w.db.delete(shopPollStates);
-	await w.db.update(listingStates).set({ consecutiveFailures: 0, consecutiveNotFound: 0, nextPollAt: new Date(T0.getTime() + 10 * 24 * 60 * MIN) });
+	await w.db
+		.update(listingStates)
+		.set({ consecutiveFailures: 0, consecutiveNotFound: 0, nextPollAt: new Date(T0.getTime() + 10 * 24 * 60 * MIN) });
 	w.clock.advance(60 * MIN);
 });
 
@@ -35,7 +44,14 @@ async function snapshot(listingId: number) {
 	const st = await w.state(listingId);
 	const obs = await w.db.select().from(observations).where(eq(observations.listingId, listingId));
 	const events = await w.db.select().from(stockEvents).where(eq(stockEvents.listingId, listingId));
-	return { price: st.currentPriceMinor, currency: st.currentCurrency, stock: st.currentStock, since: st.currentSince, obs: obs.length, events: events.length };
+	return {
+		price: st.currentPriceMinor,
+		currency: st.currentCurrency,
+		stock: st.currentStock,
+		since: st.currentSince,
+		obs: obs.length,
+		events: events.length
+	};
 }
 
 async function countFor(shopSlugOutcome: string) {
@@ -44,11 +60,23 @@ async function countFor(shopSlugOutcome: string) {
 }
 
 const faults: Array<[string, Record<string, unknown>, string, RegExp, string]> = [
-	['slow past the timeout', { kind: 'slow', delayMs: 3000 }, 'timeout', /no complete answer within 500 ms/, 'common practice: bounded request time'],
+	[
+		'slow past the timeout',
+		{ kind: 'slow', delayMs: 3000 },
+		'timeout',
+		/no complete answer within 500 ms/,
+		'common practice: bounded request time'
+	],
 	['HTTP 500', { kind: 'http500' }, 'http_5xx', /HTTP 500/, 'RFC 9110 15.6.1'],
 	['changed markup', { kind: 'changed-markup' }, 'unreadable', /no-price/, 'the extractor finds no offer'],
 	['a truncated body', { kind: 'truncated' }, 'unreadable', /truncated/, 'an unfinished document is not trusted'],
-	['a wrong currency', { kind: 'wrong-currency', currency: 'USD' }, 'wrong_currency', /wrong currency.*not the listing's EUR/, 'ISO 4217 code differs']
+	[
+		'a wrong currency',
+		{ kind: 'wrong-currency', currency: 'USD' },
+		'wrong_currency',
+		/wrong currency.*not the listing's EUR/,
+		'ISO 4217 code differs'
+	]
 	// A missing currency is no longer a failure: a bare amount is read in the listing's configured
 	// currency, with a note (tests/unit/feeds/pages.test.ts).
 ];
@@ -114,7 +142,9 @@ describe('Retry-After and robots.txt are obeyed', () => {
 
 		// Inside the window every thamesbit listing is due, one with "poll now" too: none is fetched.
 		await w.markRequests();
-		const thamesbit = (await w.db.select({ id: listings.id, shopId: listings.shopId }).from(listings)).filter((l) => l.shopId === pause.shopId);
+		const thamesbit = (await w.db.select({ id: listings.id, shopId: listings.shopId }).from(listings)).filter(
+			(l) => l.shopId === pause.shopId
+		);
 		for (const l of thamesbit) await w.makeDue(l.id);
 		await w.db.update(listingStates).set({ pollRequestedAt: w.clock.now() }).where(eq(listingStates.listingId, id));
 		w.clock.advance(9 * MIN);
@@ -160,7 +190,9 @@ describe('Retry-After and robots.txt are obeyed', () => {
 		expect(reqs.filter((q) => q.path === '/robots.txt')).toHaveLength(1);
 		expect(reqs.map((q) => q.path)).not.toContain(path);
 		// The shop's other pages are still read.
-		expect(reqs.filter((q) => q.path.startsWith('/artikel/')).length).toBe(LISTINGS.filter((l) => l.shop === 'kanalhaus').length - 1);
+		expect(reqs.filter((q) => q.path.startsWith('/artikel/')).length).toBe(
+			LISTINGS.filter((l) => l.shop === 'kanalhaus').length - 1
+		);
 		const st = await w.state(id);
 		expect(st.lastOutcome).toBe('robots_disallowed');
 		expect(st.lastError).toMatch(/Disallow: \/artikel\/brisling-scanlet/);
@@ -238,7 +270,13 @@ describe('gone pages, redirects and "poll now"', () => {
 	it('a moved page is followed through its redirect (RFC 9110 15.4.2)', async () => {
 		const path = '/shop/brisling-scanlet';
 		const id = await w.listingId('wattle-and-wire', path);
-		await w.control('POST', '/listing', { shop: 'wattle-and-wire', path, status: 'redirect', redirectTo: '/shop/brisling-scanlet-rev-b', priceMinor: 1995 });
+		await w.control('POST', '/listing', {
+			shop: 'wattle-and-wire',
+			path,
+			status: 'redirect',
+			redirectTo: '/shop/brisling-scanlet-rev-b',
+			priceMinor: 1995
+		});
 		await w.makeDue(id);
 		await w.markRequests();
 		const r = await w.poller().pollListing(id);
@@ -277,7 +315,9 @@ describe('gone pages, redirects and "poll now"', () => {
 		await w.control('POST', '/listing', { shop: 'northbay-circuits', path, stock: 'in_stock' });
 		await w.makeDue(id);
 		const before = await snapshot(id);
-		const failing = await w.poller({ onStockEvents: async () => Promise.reject(new Error('outbox unavailable')) }).pollListing(id);
+		const failing = await w
+			.poller({ onStockEvents: async () => Promise.reject(new Error('outbox unavailable')) })
+			.pollListing(id);
 		expect(failing).toMatchObject({ skipped: 'write_failed' });
 		expect(await snapshot(id)).toEqual(before);
 		expect((await w.state(id)).leaseOwner).toBeNull();
@@ -286,8 +326,20 @@ describe('gone pages, redirects and "poll now"', () => {
 		await w.makeDue(id);
 		const ok = await w.poller({ onStockEvents: async (tx, events) => void seen.push(...events) }).pollListing(id);
 		expect(ok).toMatchObject({ outcome: 'ok', changed: true });
-		expect(seen).toEqual([expect.objectContaining({ kind: 'restock', listingId: id, previousStock: 'out_of_stock', priceMinor: 2499, currency: 'USD', quiet: false })]);
-		const events = await w.db.select().from(stockEvents).where(and(eq(stockEvents.listingId, id), eq(stockEvents.kind, 'restock')));
+		expect(seen).toEqual([
+			expect.objectContaining({
+				kind: 'restock',
+				listingId: id,
+				previousStock: 'out_of_stock',
+				priceMinor: 2499,
+				currency: 'USD',
+				quiet: false
+			})
+		]);
+		const events = await w.db
+			.select()
+			.from(stockEvents)
+			.where(and(eq(stockEvents.listingId, id), eq(stockEvents.kind, 'restock')));
 		expect(events).toHaveLength(1);
 	});
 });

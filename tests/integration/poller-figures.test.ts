@@ -35,8 +35,15 @@ beforeAll(async () => {
 	await setSpacing(w.db, 0);
 	listingId = await w.listingId('kanalhaus', '/artikel/vb-beam-bridge');
 	await w.db.delete(observations).where(eq(observations.listingId, listingId));
-	await w.db.insert(observations).values(SCRIPT.map(([d, priceMinor, stock]) => ({ listingId, observedAt: at(d), priceMinor, currency: 'EUR', stock })));
-	await w.db.update(listingStates).set({ currentPriceMinor: 2400, currentCurrency: 'EUR', currentStock: 'in_stock', currentSince: at(5) }).where(eq(listingStates.listingId, listingId));
+	await w.db
+		.insert(observations)
+		.values(
+			SCRIPT.map(([d, priceMinor, stock]) => ({ listingId, observedAt: at(d), priceMinor, currency: 'EUR', stock }))
+		);
+	await w.db
+		.update(listingStates)
+		.set({ currentPriceMinor: 2400, currentCurrency: 'EUR', currentStock: 'in_stock', currentSince: at(5) })
+		.where(eq(listingStates.listingId, listingId));
 });
 afterAll(async () => {
 	await w?.close();
@@ -45,9 +52,22 @@ afterAll(async () => {
 describe('listing history', () => {
 	it('figures over 30 and 90 days match the hand-computed values', async () => {
 		const h = (await listingHistory(w.db, listingId, { range: '90d', now: NOW }))!;
-		expect(h.figures.d90).toMatchObject({ lowestMinor: 2400, medianMinor: 2600, currency: 'EUR', restocks: 3, completedSpells: 2, typicalRestockHours: 300 });
+		expect(h.figures.d90).toMatchObject({
+			lowestMinor: 2400,
+			medianMinor: 2600,
+			currency: 'EUR',
+			restocks: 3,
+			completedSpells: 2,
+			typicalRestockHours: 300
+		});
 		expect(h.figures.d90.buyableShare).toBeCloseTo(40 / 85, 10);
-		expect(h.figures.d30).toMatchObject({ lowestMinor: 2400, medianMinor: 2500, restocks: 2, completedSpells: 1, typicalRestockHours: 120 });
+		expect(h.figures.d30).toMatchObject({
+			lowestMinor: 2400,
+			medianMinor: 2500,
+			restocks: 2,
+			completedSpells: 1,
+			typicalRestockHours: 120
+		});
 		expect(h.figures.d30.buyableShare).toBeCloseTo(0.4, 10);
 		expect(h.current).toMatchObject({ priceMinor: 2400, currency: 'EUR', stock: 'in_stock' });
 		// The chart starts with the state carried in from before the range, at the range start.
@@ -66,11 +86,20 @@ describe('listing history', () => {
 		expect(d30.points.map((p) => p.priceMinor)).toEqual([2500, 2600, 2600, 2600, 2400]);
 	});
 
-	it('a delisted listing\'s figures stop at the delisting', async () => {
-		await w.db.update(listings).set({ delistedAt: at(30) }).where(eq(listings.id, listingId));
+	it("a delisted listing's figures stop at the delisting", async () => {
+		await w.db
+			.update(listings)
+			.set({ delistedAt: at(30) })
+			.where(eq(listings.id, listingId));
 		const f = (await listingFigures(w.db, [listingId], NOW)).get(listingId)!;
 		// The 30-day window is now days 60..30 ago: 2800 in stock 10 d, 2500 in stock 10 d, 2500 out 10 d.
-		expect(f.d30).toMatchObject({ lowestMinor: 2500, medianMinor: 2500, restocks: 1, completedSpells: 1, typicalRestockHours: 480 });
+		expect(f.d30).toMatchObject({
+			lowestMinor: 2500,
+			medianMinor: 2500,
+			restocks: 1,
+			completedSpells: 1,
+			typicalRestockHours: 480
+		});
 		expect(f.d30.buyableShare).toBeCloseTo(20 / 30, 10);
 		await w.db.update(listings).set({ delistedAt: null }).where(eq(listings.id, listingId));
 	});
@@ -85,8 +114,18 @@ describe('best offer per region', () => {
 		const [conv] = await w.db.select().from(converters).where(eq(converters.slug, 'vantacove-beam-bridge'));
 		const best = (await bestOffersByRegion(w.db, [conv.id], NOW)).get(conv.id)!;
 		// kanalhaus ships to the EU and the UK at 24.00 EUR now (the scripted state); kumo-parts to Japan and Australia.
-		expect(best.eu).toMatchObject({ shopSlug: 'kanalhaus', priceMinor: 2400, displayMinor: 2400, displayCurrency: 'EUR' });
-		expect(best.jp).toMatchObject({ shopSlug: 'kumo-parts', priceMinor: 3480, displayMinor: 3480, displayCurrency: 'JPY' });
+		expect(best.eu).toMatchObject({
+			shopSlug: 'kanalhaus',
+			priceMinor: 2400,
+			displayMinor: 2400,
+			displayCurrency: 'EUR'
+		});
+		expect(best.jp).toMatchObject({
+			shopSlug: 'kumo-parts',
+			priceMinor: 3480,
+			displayMinor: 3480,
+			displayCurrency: 'JPY'
+		});
 		// 3480 JPY / 162 JPY per EUR x 1.65 AUD per EUR = 35.44 AUD (demo rates).
 		expect(best.au).toMatchObject({ shopSlug: 'kumo-parts', displayMinor: 3544, displayCurrency: 'AUD' });
 		// 24.00 EUR x 0.85 = 20.40 GBP.
@@ -110,7 +149,9 @@ describe('shop health', () => {
 		expect(t.failures).toBe(1);
 		expect(t.counts.http_5xx).toBe(1);
 		expect(t.lastError).toMatchObject({ outcome: 'http_5xx', detail: 'HTTP 500' });
-		expect(t.failingNow).toEqual([expect.objectContaining({ lastOutcome: 'http_5xx', consecutiveFailures: 1, lastError: 'HTTP 500' })]);
+		expect(t.failingNow).toEqual([
+			expect.objectContaining({ lastOutcome: 'http_5xx', consecutiveFailures: 1, lastError: 'HTTP 500' })
+		]);
 		const k = health.shops.find((s) => s.shop.slug === 'kanalhaus')!;
 		expect(k.failures).toBe(0);
 		expect(k.failingNow).toEqual([]);
@@ -125,7 +166,11 @@ describe('API routes', () => {
 	});
 	it('history: 400 for a bad id or query, 404 for an unknown listing, 200 with points', async () => {
 		const { GET } = await import('../../src/routes/api/v1/listings/[id=int]/history/+server');
-		const call = (id: string, qs = '') => GET({ params: { id }, url: new URL(`http://x/api/v1/listings/${id}/history${qs}`) } as never) as Promise<Response>;
+		const call = (id: string, qs = '') =>
+			GET({
+				params: { id },
+				url: new URL(`http://x/api/v1/listings/${id}/history${qs}`)
+			} as never) as Promise<Response>;
 		expect((await call('abc')).status).toBe(400);
 		const bad = await call(String(listingId), '?range=2w');
 		expect(bad.status).toBe(400);
@@ -143,7 +188,10 @@ describe('API routes', () => {
 		const { GET } = await import('../../src/routes/api/v1/curate/shops/health/+server');
 		const call = async (role: string | null, qs = '') => {
 			try {
-				return (await GET({ locals: { user: role ? { id: 'u', email: 'u@scopegrade.test', name: null, role } : null }, url: new URL(`http://x/api/v1/curate/shops/health${qs}`) } as never)) as Response;
+				return (await GET({
+					locals: { user: role ? { id: 'u', email: 'u@scopegrade.test', name: null, role } : null },
+					url: new URL(`http://x/api/v1/curate/shops/health${qs}`)
+				} as never)) as Response;
 			} catch (err) {
 				return { status: (err as { status: number }).status } as Response;
 			}

@@ -26,7 +26,9 @@ beforeEach(async () => {
 describe('each format reads to the right offer', () => {
 	it('a first run polls every demo listing: price, currency and stock as the shops serve them', async () => {
 		// Start from nothing known, so every listing's first read is a real change point.
-		await w.db.update(listingStates).set({ currentStock: 'unknown', currentPriceMinor: null, currentCurrency: null, currentSince: null });
+		await w.db
+			.update(listingStates)
+			.set({ currentStock: 'unknown', currentPriceMinor: null, currentCurrency: null, currentSince: null });
 		await w.db.delete(observations);
 		const summary = await w.poller().drain();
 		expect(summary.byOutcome).toEqual({ ok: LISTINGS.length });
@@ -34,7 +36,10 @@ describe('each format reads to the right offer', () => {
 			const id = await w.listingId(l.shop, l.path);
 			const st = await w.state(id);
 			const shop = SHOPS.find((s) => s.slug === l.shop)!;
-			expect({ price: st.currentPriceMinor, currency: st.currentCurrency, stock: st.currentStock }, `${l.shop} ${l.path}`).toEqual({
+			expect(
+				{ price: st.currentPriceMinor, currency: st.currentCurrency, stock: st.currentStock },
+				`${l.shop} ${l.path}`
+			).toEqual({
 				price: l.priceMinor,
 				currency: shop.currency,
 				stock: l.stock

@@ -5,7 +5,12 @@
  */
 import { eq, and } from 'drizzle-orm';
 import { freshDatabase } from './helpers/db';
-import { startFakeShops, type FakeShops, type FakeShopsOptions, type RequestLogEntry } from '../../fixtures/shops/server';
+import {
+	startFakeShops,
+	type FakeShops,
+	type FakeShopsOptions,
+	type RequestLogEntry
+} from '../../fixtures/shops/server';
 import { seedDemo } from '../../src/lib/server/db/seed';
 import { listingStates, listings, shops as shopTable } from '../../src/lib/server/db/schema';
 import { createPoller, type PollerOptions } from '../../src/lib/server/polling';
@@ -100,7 +105,14 @@ export async function createWorld(dbName: string, shopOptions: Omit<FakeShopsOpt
 			return row;
 		},
 		poller: (extra = {}) =>
-			createPoller(database.db, { clock: world.clock.now, random: () => 0.5, allowPrivate: true, timeoutMs: 2000, userAgent: TEST_UA, ...extra }),
+			createPoller(database.db, {
+				clock: world.clock.now,
+				random: () => 0.5,
+				allowPrivate: true,
+				timeoutMs: 2000,
+				userAgent: TEST_UA,
+				...extra
+			}),
 		async makeDue(listingId) {
 			const q = database.db.update(listingStates).set({ nextPollAt: world.clock.now() });
 			await (listingId ? q.where(eq(listingStates.listingId, listingId)) : q);

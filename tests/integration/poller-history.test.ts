@@ -78,7 +78,12 @@ describe('change points', () => {
 		const counts = await w.db.select().from(pollCounts);
 		const total = counts.reduce((n, c) => n + c.count, 0);
 		expect(total).toBe(1000);
-		const byOutcome = Object.fromEntries(['http_5xx', 'unreadable', 'wrong_currency'].map((k) => [k, counts.filter((c) => c.outcome === k).reduce((n, c) => n + c.count, 0)]));
+		const byOutcome = Object.fromEntries(
+			['http_5xx', 'unreadable', 'wrong_currency'].map((k) => [
+				k,
+				counts.filter((c) => c.outcome === k).reduce((n, c) => n + c.count, 0)
+			])
+		);
 		expect(byOutcome).toEqual({ http_5xx: 1, unreadable: 3, wrong_currency: 1 });
 
 		// Conditional requests: nearly every poll was a 304 with no body.
@@ -87,7 +92,12 @@ describe('change points', () => {
 		expect(pageRequests.filter((r) => r.status === 304).length).toBeGreaterThan(950);
 
 		const st = await w.state(id);
-		expect(st).toMatchObject({ currentStock: 'in_stock', currentPriceMinor: 2399, currentCurrency: 'USD', consecutiveFailures: 0 });
+		expect(st).toMatchObject({
+			currentStock: 'in_stock',
+			currentPriceMinor: 2399,
+			currentCurrency: 'USD',
+			consecutiveFailures: 0
+		});
 		expect(st.lastCheckedAt!.getTime()).toBe(w.clock.now().getTime() - 30 * MIN);
 		await w.db.update(listings).set({ active: true });
 	}, 120_000);

@@ -50,7 +50,14 @@ describe('two workers', () => {
 		// Every page answers after 60 ms so work overlaps; robots.txt stays fast.
 		for (const s of SHOPS) await w.control('POST', '/fault', { shop: s.slug, kind: 'slow', delayMs: 60 });
 		const make = (i: number) =>
-			createPoller(pools[i].db, { workerId: `worker-${i}`, clock: w.clock.now, random: () => 0.5, allowPrivate: true, userAgent: TEST_UA, claimLimit: 4 });
+			createPoller(pools[i].db, {
+				workerId: `worker-${i}`,
+				clock: w.clock.now,
+				random: () => 0.5,
+				allowPrivate: true,
+				userAgent: TEST_UA,
+				claimLimit: 4
+			});
 		const workers = [make(0), make(1)];
 		const perWorker = [0, 0];
 		await w.markRequests();
@@ -58,7 +65,10 @@ describe('two workers', () => {
 			await w.makeDue();
 			const results = await Promise.all(workers.map((p) => p.drain()));
 			results.forEach((r, i) => (perWorker[i] += r.polled));
-			expect(results.reduce((n, r) => n + r.polled, 0), `round ${round}`).toBe(LISTINGS.length);
+			expect(
+				results.reduce((n, r) => n + r.polled, 0),
+				`round ${round}`
+			).toBe(LISTINGS.length);
 			w.clock.advance(31 * MIN);
 		}
 		expect(perWorker[0]).toBeGreaterThan(0);
@@ -86,8 +96,20 @@ describe('two workers', () => {
 	it('an expired lease can be claimed by another worker; the first worker then cannot overwrite its result', async () => {
 		const id = await w.listingId('thamesbit', '/item/loop-rgb');
 		await w.makeDue(id);
-		const a = createPoller(pools[0].db, { workerId: 'worker-a', clock: w.clock.now, random: () => 0.5, allowPrivate: true, userAgent: TEST_UA });
-		const b = createPoller(pools[1].db, { workerId: 'worker-b', clock: w.clock.now, random: () => 0.5, allowPrivate: true, userAgent: TEST_UA });
+		const a = createPoller(pools[0].db, {
+			workerId: 'worker-a',
+			clock: w.clock.now,
+			random: () => 0.5,
+			allowPrivate: true,
+			userAgent: TEST_UA
+		});
+		const b = createPoller(pools[1].db, {
+			workerId: 'worker-b',
+			clock: w.clock.now,
+			random: () => 0.5,
+			allowPrivate: true,
+			userAgent: TEST_UA
+		});
 		const [claimed] = await a.claim(10, [id]);
 		expect(claimed.listingId).toBe(id);
 		// While A's lease lives, B gets nothing at that listing (nor at that shop).
@@ -107,7 +129,12 @@ describe('two workers', () => {
 		await w.db.update(shopTable).set({ minSpacingMs: 300, maxConcurrency: 2 }).where(eq(shopTable.slug, 'kanalhaus'));
 		await w.makeDue();
 		await w.markRequests();
-		await createPoller(pools[0].db, { clock: w.clock.now, random: () => 0.5, allowPrivate: true, userAgent: TEST_UA }).drain();
+		await createPoller(pools[0].db, {
+			clock: w.clock.now,
+			random: () => 0.5,
+			allowPrivate: true,
+			userAgent: TEST_UA
+		}).drain();
 		const starts = (await w.requests('kanalhaus')).map((r) => Date.parse(r.time)).sort((x, y) => x - y);
 		expect(starts.length).toBeGreaterThanOrEqual(4);
 		// The log stamps arrival at the shop, which event-loop delays can shift by a few ms either way, so

@@ -25,7 +25,10 @@ describe('rate limits in PostgreSQL', () => {
 	it('allows max hits per window across two instances, then refuses with the time left', async () => {
 		const t0 = new Date('2026-01-01T10:00:00Z');
 		const answers = [];
-		for (let i = 0; i < 4; i++) answers.push(await hit(i % 2 ? other.db : world.db, perAddress, 'a@example.test', new Date(t0.getTime() + i * 1000)));
+		for (let i = 0; i < 4; i++)
+			answers.push(
+				await hit(i % 2 ? other.db : world.db, perAddress, 'a@example.test', new Date(t0.getTime() + i * 1000))
+			);
 		expect(answers.slice(0, 3).every((a) => a.allowed)).toBe(true);
 		const refused = answers[3];
 		expect(refused.allowed).toBe(false);
@@ -42,7 +45,9 @@ describe('rate limits in PostgreSQL', () => {
 	it('counts concurrent hits exactly (no lost updates)', async () => {
 		const limit: Limit = { name: 'test-burst', max: 20, windowSeconds: 60 };
 		const at = new Date('2026-01-02T00:00:00Z');
-		const answers = await Promise.all(Array.from({ length: 50 }, (_, i) => hit(i % 2 ? other.db : world.db, limit, 'client-1', at)));
+		const answers = await Promise.all(
+			Array.from({ length: 50 }, (_, i) => hit(i % 2 ? other.db : world.db, limit, 'client-1', at))
+		);
 		expect(answers.filter((a) => a.allowed)).toHaveLength(20);
 	});
 
@@ -52,7 +57,16 @@ describe('rate limits in PostgreSQL', () => {
 		const at = new Date('2026-01-03T00:00:00Z');
 		const results = [];
 		for (const email of ['x@example.test', 'y@example.test', 'z@example.test'])
-			results.push(await hitAll(world.db, [[addr, email], [client, '198.51.100.7']], at));
+			results.push(
+				await hitAll(
+					world.db,
+					[
+						[addr, email],
+						[client, '198.51.100.7']
+					],
+					at
+				)
+			);
 		expect(results.map((r) => r.allowed)).toEqual([true, true, false]);
 		const last = results[2];
 		if (!last.allowed) {

@@ -11,7 +11,12 @@ import { and, eq, sql as dsql } from 'drizzle-orm';
 import * as schema from '../../src/lib/server/db/schema';
 import { freshDatabase } from './helpers/db';
 import { loadBenchCatalogue } from '../../scripts/lib/bench-catalogue';
-import { loadCataloguePage, loadEntries, refreshCards, refreshListingCards } from '../../src/lib/server/queries/read-model';
+import {
+	loadCataloguePage,
+	loadEntries,
+	refreshCards,
+	refreshListingCards
+} from '../../src/lib/server/queries/read-model';
 import { buildEntries, revisionsFor } from '../../src/lib/server/queries/catalogue-entries';
 import { currentOffers, loadRates } from '../../src/lib/server/queries/offers';
 import { regradeRevision } from '../../src/lib/server/grading';
@@ -46,9 +51,30 @@ describe('public read model', () => {
 	}
 
 	const requests: Array<[string, () => Promise<unknown>]> = [
-		['default page', () => loadCataloguePage(cdb, { region: 'eu', currency: 'EUR' }, { sort: 'band' }, { pageSize: 48 })],
-		['price filter in another currency, page 2', () => loadCataloguePage(cdb, { region: 'na', currency: 'GBP' }, { sort: 'price', priceMin: 500, priceMax: 5000, inStock: true }, { page: 2, pageSize: 48 })],
-		['by name, audio, Close or better', () => loadCataloguePage(cdb, { region: 'uk', currency: 'GBP' }, { sort: 'name', audio: true, minBand: 'close' }, { pageSize: 48 })]
+		[
+			'default page',
+			() => loadCataloguePage(cdb, { region: 'eu', currency: 'EUR' }, { sort: 'band' }, { pageSize: 48 })
+		],
+		[
+			'price filter in another currency, page 2',
+			() =>
+				loadCataloguePage(
+					cdb,
+					{ region: 'na', currency: 'GBP' },
+					{ sort: 'price', priceMin: 500, priceMax: 5000, inStock: true },
+					{ page: 2, pageSize: 48 }
+				)
+		],
+		[
+			'by name, audio, Close or better',
+			() =>
+				loadCataloguePage(
+					cdb,
+					{ region: 'uk', currency: 'GBP' },
+					{ sort: 'name', audio: true, minBand: 'close' },
+					{ pageSize: 48 }
+				)
+		]
 	];
 
 	it('runs as many SQL statements per catalogue request at 2,000 converters as at 50', async () => {
@@ -67,8 +93,15 @@ describe('public read model', () => {
 
 	/** The catalogue rules applied to entries built straight from the tables (no cards). */
 	async function direct(region: Region, currency: string): Promise<CatalogueEntry[]> {
-		const rows = await h.db.select().from(schema.converters).where(dsql`${schema.converters.retiredAt} is null`);
-		const [revs, offers, rates] = await Promise.all([revisionsFor(h.db, 'all'), currentOffers(h.db, undefined, region), loadRates(h.db)]);
+		const rows = await h.db
+			.select()
+			.from(schema.converters)
+			.where(dsql`${schema.converters.retiredAt} is null`);
+		const [revs, offers, rates] = await Promise.all([
+			revisionsFor(h.db, 'all'),
+			currentOffers(h.db, undefined, region),
+			loadRates(h.db)
+		]);
 		return buildEntries(rows, revs, offers, { region, currency }, rates);
 	}
 
@@ -79,31 +112,43 @@ describe('public read model', () => {
 		['au', 'AUD', { sort: 'name', power: 'barrel' }]
 	];
 
-	it.each(filters)('finds and orders what the catalogue rules find for %s in %s (%j)', async (region, currency, f) => {
-		const expected = filterCatalogue(await direct(region, currency), f);
-		const got = await loadCataloguePage(h.db, { region, currency }, f, { pageSize: 5000 });
-		expect(got.matching).toBe(expected.length);
-		expect(got.entries.map((e) => e.slug).sort()).toEqual(expected.map((e) => e.slug).sort());
-		const want = new Map(expected.map((e) => [e.slug, e]));
-		for (const e of got.entries) {
-			const x = want.get(e.slug)!;
-			expect({ band: e.bestBand, score: e.bestScore, best: e.best?.listingId ?? null, shown: e.best?.displayMinor ?? null, stock: e.inStockShops }).toEqual({
-				band: x.bestBand,
-				score: x.bestScore,
-				best: x.best?.listingId ?? null,
-				shown: x.best?.displayMinor ?? null,
-				stock: x.inStockShops
-			});
-		}
-		// SQL order never contradicts the rules' order (ties may fall either way).
-		for (let i = 1; i < got.entries.length; i++) {
-			const a = got.entries[i - 1];
-			const b = got.entries[i];
-			if (f.sort === 'band') expect(bandRank(a.bestBand) <= bandRank(b.bestBand)).toBe(true);
-			if (f.sort === 'price') expect((a.best?.displayMinor ?? Infinity) <= (b.best?.displayMinor ?? Infinity) + 1).toBe(true);
-			if (f.sort === 'name') expect(`${a.brand} ${a.model}`.localeCompare(`${b.brand} ${b.model}`, 'en') <= 0).toBe(true);
-		}
-	}, 120_000);
+	it.each(filters)(
+		'finds and orders what the catalogue rules find for %s in %s (%j)',
+		async (region, currency, f) => {
+			const expected = filterCatalogue(await direct(region, currency), f);
+			const got = await loadCataloguePage(h.db, { region, currency }, f, { pageSize: 5000 });
+			expect(got.matching).toBe(expected.length);
+			expect(got.entries.map((e) => e.slug).sort()).toEqual(expected.map((e) => e.slug).sort());
+			const want = new Map(expected.map((e) => [e.slug, e]));
+			for (const e of got.entries) {
+				const x = want.get(e.slug)!;
+				expect({
+					band: e.bestBand,
+					score: e.bestScore,
+					best: e.best?.listingId ?? null,
+					shown: e.best?.displayMinor ?? null,
+					stock: e.inStockShops
+				}).toEqual({
+					band: x.bestBand,
+					score: x.bestScore,
+					best: x.best?.listingId ?? null,
+					shown: x.best?.displayMinor ?? null,
+					stock: x.inStockShops
+				});
+			}
+			// SQL order never contradicts the rules' order (ties may fall either way).
+			for (let i = 1; i < got.entries.length; i++) {
+				const a = got.entries[i - 1];
+				const b = got.entries[i];
+				if (f.sort === 'band') expect(bandRank(a.bestBand) <= bandRank(b.bestBand)).toBe(true);
+				if (f.sort === 'price')
+					expect((a.best?.displayMinor ?? Infinity) <= (b.best?.displayMinor ?? Infinity) + 1).toBe(true);
+				if (f.sort === 'name')
+					expect(`${a.brand} ${a.model}`.localeCompare(`${b.brand} ${b.model}`, 'en') <= 0).toBe(true);
+			}
+		},
+		120_000
+	);
 
 	it('shows a new price, a new grade and a new exchange rate on the next read', async () => {
 		const view = { region: 'eu' as Region, currency: 'EUR' };
@@ -113,7 +158,10 @@ describe('public read model', () => {
 
 		// A price drop written the poller's way: state change and card refresh in one transaction.
 		await h.db.transaction(async (tx) => {
-			await tx.update(schema.listingStates).set({ currentPriceMinor: 1, currentStock: 'in_stock' }).where(eq(schema.listingStates.listingId, before.best!.listingId));
+			await tx
+				.update(schema.listingStates)
+				.set({ currentPriceMinor: 1, currentStock: 'in_stock' })
+				.where(eq(schema.listingStates.listingId, before.best!.listingId));
 			await refreshListingCards(tx, [before.best!.listingId]);
 		});
 		const [cheap] = await loadEntries(h.db, view, [box.id]);
@@ -131,14 +179,28 @@ describe('public read model', () => {
 		// An exchange rate written by a plain statement (no refresh call): the next read catches it.
 		const gbpListing = (await currentOffers(h.db, [box.id])).find((o) => o.currency === 'GBP' && o.priceMinor != null);
 		if (gbpListing) {
-			const shown = async () => (await loadConverterDetail(h.db, 'bench-box-7', { region: 'uk', currency: 'EUR' }))!.listings.find((o) => o.listingId === gbpListing.listingId)!;
+			const shown = async () =>
+				(await loadConverterDetail(h.db, 'bench-box-7', { region: 'uk', currency: 'EUR' }))!.listings.find(
+					(o) => o.listingId === gbpListing.listingId
+				)!;
 			const shownBefore = (await shown()).displayMinor;
-			const refreshed = async () => (await h.db.select({ at: schema.converterCards.refreshedAt }).from(schema.converterCards).where(eq(schema.converterCards.converterId, box.id)))[0].at.getTime();
+			const refreshed = async () =>
+				(
+					await h.db
+						.select({ at: schema.converterCards.refreshedAt })
+						.from(schema.converterCards)
+						.where(eq(schema.converterCards.converterId, box.id))
+				)[0].at.getTime();
 			const cardBefore = await refreshed();
-			await h.db.insert(schema.exchangeRates).values({ base: 'EUR', quote: 'GBP', day: new Date().toISOString().slice(0, 10), rate: '0.5', source: 'test' })
-				.onConflictDoUpdate({ target: [schema.exchangeRates.base, schema.exchangeRates.quote, schema.exchangeRates.day], set: { rate: '0.5' } });
+			await h.db
+				.insert(schema.exchangeRates)
+				.values({ base: 'EUR', quote: 'GBP', day: new Date().toISOString().slice(0, 10), rate: '0.5', source: 'test' })
+				.onConflictDoUpdate({
+					target: [schema.exchangeRates.base, schema.exchangeRates.quote, schema.exchangeRates.day],
+					set: { rate: '0.5' }
+				});
 			const after = await shown();
-			expect(after.displayMinor).toBe(Math.round(gbpListing.priceMinor! / 100 / 0.5 * 100));
+			expect(after.displayMinor).toBe(Math.round((gbpListing.priceMinor! / 100 / 0.5) * 100));
 			expect(after.displayMinor).not.toBe(shownBefore);
 			// Every card was rebuilt with the new rate (the rate trigger marked them all).
 			expect(await refreshed()).toBeGreaterThan(cardBefore);
@@ -147,7 +209,10 @@ describe('public read model', () => {
 		await h.db.update(schema.converters).set({ retiredAt: new Date() }).where(eq(schema.converters.id, box.id));
 		expect(await loadEntries(h.db, view, [box.id])).toEqual([]);
 		await refreshCards(h.db, [box.id]);
-		const cards = await h.db.select().from(schema.converterCards).where(and(eq(schema.converterCards.converterId, box.id)));
+		const cards = await h.db
+			.select()
+			.from(schema.converterCards)
+			.where(and(eq(schema.converterCards.converterId, box.id)));
 		expect(cards).toEqual([]);
 		expect(REGION_CODES).toContain(view.region);
 	}, 120_000);

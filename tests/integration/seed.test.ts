@@ -2,7 +2,15 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { eq, sql } from 'drizzle-orm';
 import { countRows, seedDemo } from '../../src/lib/server/db/seed';
 import { benchRuns, converters, guides, revisions, teardownReports, users } from '../../src/lib/server/db/schema';
-import { CONVERTERS, DEMO_GUIDE, DEMO_PEOPLE, LISTINGS, TEARDOWNS, TESTERS, TESTER_REVISIONS } from '../../src/lib/demo/scenario';
+import {
+	CONVERTERS,
+	DEMO_GUIDE,
+	DEMO_PEOPLE,
+	LISTINGS,
+	TEARDOWNS,
+	TESTERS,
+	TESTER_REVISIONS
+} from '../../src/lib/demo/scenario';
 import { freshDatabase } from './helpers/db';
 
 describe('demo seed', () => {
@@ -25,14 +33,18 @@ describe('demo seed', () => {
 				continue;
 			}
 			expect(r.band, `revision ${r.id} graded`).not.toBeNull();
-			expect(r.deviationIre, `revision ${r.id} carries its worst deviation for the band mark`).toEqual(expect.any(Number));
+			expect(r.deviationIre, `revision ${r.id} carries its worst deviation for the band mark`).toEqual(
+				expect.any(Number)
+			);
 		}
-		expect(revs.filter((r) => r.runCount === 0)).toHaveLength(CONVERTERS.flatMap((c) => c.revisions).filter((r) => r.runs === 0).length);
+		expect(revs.filter((r) => r.runCount === 0)).toHaveLength(
+			CONVERTERS.flatMap((c) => c.revisions).filter((r) => r.runs === 0).length
+		);
 		const [curator] = await h.db.select().from(users).where(eq(users.email, DEMO_PEOPLE.curator.email));
 		expect(curator.role).toBe('curator');
 	}, 180_000); // the whole scenario in one transaction: slow on a busy machine
 
-	it('has the demo\'s story: teardowns with photos rows, testers, a review queue, a guide, a watch and an audit trail', async () => {
+	it("has the demo's story: teardowns with photos rows, testers, a review queue, a guide, a watch and an audit trail", async () => {
 		const count = await countRows(h.db);
 		expect(CONVERTERS.length).toBeGreaterThanOrEqual(14);
 		expect(new Set(CONVERTERS.flatMap((c) => c.revisions.map((r) => r.chip))).size).toBe(5);
@@ -59,14 +71,20 @@ describe('demo seed', () => {
 
 	it('is idempotent and keeps what users changed', async () => {
 		// A user edits a seeded converter and adds one of their own.
-		await h.db.update(converters).set({ summary: 'edited by a curator' }).where(eq(converters.slug, CONVERTERS[0].slug));
+		await h.db
+			.update(converters)
+			.set({ summary: 'edited by a curator' })
+			.where(eq(converters.slug, CONVERTERS[0].slug));
 		await h.db.insert(converters).values({ slug: 'user-added-box', brand: 'Someone', model: 'Box' });
 		await h.db.update(users).set({ role: 'member' }).where(eq(users.email, DEMO_PEOPLE.admin.email));
 		const before = await countRows(h.db);
 
 		const added = await seedDemo(h.db, { shopsPort: 4410, now: new Date(now.getTime() + 86_400_000) });
 
-		expect(Object.values(added).every((n) => n === 0), JSON.stringify(added)).toBe(true);
+		expect(
+			Object.values(added).every((n) => n === 0),
+			JSON.stringify(added)
+		).toBe(true);
 		expect(await countRows(h.db)).toEqual(before);
 		const [edited] = await h.db.select().from(converters).where(eq(converters.slug, CONVERTERS[0].slug));
 		expect(edited.summary).toBe('edited by a curator');

@@ -40,7 +40,10 @@ const control = async (method: string, path: string, body?: unknown) => {
 };
 
 const get = (shop: string, path: string, init: RequestInit = {}) =>
-	fetch(shops.urls.shops[shop] + path, { ...init, headers: { 'User-Agent': UA, ...(init.headers as Record<string, string>) } });
+	fetch(shops.urls.shops[shop] + path, {
+		...init,
+		headers: { 'User-Agent': UA, ...(init.headers as Record<string, string>) }
+	});
 
 async function read(shop: string, path: string): Promise<{ status: number; result?: ExtractResult; res: Response }> {
 	const res = await get(shop, path);
@@ -68,12 +71,21 @@ beforeEach(async () => {
 });
 
 describe('every shop serves its listings in its own format', () => {
-	it.each(LISTINGS.map((l) => [l.shop, l.path, l]))('%s %s reads back as the scenario says', async (shop, path, listing) => {
-		const { status, result } = await read(shop as string, path as string);
-		expect(status).toBe(200);
-		const s = SHOPS.find((x) => x.slug === shop)!;
-		expect(result).toMatchObject({ ok: true, priceMinor: (listing as (typeof LISTINGS)[number]).priceMinor, currency: s.currency, stock: (listing as (typeof LISTINGS)[number]).stock, via: s.format });
-	});
+	it.each(LISTINGS.map((l) => [l.shop, l.path, l]))(
+		'%s %s reads back as the scenario says',
+		async (shop, path, listing) => {
+			const { status, result } = await read(shop as string, path as string);
+			expect(status).toBe(200);
+			const s = SHOPS.find((x) => x.slug === shop)!;
+			expect(result).toMatchObject({
+				ok: true,
+				priceMinor: (listing as (typeof LISTINGS)[number]).priceMinor,
+				currency: s.currency,
+				stock: (listing as (typeof LISTINGS)[number]).stock,
+				via: s.format
+			});
+		}
+	);
 
 	it('kumo-parts prices are integer yen (ISO 4217: JPY has 0 minor digits)', async () => {
 		const res = await get('kumo-parts', '/api/products/KP-1001');
@@ -116,7 +128,10 @@ describe('scenario clock and scripted changes', () => {
 	it('the timeline applies as the clock moves, and winding back undoes it', async () => {
 		expect((await read('northbay-circuits', '/products/beam-bridge')).result).toMatchObject({ stock: 'out_of_stock' });
 		await control('POST', '/clock', { minutes: 30 });
-		expect((await read('northbay-circuits', '/products/beam-bridge')).result).toMatchObject({ ok: true, stock: 'in_stock' });
+		expect((await read('northbay-circuits', '/products/beam-bridge')).result).toMatchObject({
+			ok: true,
+			stock: 'in_stock'
+		});
 		await control('POST', '/clock', { advance: 15 });
 		expect((await read('kanalhaus', '/artikel/brisling-scanlet')).result).toMatchObject({ ok: true, priceMinor: 1090 });
 		await control('POST', '/clock', { minutes: 0 });
@@ -124,9 +139,19 @@ describe('scenario clock and scripted changes', () => {
 	});
 
 	it('a price change through POST /listing shows on the page', async () => {
-		const r = await control('POST', '/listing', { shop: 'thamesbit', path: '/item/loop-rgb', priceMinor: 1495, stock: 'out_of_stock' });
+		const r = await control('POST', '/listing', {
+			shop: 'thamesbit',
+			path: '/item/loop-rgb',
+			priceMinor: 1495,
+			stock: 'out_of_stock'
+		});
 		expect(r.status).toBe(200);
-		expect((await read('thamesbit', '/item/loop-rgb')).result).toMatchObject({ ok: true, priceMinor: 1495, currency: 'GBP', stock: 'out_of_stock' });
+		expect((await read('thamesbit', '/item/loop-rgb')).result).toMatchObject({
+			ok: true,
+			priceMinor: 1495,
+			currency: 'GBP',
+			stock: 'out_of_stock'
+		});
 		// The locale-formatted shop too: 1.099,00 €.
 		await control('POST', '/listing', { shop: 'kanalhaus', path: '/artikel/vb-beam-bridge', priceMinor: 109900 });
 		const k = await get('kanalhaus', '/artikel/vb-beam-bridge');
@@ -138,15 +163,26 @@ describe('scenario clock and scripted changes', () => {
 		expect((await get('kanalhaus', '/artikel/q-cast-mini')).status).toBe(410);
 		await control('POST', '/listing', { shop: 'kumo-parts', path: '/api/products/KP-1002', status: 'gone404' });
 		expect((await get('kumo-parts', '/api/products/KP-1002')).status).toBe(404);
-		expect((await control('GET', '/state')).json.listings.find((l) => l.path === '/artikel/q-cast-mini')?.status).toBe('gone410');
+		expect((await control('GET', '/state')).json.listings.find((l) => l.path === '/artikel/q-cast-mini')?.status).toBe(
+			'gone410'
+		);
 	});
 
 	it('a redirect answers 301 with Location, and the new path serves the product (RFC 9110 15.4.2)', async () => {
-		await control('POST', '/listing', { shop: 'wattle-and-wire', path: '/shop/brisling-scanlet', status: 'redirect', redirectTo: '/shop/scanlet-b' });
+		await control('POST', '/listing', {
+			shop: 'wattle-and-wire',
+			path: '/shop/brisling-scanlet',
+			status: 'redirect',
+			redirectTo: '/shop/scanlet-b'
+		});
 		const res = await get('wattle-and-wire', '/shop/brisling-scanlet', { redirect: 'manual' });
 		expect(res.status).toBe(301);
 		expect(res.headers.get('location')).toBe('/shop/scanlet-b');
-		expect((await read('wattle-and-wire', '/shop/scanlet-b')).result).toMatchObject({ ok: true, priceMinor: 2195, currency: 'AUD' });
+		expect((await read('wattle-and-wire', '/shop/scanlet-b')).result).toMatchObject({
+			ok: true,
+			priceMinor: 2195,
+			currency: 'AUD'
+		});
 	});
 
 	it('bad control input is a 400 with a message', async () => {
@@ -160,7 +196,13 @@ describe('scenario clock and scripted changes', () => {
 
 describe('faults', () => {
 	it('429 carries Retry-After (RFC 6585 4; RFC 9110 10.2.3) and `times` limits it', async () => {
-		await control('POST', '/fault', { shop: 'northbay-circuits', path: '/products/scanlet', kind: 'http429', retryAfterSeconds: 90, times: 1 });
+		await control('POST', '/fault', {
+			shop: 'northbay-circuits',
+			path: '/products/scanlet',
+			kind: 'http429',
+			retryAfterSeconds: 90,
+			times: 1
+		});
 		const first = await get('northbay-circuits', '/products/scanlet');
 		expect(first.status).toBe(429);
 		expect(first.headers.get('retry-after')).toBe('90');
@@ -185,7 +227,7 @@ describe('faults', () => {
 		expect((await get('thamesbit', '/item/loop-rgb', { signal: AbortSignal.timeout(1000) })).status).toBe(200);
 	});
 
-	it('changed markup makes every shop\'s read fail with a reason, never a stock state', async () => {
+	it("changed markup makes every shop's read fail with a reason, never a stock state", async () => {
 		for (const s of SHOPS) {
 			const l = LISTINGS.find((x) => x.shop === s.slug)!;
 			await control('POST', '/fault', { shop: s.slug, kind: 'changed-markup', times: 1 });
@@ -199,11 +241,19 @@ describe('faults', () => {
 
 	it('the kanalhaus reason names its selector', async () => {
 		await control('POST', '/fault', { shop: 'kanalhaus', kind: 'changed-markup' });
-		expect((await read('kanalhaus', '/artikel/vb-beam-bridge')).result).toMatchObject({ ok: false, reason: 'no price found: selector ".artikel .preis" matched nothing' });
+		expect((await read('kanalhaus', '/artikel/vb-beam-bridge')).result).toMatchObject({
+			ok: false,
+			reason: 'no price found: selector ".artikel .preis" matched nothing'
+		});
 	});
 
 	it('a truncated body is unreadable for HTML and JSON shops', async () => {
-		for (const [shop, path] of [['northbay-circuits', '/products/scanlet'], ['thamesbit', '/item/loop-rgb'], ['kumo-parts', '/api/products/KP-1001'], ['wattle-and-wire', '/shop/brisling-scanlet']]) {
+		for (const [shop, path] of [
+			['northbay-circuits', '/products/scanlet'],
+			['thamesbit', '/item/loop-rgb'],
+			['kumo-parts', '/api/products/KP-1001'],
+			['wattle-and-wire', '/shop/brisling-scanlet']
+		]) {
 			await control('POST', '/fault', { shop, path, kind: 'truncated', times: 1 });
 			expect((await read(shop, path)).result, shop).toMatchObject({ ok: false, kind: 'unreadable', stock: 'unknown' });
 		}
@@ -214,7 +264,10 @@ describe('faults', () => {
 		for (const s of SHOPS) {
 			const l = LISTINGS.find((x) => x.shop === s.slug)!;
 			await control('POST', '/fault', { shop: s.slug, path: l.path, kind: 'wrong-currency', times: 1 });
-			expect((await read(s.slug, l.path)).result, `${s.slug} wrong`).toMatchObject({ ok: false, kind: 'wrong-currency' });
+			expect((await read(s.slug, l.path)).result, `${s.slug} wrong`).toMatchObject({
+				ok: false,
+				kind: 'wrong-currency'
+			});
 			await control('POST', '/fault', { shop: s.slug, path: l.path, kind: 'missing-currency', times: 1 });
 			const missing = (await read(s.slug, l.path)).result;
 			if (!missing) throw new Error(`${s.slug}: no extraction result`);
@@ -245,7 +298,9 @@ describe('timed faults from the scenario file', () => {
 		const res = await get('thamesbit', '/item/beam-bridge-pro');
 		expect(res.status).toBe(429);
 		expect(res.headers.get('retry-after')).toBe('300');
-		expect((await control('GET', '/state')).json.faults).toEqual([expect.objectContaining({ kind: 'http429', source: 'timeline' })]);
+		expect((await control('GET', '/state')).json.faults).toEqual([
+			expect.objectContaining({ kind: 'http429', source: 'timeline' })
+		]);
 		await control('POST', '/clock', { minutes: 490 });
 		expect((await get('thamesbit', '/item/beam-bridge-pro')).status).toBe(200);
 	});
@@ -272,14 +327,18 @@ describe('conditional requests and the request log', () => {
 		expect(await again.text()).toBe('');
 		// After a change the validator no longer matches.
 		await control('POST', '/listing', { shop: 'northbay-circuits', path: '/products/loop-rgb', priceMinor: 1799 });
-		expect((await get('northbay-circuits', '/products/loop-rgb', { headers: { 'If-None-Match': etag } })).status).toBe(200);
+		expect((await get('northbay-circuits', '/products/loop-rgb', { headers: { 'If-None-Match': etag } })).status).toBe(
+			200
+		);
 	});
 
 	it('If-Modified-Since with Last-Modified gets 304 until the listing changes (RFC 9110 13.1.3)', async () => {
 		const first = await get('kumo-parts', '/api/products/KP-1003');
 		const lm = first.headers.get('last-modified')!;
 		expect(lm).toBeTruthy();
-		expect((await get('kumo-parts', '/api/products/KP-1003', { headers: { 'If-Modified-Since': lm } })).status).toBe(304);
+		expect((await get('kumo-parts', '/api/products/KP-1003', { headers: { 'If-Modified-Since': lm } })).status).toBe(
+			304
+		);
 		await control('POST', '/listing', { shop: 'kumo-parts', path: '/api/products/KP-1003', stock: 'in_stock' });
 		const changed = await get('kumo-parts', '/api/products/KP-1003', { headers: { 'If-Modified-Since': lm } });
 		expect(changed.status).toBe(200);
@@ -293,7 +352,14 @@ describe('conditional requests and the request log', () => {
 		const { json } = await control('GET', '/requests?shop=wattle-and-wire');
 		const entries = json.requests.filter((e) => e.path === '/shop/beam-bridge-pro');
 		expect(entries).toHaveLength(2);
-		expect(entries[0]).toMatchObject({ shop: 'wattle-and-wire', method: 'GET', userAgent: UA, status: 200, ifNoneMatch: null, minute: 0 });
+		expect(entries[0]).toMatchObject({
+			shop: 'wattle-and-wire',
+			method: 'GET',
+			userAgent: UA,
+			status: 200,
+			ifNoneMatch: null,
+			minute: 0
+		});
 		expect(entries[1]).toMatchObject({ status: 304, ifNoneMatch: etag });
 		expect(typeof entries[0].time).toBe('string');
 	});

@@ -39,7 +39,8 @@ function form(revisionId: number, measuredBy: string, gain: number): BenchRunFor
 		notes: ''
 	};
 	for (let ire = 0; ire <= 100; ire += 10)
-		for (const c of ['r', 'g', 'b']) f[`${c}${ire}`] = Math.max(0, Math.round((7 * ire * gain + (rand() - 0.5) * 3) * 10) / 10);
+		for (const c of ['r', 'g', 'b'])
+			f[`${c}${ire}`] = Math.max(0, Math.round((7 * ire * gain + (rand() - 0.5) * 3) * 10) / 10);
 	return f as BenchRunForm;
 }
 
@@ -49,13 +50,33 @@ beforeAll(async () => {
 	const other = await createChip(w.db, w.curator, { name: 'QT-8', maker: 'Test Maker', slug: '', notes: '' });
 	otherChipId = other.id;
 	for (let i = 1; i <= 5; i++) {
-		const conv = await createConverter(w.db, w.curator, { brand: 'Testbrand', model: `Box ${i}`, slug: '', summary: '', hasAudioOut: false, power: 'usb-bus', outputs: ['vga'] });
-		const rev = await createRevision(w.db, w.curator, { converterId: conv.id, code: 'A', chipId: chip.id, boardMarking: '', seenFrom: '', seenTo: '', notes: '' });
+		const conv = await createConverter(w.db, w.curator, {
+			brand: 'Testbrand',
+			model: `Box ${i}`,
+			slug: '',
+			summary: '',
+			hasAudioOut: false,
+			power: 'usb-bus',
+			outputs: ['vga']
+		});
+		const rev = await createRevision(w.db, w.curator, {
+			converterId: conv.id,
+			code: 'A',
+			chipId: chip.id,
+			boardMarking: '',
+			seenFrom: '',
+			seenTo: '',
+			notes: ''
+		});
 		revs.push({ id: rev.id, converterId: conv.id, chipId: chip.id });
 	}
 	// revisions 1-3: all three testers; Cleo's scope reads 5 % high
 	for (const rev of revs.slice(0, 3))
-		for (const [name, gain] of [['Ada', 1], ['Bram', 1], ['Cleo', 1.05]] as const)
+		for (const [name, gain] of [
+			['Ada', 1],
+			['Bram', 1],
+			['Cleo', 1.05]
+		] as const)
 			runIds[name].push((await saveBenchRun(w.db, w.curator, form(rev.id, name, gain))).id);
 	// revision 4: Ada alone; revision 5: not measured
 	await saveBenchRun(w.db, w.curator, form(revs[3].id, 'Ada', 1));
@@ -69,11 +90,16 @@ describe('tester checks', () => {
 		for (const id of [...runIds.Ada, ...runIds.Bram]) expect(checks.get(id)!.signal).not.toBe('action');
 		const cleo = runIds.Cleo.map((id) => checks.get(id)!);
 		expect(cleo.every((c) => c.signal === 'action' && c.state === 'open' && c.worstZ >= 3)).toBe(true);
-		expect(cleo[0].reason).toMatch(/^\d+ IRE (red|green|blue) reads [\d.]+ IRE above the consensus of 3 runs by 3 testers/);
+		expect(cleo[0].reason).toMatch(
+			/^\d+ IRE (red|green|blue) reads [\d.]+ IRE above the consensus of 3 runs by 3 testers/
+		);
 		const flags = await openFlags(w.db);
 		expect(flags.map((f) => f.runId).sort()).toEqual([...runIds.Cleo].sort());
 		// Ada's solo revision has no one to compare with
-		const [solo] = await w.db.select({ id: t.benchRuns.id }).from(t.benchRuns).where(eq(t.benchRuns.revisionId, revs[3].id));
+		const [solo] = await w.db
+			.select({ id: t.benchRuns.id })
+			.from(t.benchRuns)
+			.where(eq(t.benchRuns.revisionId, revs[3].id));
 		expect((await checksOfRuns(w.db, [solo.id])).size).toBe(0);
 	});
 
@@ -81,7 +107,9 @@ describe('tester checks', () => {
 		const o = await testerOverview(w.db);
 		expect(o.testers.filter((x) => x.flagged).map((x) => x.tester)).toEqual(['Cleo']);
 		const cleo = o.testers[0];
-		expect(cleo.verdict).toMatch(/^Reads about [45] % high across 3 converters: check the scope's vertical calibration and the 75 ohm load\.$/);
+		expect(cleo.verdict).toMatch(
+			/^Reads about [45] % high across 3 converters: check the scope's vertical calibration and the 75 ohm load\.$/
+		);
 		expect(cleo.fit!.gain).toBeGreaterThan(1.035);
 		expect(cleo.runs).toHaveLength(3);
 		for (const x of o.testers.slice(1)) expect(x.status).toBe('consistent');
@@ -90,10 +118,18 @@ describe('tester checks', () => {
 	it('lets a curator keep, supersede, or send back a flagged run, once, with a note the tester sees', async () => {
 		const [keepId, supersedeId, remeasureId] = runIds.Cleo;
 		await decideFlag(w.db, w.curator, { id: keepId, decision: 'keep', note: 'Cross-checked with a second probe' });
-		await decideFlag(w.db, w.curator, { id: remeasureId, decision: 'remeasure', note: 'Please check the scope calibration and measure again' });
+		await decideFlag(w.db, w.curator, {
+			id: remeasureId,
+			decision: 'remeasure',
+			note: 'Please check the scope calibration and measure again'
+		});
 		await decideFlag(w.db, w.curator, { id: supersedeId, decision: 'supersede', note: 'Scope was out of calibration' });
-		await expect(decideFlag(w.db, w.curator, { id: keepId, decision: 'supersede', note: 'again' })).rejects.toMatchObject({ status: 409 });
-		await expect(decideFlag(w.db, w.curator, { id: runIds.Ada[0], decision: 'keep', note: 'not flagged' })).rejects.toMatchObject({ status: 409 });
+		await expect(
+			decideFlag(w.db, w.curator, { id: keepId, decision: 'supersede', note: 'again' })
+		).rejects.toMatchObject({ status: 409 });
+		await expect(
+			decideFlag(w.db, w.curator, { id: runIds.Ada[0], decision: 'keep', note: 'not flagged' })
+		).rejects.toMatchObject({ status: 409 });
 		expect(await openFlags(w.db)).toHaveLength(0);
 		const [sup] = await w.db.select().from(t.benchRuns).where(eq(t.benchRuns.id, supersedeId));
 		expect(sup.status).toBe('superseded');
@@ -102,7 +138,10 @@ describe('tester checks', () => {
 		expect(checks.get(keepId)!.state).toBe('kept');
 		// the curator saved these runs, so the curator's account shows them with the notes
 		const mine = await memberRunChecks(w.db, w.curator.id);
-		expect(mine.find((r) => r.runId === remeasureId)).toMatchObject({ state: 'remeasure', note: 'Please check the scope calibration and measure again' });
+		expect(mine.find((r) => r.runId === remeasureId)).toMatchObject({
+			state: 'remeasure',
+			note: 'Please check the scope calibration and measure again'
+		});
 		const log = (await auditRows(w.db, 'bench_run')).filter((r) => r.action.startsWith('flag-'));
 		expect(log.map((r) => r.action).sort()).toEqual(['flag-keep', 'flag-remeasure', 'flag-supersede']);
 	});
@@ -147,9 +186,15 @@ describe('expected grades', () => {
 		// measured only by default; the visitor's tick lets it through
 		const all = await loadCatalogue(w.db, view);
 		expect(filterCatalogue(all, { minBand: 'failing' }).map((e) => e.id)).not.toContain(revs[4].converterId);
-		expect(filterCatalogue(all, { minBand: 'failing', includeExpected: true }).map((e) => e.id)).toContain(revs[4].converterId);
+		expect(filterCatalogue(all, { minBand: 'failing', includeExpected: true }).map((e) => e.id)).toContain(
+			revs[4].converterId
+		);
 		const csv = (await exportCatalogue(w.db)).find((r) => r.revision_id === revs[4].id)!;
-		expect(csv).toMatchObject({ band: null, expected_band: entry.expected!.band, expected_basis: entry.expected!.basis });
+		expect(csv).toMatchObject({
+			band: null,
+			expected_band: entry.expected!.band,
+			expected_basis: entry.expected!.basis
+		});
 		const measured = (await exportCatalogue(w.db)).find((r) => r.revision_id === revs[0].id)!;
 		expect(measured.expected_band).toBeNull();
 	});
@@ -185,6 +230,11 @@ describe('expected grades', () => {
 		expect(res.predicted).toBe(5);
 		expect(res.withinOneRate).not.toBeNull();
 		const stored = await latestBacktest(w.db);
-		expect(stored).toMatchObject({ predicted: 5, exactRate: res.exactRate, withinOneRate: res.withinOneRate, computedAt: '2026-01-02T03:04:05.000Z' });
+		expect(stored).toMatchObject({
+			predicted: 5,
+			exactRate: res.exactRate,
+			withinOneRate: res.withinOneRate,
+			computedAt: '2026-01-02T03:04:05.000Z'
+		});
 	});
 });

@@ -36,7 +36,10 @@ describe('uploads', () => {
 		const mine = await w.db.select().from(t.files).where(eq(t.files.ownerId, w.member.id));
 		const staleIds = mine.slice(0, 10).map((f) => f.id);
 		const publicOld = mine[10];
-		await w.db.update(t.files).set({ createdAt: old }).where(inArray(t.files.id, [...staleIds, publicOld.id]));
+		await w.db
+			.update(t.files)
+			.set({ createdAt: old })
+			.where(inArray(t.files.id, [...staleIds, publicOld.id]));
 		await w.db.update(t.files).set({ status: 'public' }).where(eq(t.files.id, publicOld.id));
 		const staleKey = mine[0].storageKey;
 		expect(await w.storage.exists(staleKey)).toBe(true);

@@ -32,7 +32,7 @@ function ramp(change: (ire: number, ch: 'r' | 'g' | 'b', mv: number) => number =
 }
 
 describe('the deviation ruler', () => {
-	it('ticks at the rubric\'s deviation limits, 1, 2, 3.5 and 6 IRE, and runs beyond the last', () => {
+	it("ticks at the rubric's deviation limits, 1, 2, 3.5 and 6 IRE, and runs beyond the last", () => {
 		expect(RULER_TICKS_IRE).toEqual(RUBRIC.bands.map((b) => b.maxDeviationIre));
 		expect(RULER_TICKS_IRE).toEqual([1, 2, 3.5, 6]);
 		expect(RULER_END_IRE).toBeGreaterThan(6);
@@ -80,12 +80,17 @@ describe('reasons taken from real level reports', () => {
 		const report = analyzeLevels({ steps: ramp((ire, _c, mv) => (ire === 60 ? 7 * 49 : mv)), fullScaleMv: 700 });
 		expect(report.band).toBe('failing');
 		expect(bandReasonOf(report)).toBe('reversed');
-		expect(markText({ band: 'failing', reason: 'reversed', deviationIre: report.worstDeviationIre })).toBe('Failing · reversed step');
+		expect(markText({ band: 'failing', reason: 'reversed', deviationIre: report.worstDeviationIre })).toBe(
+			'Failing · reversed step'
+		);
 	});
 
 	it('a band set by the channel spread keeps its marker and says "spread"', () => {
 		// Blue alone 3 IRE high at one step: deviation 3 IRE (Fair's zone), spread 3 IRE (over Fair's 2.5).
-		const report = analyzeLevels({ steps: ramp((ire, c, mv) => mv + (ire === 70 && c === 'b' ? 21 : 0)), fullScaleMv: 700 });
+		const report = analyzeLevels({
+			steps: ramp((ire, c, mv) => mv + (ire === 70 && c === 'b' ? 21 : 0)),
+			fullScaleMv: 700
+		});
 		expect(report.worstDeviationIre).toBeCloseTo(3, 5);
 		expect(report.band).toBe('poor');
 		expect(bandReasonOf(report)).toBe('spread');
@@ -130,7 +135,10 @@ describe('the mark in an alert e-mail', () => {
 		buyUrl: 'https://shop.example/p',
 		converterUrl: 'https://scopegrade.example/converters/x'
 	};
-	const links = { manageUrl: 'https://scopegrade.example/account/watches', unsubscribeUrl: 'https://scopegrade.example/u/t' };
+	const links = {
+		manageUrl: 'https://scopegrade.example/account/watches',
+		unsubscribeUrl: 'https://scopegrade.example/u/t'
+	};
 
 	it('draws the ruler with table cells and one marker, and says the words in both parts', () => {
 		const m = renderAlertMessage(view, links);
@@ -139,7 +147,12 @@ describe('the mark in an alert e-mail', () => {
 		// the marker sits in the cell for 1.0-1.5 IRE: the third of the ruler's 0.5 IRE cells
 		const at = m.html.indexOf('▼');
 		const row = m.html.slice(m.html.lastIndexOf('<tr>', at), m.html.indexOf('</tr>', at));
-		expect(row.split('<td').slice(1).findIndex((cell) => cell.includes('▼'))).toBe(2);
+		expect(
+			row
+				.split('<td')
+				.slice(1)
+				.findIndex((cell) => cell.includes('▼'))
+		).toBe(2);
 		expect(m.html).toContain('Close · 1.3 IRE, revision B');
 		expect(m.text).toContain('Level grade:   Close · 1.3 IRE, revision B');
 		expect(m.html + m.text).not.toMatch(/of 5/);

@@ -1,17 +1,79 @@
 import { describe, expect, it } from 'vitest';
-import { betterPastRevisions, currentRevisions, explainEntry, filterCatalogue, leadExpected, leadGrade, meetsBand, rankFinder, sortCatalogue, type CatalogueEntry, type CatalogueRevision } from '../../src/lib/finder';
+import {
+	betterPastRevisions,
+	currentRevisions,
+	explainEntry,
+	filterCatalogue,
+	leadExpected,
+	leadGrade,
+	meetsBand,
+	rankFinder,
+	sortCatalogue,
+	type CatalogueEntry,
+	type CatalogueRevision
+} from '../../src/lib/finder';
 
 let nextId = 1;
-const rev = (code: string, band: CatalogueRevision['band'], score: number | null, retired = false): CatalogueRevision => ({
-	id: nextId++, code, chip: `C-${code}`, chipSlug: `c-${code}`, boardMarking: '', band, score, runs: 2, retired, seenFrom: null, seenTo: null, expected: null, expectedBasis: null
+const rev = (
+	code: string,
+	band: CatalogueRevision['band'],
+	score: number | null,
+	retired = false
+): CatalogueRevision => ({
+	id: nextId++,
+	code,
+	chip: `C-${code}`,
+	chipSlug: `c-${code}`,
+	boardMarking: '',
+	band,
+	score,
+	runs: 2,
+	retired,
+	seenFrom: null,
+	seenTo: null,
+	expected: null,
+	expectedBasis: null
 });
-function entry(slug: string, revisions: CatalogueRevision[], o: Partial<CatalogueEntry> & { price?: number | null; inStock?: number } = {}): CatalogueEntry {
+function entry(
+	slug: string,
+	revisions: CatalogueRevision[],
+	o: Partial<CatalogueEntry> & { price?: number | null; inStock?: number } = {}
+): CatalogueEntry {
 	const lead = leadGrade(revisions);
 	const price = o.price === undefined ? 1500 : o.price;
-	const best = price === null ? null : { listingId: nextId++, shopSlug: 's', shopName: 'Shop S', shopRegion: 'eu' as const, url: 'http://shop.test/x', priceMinor: price, currency: 'EUR', displayMinor: price, displayCurrency: 'EUR', stock: (o.inStock ?? 1) > 0 ? ('in_stock' as const) : ('preorder' as const), lastCheckedAt: null };
+	const best =
+		price === null
+			? null
+			: {
+					listingId: nextId++,
+					shopSlug: 's',
+					shopName: 'Shop S',
+					shopRegion: 'eu' as const,
+					url: 'http://shop.test/x',
+					priceMinor: price,
+					currency: 'EUR',
+					displayMinor: price,
+					displayCurrency: 'EUR',
+					stock: (o.inStock ?? 1) > 0 ? ('in_stock' as const) : ('preorder' as const),
+					lastCheckedAt: null
+				};
 	return {
-		id: nextId++, slug, brand: o.brand ?? slug, model: 'M', summary: '', hasAudioOut: o.hasAudioOut ?? true, power: o.power ?? 'usb-bus', outputs: ['vga'], lastReviewedAt: null,
-		revisions, bestBand: lead.band, bestScore: lead.score, expected: leadExpected(revisions), offers: best ? [best] : [], best, inStockShops: price === null ? 0 : (o.inStock ?? 1)
+		id: nextId++,
+		slug,
+		brand: o.brand ?? slug,
+		model: 'M',
+		summary: '',
+		hasAudioOut: o.hasAudioOut ?? true,
+		power: o.power ?? 'usb-bus',
+		outputs: ['vga'],
+		lastReviewedAt: null,
+		revisions,
+		bestBand: lead.band,
+		bestScore: lead.score,
+		expected: leadExpected(revisions),
+		offers: best ? [best] : [],
+		best,
+		inStockShops: price === null ? 0 : (o.inStock ?? 1)
 	};
 }
 
@@ -35,7 +97,7 @@ describe('band filter semantics', () => {
 		expect(betterPastRevisions(changed.revisions)).toEqual([older]);
 	});
 
-	it('carries the lead revision\'s worst deviation and band reason for the band mark', () => {
+	it("carries the lead revision's worst deviation and band reason for the band mark", () => {
 		const a = { ...rev('A', 'fair', 70), deviationIre: 2.8, bandReason: null };
 		const b = { ...rev('B', 'failing', 20), deviationIre: 4.1, bandReason: 'crushed' };
 		expect(leadGrade([a, b])).toEqual({ band: 'fair', score: 70, deviationIre: 2.8, reason: null });
@@ -43,7 +105,10 @@ describe('band filter semantics', () => {
 	});
 
 	it('judges a converter no longer made (every revision has an end date) on all its revisions', () => {
-		const gone = entry('gone', [{ ...rev('A', 'close', 85), seenTo: '2024-01-31' }, { ...rev('B', 'fair', 70), seenTo: '2025-01-31' }]);
+		const gone = entry('gone', [
+			{ ...rev('A', 'close', 85), seenTo: '2024-01-31' },
+			{ ...rev('B', 'fair', 70), seenTo: '2025-01-31' }
+		]);
 		expect(meetsBand(gone, 'close')).toBe(true);
 		expect(betterPastRevisions(gone.revisions)).toEqual([]);
 	});
@@ -85,7 +150,12 @@ describe('rankFinder', () => {
 		const closePreorder = entry('close-preorder', [rev('A', 'close', 95)], { price: 1100, inStock: 0 });
 		const exactDear = entry('exact-dear', [rev('A', 'exact', 97)], { price: 3000 });
 		const noAudio = entry('no-audio', [rev('A', 'exact', 99)], { price: 1000, hasAudioOut: false });
-		const ranked = rankFinder([closeCheap, closeBetter, closePreorder, exactDear, noAudio], { region: 'eu', budgetMinor: 2000, needsAudio: true, minBand: 'close' });
+		const ranked = rankFinder([closeCheap, closeBetter, closePreorder, exactDear, noAudio], {
+			region: 'eu',
+			budgetMinor: 2000,
+			needsAudio: true,
+			minBand: 'close'
+		});
 		expect(ranked.map((r) => r.entry.slug)).toEqual(['close-better', 'close-cheap', 'close-preorder']);
 		expect(ranked.map((r) => r.rank)).toEqual([1, 2, 3]);
 		expect(rankFinder([closePreorder], { region: 'eu', inStockNow: true })).toEqual([]);
@@ -96,7 +166,9 @@ describe('rankFinder', () => {
 		expect(explainEntry(e, 'eu')).toBe('Close band; in stock at 2 shops in your region; lowest 12.90 EUR');
 		const [r] = rankFinder([e], { region: 'eu', minBand: 'close' });
 		expect(r.notes.join(' ')).toMatch(/Revision B \(chip C-B\) grades Failing/);
-		expect(explainEntry(entry('gone', [rev('A', 'fair', 70)], { price: null }), 'jp')).toBe('Fair band; not buyable in Japan right now');
+		expect(explainEntry(entry('gone', [rev('A', 'fair', 70)], { price: null }), 'jp')).toBe(
+			'Fair band; not buyable in Japan right now'
+		);
 	});
 });
 
@@ -112,13 +184,24 @@ describe('expected grades (predictions for revisions not yet measured)', () => {
 		const unmeasured = entry('unmeasured', [predicted('A', 'close')]);
 		const measuredFair = entry('measured-fair', [rev('A', 'fair', 70)]);
 		expect(unmeasured.bestBand).toBeNull();
-		expect(unmeasured.expected).toEqual({ band: 'close', basis: 'from 6 runs of this chip in 3 other converters; not yet measured', deviationIre: null });
+		expect(unmeasured.expected).toEqual({
+			band: 'close',
+			basis: 'from 6 runs of this chip in 3 other converters; not yet measured',
+			deviationIre: null
+		});
 		expect(meetsBand(unmeasured, 'close')).toBe(false);
 		expect(meetsBand(unmeasured, 'close', true)).toBe(true);
-		expect(filterCatalogue([unmeasured, measuredFair], { minBand: 'fair' }).map((e) => e.slug)).toEqual(['measured-fair']);
-		expect(filterCatalogue([measuredFair, unmeasured], { minBand: 'fair', includeExpected: true }).map((e) => e.slug)).toEqual(['unmeasured', 'measured-fair']);
+		expect(filterCatalogue([unmeasured, measuredFair], { minBand: 'fair' }).map((e) => e.slug)).toEqual([
+			'measured-fair'
+		]);
+		expect(
+			filterCatalogue([measuredFair, unmeasured], { minBand: 'fair', includeExpected: true }).map((e) => e.slug)
+		).toEqual(['unmeasured', 'measured-fair']);
 		// measured only: the unmeasured one sorts as not graded
-		expect(sortCatalogue([unmeasured, measuredFair], 'band').map((e) => e.slug)).toEqual(['measured-fair', 'unmeasured']);
+		expect(sortCatalogue([unmeasured, measuredFair], 'band').map((e) => e.slug)).toEqual([
+			'measured-fair',
+			'unmeasured'
+		]);
 	});
 
 	it('put a measured grade before an expected one of the same band, and say so in the finder', () => {
@@ -127,7 +210,9 @@ describe('expected grades (predictions for revisions not yet measured)', () => {
 		const ranked = rankFinder([unmeasured, measured], { region: 'eu', includeExpected: true });
 		expect(ranked.map((r) => r.entry.slug)).toEqual(['measured', 'unmeasured']);
 		expect(ranked[1].explanation).toMatch(/^expected Close band \(not yet measured\)/);
-		expect(rankFinder([unmeasured, measured], { region: 'eu', minBand: 'close' }).map((r) => r.entry.slug)).toEqual(['measured']);
+		expect(rankFinder([unmeasured, measured], { region: 'eu', minBand: 'close' }).map((r) => r.entry.slug)).toEqual([
+			'measured'
+		]);
 	});
 
 	it('ignore an expected band once the revision is measured, or when it is not current', () => {

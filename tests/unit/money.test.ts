@@ -4,7 +4,15 @@
  * Intl.NumberFormat's currency data (CLDR, following ISO 4217) is the independent cross-check.
  */
 import { describe, expect, it } from 'vitest';
-import { fitsMinorUnits, formatMinor, formatMoney, MINOR_UNITS, minorDigits, toMajor, toMinor } from '../../src/lib/money';
+import {
+	fitsMinorUnits,
+	formatMinor,
+	formatMoney,
+	MINOR_UNITS,
+	minorDigits,
+	toMajor,
+	toMinor
+} from '../../src/lib/money';
 
 describe('minor digits (ISO 4217 exponent)', () => {
 	it.each([

@@ -14,7 +14,18 @@ import { openApiDocument } from '../../src/lib/server/api/openapi';
 type Spec = Parameters<Validator['validate']>[0];
 const API_DIR = join(__dirname, '../../src/routes/api/v1');
 const doc = openApiDocument('https://scopegrade.test') as unknown as {
-	paths: Record<string, Record<string, { parameters: Array<{ name: string; in: string; required: boolean; schema: Record<string, unknown> }>; responses: Record<string, unknown>; security: unknown[]; requestBody?: unknown }>>;
+	paths: Record<
+		string,
+		Record<
+			string,
+			{
+				parameters: Array<{ name: string; in: string; required: boolean; schema: Record<string, unknown> }>;
+				responses: Record<string, unknown>;
+				security: unknown[];
+				requestBody?: unknown;
+			}
+		>
+	>;
 };
 
 function serverFiles(dir: string): string[] {
@@ -31,7 +42,9 @@ function openApiPath(file: string): string {
 
 function exportedMethods(file: string): string[] {
 	const text = readFileSync(file, 'utf8');
-	return [...text.matchAll(/export (?:const|async function|function) (GET|POST|PUT|PATCH|DELETE)\b/g)].map((m) => m[1].toLowerCase());
+	return [...text.matchAll(/export (?:const|async function|function) (GET|POST|PUT|PATCH|DELETE)\b/g)].map((m) =>
+		m[1].toLowerCase()
+	);
 }
 
 describe('the OpenAPI description', () => {
@@ -66,7 +79,10 @@ describe('the OpenAPI description', () => {
 		for (const [path, ops] of Object.entries(doc.paths)) {
 			const inTemplate = [...path.matchAll(/\{(\w+)\}/g)].map((m) => m[1]).sort();
 			for (const op of Object.values(ops)) {
-				const declared = op.parameters.filter((p) => p.in === 'path').map((p) => p.name).sort();
+				const declared = op.parameters
+					.filter((p) => p.in === 'path')
+					.map((p) => p.name)
+					.sort();
 				expect(declared, path).toEqual(inTemplate);
 			}
 		}
@@ -74,15 +90,25 @@ describe('the OpenAPI description', () => {
 
 	it('derives parameters from the zod schemas the routes parse with', () => {
 		const history = doc.paths['/listings/{id}/history'].get.parameters;
-		expect(history.find((p) => p.name === 'range')).toMatchObject({ in: 'query', required: false, schema: { enum: ['30d', '90d', '1y', 'all'] } });
-		expect(history.find((p) => p.name === 'points')?.schema).toMatchObject({ type: 'integer', minimum: 10, maximum: 1000 });
+		expect(history.find((p) => p.name === 'range')).toMatchObject({
+			in: 'query',
+			required: false,
+			schema: { enum: ['30d', '90d', '1y', 'all'] }
+		});
+		expect(history.find((p) => p.name === 'points')?.schema).toMatchObject({
+			type: 'integer',
+			minimum: 10,
+			maximum: 1000
+		});
 		// The schema really is the route's: what it documents, it accepts; what it bounds, it refuses.
 		expect(listingHistoryQuery.safeParse({ range: '1y', points: '1000' }).success).toBe(true);
 		expect(listingHistoryQuery.safeParse({ points: '9' }).success).toBe(false);
 		const listings = doc.paths['/listings'].get.parameters;
 		expect(listings.find((p) => p.name === 'converter')).toMatchObject({ required: true });
 		expect(listingsQuery.safeParse({}).success).toBe(false);
-		const watchBody = doc.paths['/watches'].post.requestBody as { content: { 'application/json': { schema: { properties: Record<string, unknown>; required: string[] } } } };
+		const watchBody = doc.paths['/watches'].post.requestBody as {
+			content: { 'application/json': { schema: { properties: Record<string, unknown>; required: string[] } } };
+		};
 		expect(watchBody.content['application/json'].schema.required).toContain('converterSlug');
 	});
 
@@ -94,9 +120,13 @@ describe('the OpenAPI description', () => {
 				expect(described.security, `${op.method} ${op.path}`).toEqual([{ session: [] }]);
 				expect(described.responses['401']).toEqual({ $ref: '#/components/responses/SignInRequired' });
 			}
-			if (op.auth === 'curator') expect(described.responses['403']).toEqual({ $ref: '#/components/responses/Forbidden' });
+			if (op.auth === 'curator')
+				expect(described.responses['403']).toEqual({ $ref: '#/components/responses/Forbidden' });
 		}
-		const responses = (openApiDocument('https://scopegrade.test').components.responses ?? {}) as Record<string, { content: Record<string, unknown> }>;
+		const responses = (openApiDocument('https://scopegrade.test').components.responses ?? {}) as Record<
+			string,
+			{ content: Record<string, unknown> }
+		>;
 		for (const r of Object.values(responses)) expect(Object.keys(r.content)).toEqual(['application/problem+json']);
 	});
 });

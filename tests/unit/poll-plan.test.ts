@@ -28,8 +28,22 @@ function flipping(outFor: number): StockPoint[] {
 function shop(): { inputs: PlanInput[]; current: Map<number, boolean | null> } {
 	const inputs: PlanInput[] = [
 		{ listingId: 1, shopId: 1, intervalMinutes: 60, watched: true, goodBand: true, points: flipping(20 * H) }, // waited for, due back
-		{ listingId: 2, shopId: 1, intervalMinutes: 60, watched: false, goodBand: false, points: [{ at: back(200 * D), stock: 'in_stock' }] }, // quiet
-		...Array.from({ length: 8 }, (_, k) => ({ listingId: 3 + k, shopId: 1, intervalMinutes: 60, watched: false, goodBand: false, points: [{ at: back(3 * D), stock: 'in_stock' as const }] })),
+		{
+			listingId: 2,
+			shopId: 1,
+			intervalMinutes: 60,
+			watched: false,
+			goodBand: false,
+			points: [{ at: back(200 * D), stock: 'in_stock' }]
+		}, // quiet
+		...Array.from({ length: 8 }, (_, k) => ({
+			listingId: 3 + k,
+			shopId: 1,
+			intervalMinutes: 60,
+			watched: false,
+			goodBand: false,
+			points: [{ at: back(3 * D), stock: 'in_stock' as const }]
+		})),
 		{ listingId: 20, shopId: 2, intervalMinutes: 120, watched: false, goodBand: false, points: [] }
 	];
 	const current = new Map<number, boolean | null>(inputs.map((i) => [i.listingId, i.listingId !== 1]));
@@ -43,7 +57,10 @@ describe('planIntervals', () => {
 		for (const shopId of [1, 2]) {
 			const mine = inputs.filter((i) => i.shopId === shopId);
 			const fixed = mine.reduce((n, i) => n + 1 / i.intervalMinutes, 0);
-			const planned = mine.reduce((n, i) => n + 1 / (current.get(i.listingId) ? plan.get(i.listingId)!.in : plan.get(i.listingId)!.out), 0);
+			const planned = mine.reduce(
+				(n, i) => n + 1 / (current.get(i.listingId) ? plan.get(i.listingId)!.in : plan.get(i.listingId)!.out),
+				0
+			);
 			expect(planned).toBeLessThanOrEqual(fixed * (1 + 1e-9));
 			expect(planned).toBeGreaterThan(fixed * 0.99);
 		}
@@ -69,7 +86,17 @@ describe('planIntervals', () => {
 	});
 
 	it('gives a sold-out listing more polls when its outlook says a restock is near than when it is long overdue', () => {
-		const due = planIntervals([{ listingId: 1, shopId: 1, intervalMinutes: 60, watched: true, goodBand: false, points: flipping(20 * H) }, { listingId: 2, shopId: 1, intervalMinutes: 60, watched: true, goodBand: false, points: flipping(20 * D) }], new Map([[1, false], [2, false]]), now);
+		const due = planIntervals(
+			[
+				{ listingId: 1, shopId: 1, intervalMinutes: 60, watched: true, goodBand: false, points: flipping(20 * H) },
+				{ listingId: 2, shopId: 1, intervalMinutes: 60, watched: true, goodBand: false, points: flipping(20 * D) }
+			],
+			new Map([
+				[1, false],
+				[2, false]
+			]),
+			now
+		);
 		expect(due.get(1)!.out).toBeLessThan(due.get(2)!.out);
 	});
 });

@@ -4,7 +4,6 @@ import { etagOf, matchesEtag, toCsv } from '../../src/lib/server/queries/public-
 import { restocksAtom, xmlEscape } from '../../src/lib/server/queries/public-feed';
 import { renderMarkdown } from '../../src/lib/server/markdown';
 
-
 describe('HTTP helpers', () => {
 	it('compares ETags as RFC 9110 section 13.1.2 says (weak comparison, lists, *)', () => {
 		const e = etagOf('{"a":1}');
@@ -25,7 +24,24 @@ describe('Atom feed (RFC 4287)', () => {
 	it('escapes text and gives every entry an id, updated and an alternate link', () => {
 		expect(xmlEscape(`<a & "b">`)).toBe('&lt;a &amp; &quot;b&quot;&gt;');
 		const xml = restocksAtom(
-			[{ id: 7, at: '2026-02-01T10:00:00.000Z', converterSlug: 'x-box', converterName: 'X <Box> & Co', shopSlug: 's', shopName: 'Shop "S"', shopRegion: 'eu', priceMinor: 1290, currency: 'EUR', previousStock: 'out_of_stock', url: 'http://shop.test/p?a=1&b=2', band: 'close', deviationIre: 1.3, bandReason: null }],
+			[
+				{
+					id: 7,
+					at: '2026-02-01T10:00:00.000Z',
+					converterSlug: 'x-box',
+					converterName: 'X <Box> & Co',
+					shopSlug: 's',
+					shopName: 'Shop "S"',
+					shopRegion: 'eu',
+					priceMinor: 1290,
+					currency: 'EUR',
+					previousStock: 'out_of_stock',
+					url: 'http://shop.test/p?a=1&b=2',
+					band: 'close',
+					deviationIre: 1.3,
+					bandReason: null
+				}
+			],
 			'http://example.test'
 		);
 		expect(xml).toContain('<feed xmlns="http://www.w3.org/2005/Atom">');
@@ -40,7 +56,9 @@ describe('Atom feed (RFC 4287)', () => {
 
 describe('renderMarkdown', () => {
 	it('renders markdown and strips scripts, handlers and javascript: links', () => {
-		const html = renderMarkdown('# Title\n\nSee [shop](https://shop.test) and [bad](javascript:alert(1)).\n\n<script>alert(1)</script><img src=x onerror=alert(1)>');
+		const html = renderMarkdown(
+			'# Title\n\nSee [shop](https://shop.test) and [bad](javascript:alert(1)).\n\n<script>alert(1)</script><img src=x onerror=alert(1)>'
+		);
 		expect(html).toContain('<h2>Title</h2>');
 		expect(html).toContain('<a href="https://shop.test" rel="nofollow noopener">shop</a>');
 		expect(html).not.toMatch(/script|onerror|javascript:/i);
@@ -48,7 +66,7 @@ describe('renderMarkdown', () => {
 });
 
 describe('normaliseHistory', () => {
-	it('reads the history route\'s points in time order and skips undated ones', () => {
+	it("reads the history route's points in time order and skips undated ones", () => {
 		const pts = normaliseHistory({
 			points: [
 				{ at: '2026-01-02T00:00:00.000Z', priceMinor: 1290, currency: 'EUR', stock: 'in_stock' },

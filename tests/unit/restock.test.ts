@@ -1,8 +1,19 @@
 import { describe, expect, it } from 'vitest';
-import { endsWithin, formatSpan, kaplanMeier, listingSpells, restockOutlook, survivalAt, type Spell, type StockPoint } from '../../src/lib/restock';
+import {
+	endsWithin,
+	formatSpan,
+	kaplanMeier,
+	listingSpells,
+	restockOutlook,
+	survivalAt,
+	type Spell,
+	type StockPoint
+} from '../../src/lib/restock';
 
 const spells = (xs: Array<number | string>): Spell[] =>
-	xs.map((x) => (typeof x === 'string' ? { duration: Number(x.replace('+', '')), censored: true } : { duration: x, censored: false }));
+	xs.map((x) =>
+		typeof x === 'string' ? { duration: Number(x.replace('+', '')), censored: true } : { duration: x, censored: false }
+	);
 
 describe('kaplanMeier', () => {
 	// Remission times in weeks of the 6-MP group of Freireich et al., "The effect of 6-mercaptopurine on
@@ -10,7 +21,29 @@ describe('kaplanMeier', () => {
 	// (+ = censored), the classic worked example of the product-limit estimator (e.g. Kleinbaum & Klein,
 	// "Survival Analysis: A Self-Learning Text", chapter 2). Published table: S(6) = 0.857,
 	// S(7) = 0.807, S(10) = 0.753, S(13) = 0.690, S(16) = 0.627, S(22) = 0.538, S(23) = 0.448; median 23.
-	const sixMp = spells([6, 6, 6, '6+', 7, '9+', 10, '10+', '11+', 13, 16, '17+', '19+', '20+', 22, 23, '25+', '32+', '32+', '34+', '35+']);
+	const sixMp = spells([
+		6,
+		6,
+		6,
+		'6+',
+		7,
+		'9+',
+		10,
+		'10+',
+		'11+',
+		13,
+		16,
+		'17+',
+		'19+',
+		'20+',
+		22,
+		23,
+		'25+',
+		'32+',
+		'32+',
+		'34+',
+		'35+'
+	]);
 
 	it('reproduces the published 6-MP table', () => {
 		const km = kaplanMeier(sixMp);
@@ -24,7 +57,7 @@ describe('kaplanMeier', () => {
 		expect(km.spells).toBe(21);
 	});
 
-	it('gives the plain empirical median with no censoring (the same study\'s placebo group: median 8 weeks)', () => {
+	it("gives the plain empirical median with no censoring (the same study's placebo group: median 8 weeks)", () => {
 		// Placebo group of Freireich et al. (1963), no censoring; S(8) = 8/21 = 0.381 in the same textbook table.
 		const km = kaplanMeier(spells([1, 1, 2, 2, 3, 4, 4, 5, 5, 8, 8, 8, 8, 11, 11, 12, 12, 15, 17, 22, 23]));
 		expect(km.median).toBe(8);
@@ -112,7 +145,9 @@ describe('restockOutlook', () => {
 		expect(o.restock).toEqual({ medianMs: 12 * D, spells: 6 });
 		expect(o.sellout.spells).toBe(6); // the first in-stock reading starts history, not a spell
 		expect(o.sellout.medianMs).toBe(30 * H);
-		expect(o.text).toBe('Out of stock for 9 days. Here, past restocks came after a median of 12 days (6 spells); once back, half sold out within 30 hours.');
+		expect(o.text).toBe(
+			'Out of stock for 9 days. Here, past restocks came after a median of 12 days (6 spells); once back, half sold out within 30 hours.'
+		);
 	});
 
 	it('says nothing with fewer than 3 finished spells', () => {
@@ -143,8 +178,12 @@ describe('formatSpan', () => {
 describe('shopRecordLine (our thresholds)', () => {
 	it('says the restock gap and how often the shop delists', async () => {
 		const { shopRecordLine } = await import('../../src/lib/shop-record');
-		expect(shopRecordLine({ medianRestockGapMs: 9 * D, delistings: 0, listings: 12, failedPollShare: 0.01 })).toBe('usually restocks within 2 weeks; delists rarely');
-		expect(shopRecordLine({ medianRestockGapMs: null, delistings: 4, listings: 10, failedPollShare: 0.3 })).toBe('delists often; its pages often fail to load for us');
+		expect(shopRecordLine({ medianRestockGapMs: 9 * D, delistings: 0, listings: 12, failedPollShare: 0.01 })).toBe(
+			'usually restocks within 2 weeks; delists rarely'
+		);
+		expect(shopRecordLine({ medianRestockGapMs: null, delistings: 4, listings: 10, failedPollShare: 0.3 })).toBe(
+			'delists often; its pages often fail to load for us'
+		);
 		expect(shopRecordLine({ medianRestockGapMs: null, delistings: 0, listings: 0, failedPollShare: null })).toBeNull();
 	});
 });

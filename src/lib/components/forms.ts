@@ -12,10 +12,11 @@ import { superForm, type FormOptions, type SuperForm, type SuperValidated } from
 // eslint-disable-next-line @typescript-eslint/no-explicit-any -- superforms' own default for the message type
 type AnyMessage = any;
 
-export function workspaceForm<T extends Record<string, unknown>, M = AnyMessage, In extends Record<string, unknown> = T>(
-	data: () => SuperValidated<T, M, In>,
-	options: FormOptions<T, M, In> = {}
-): SuperForm<T, M> {
+export function workspaceForm<
+	T extends Record<string, unknown>,
+	M = AnyMessage,
+	In extends Record<string, unknown> = T
+>(data: () => SuperValidated<T, M, In>, options: FormOptions<T, M, In> = {}): SuperForm<T, M> {
 	return superForm(untrack(data), { resetForm: false, ...options });
 }
 

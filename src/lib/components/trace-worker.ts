@@ -32,7 +32,13 @@ self.onmessage = (e: MessageEvent<TraceJob>) => {
 			t.steps.forEach((s, k) => (steps[k] = { ...steps[k], ...s }));
 			for (const w of t.warnings) warnings.add(w);
 		} catch (err) {
-			post({ type: 'error', message: err instanceof LevelInputError ? `${files.length > 1 ? `${f.name}: ` : ''}${err.message}` : `${f.name} could not be read.` });
+			post({
+				type: 'error',
+				message:
+					err instanceof LevelInputError
+						? `${files.length > 1 ? `${f.name}: ` : ''}${err.message}`
+						: `${f.name} could not be read.`
+			});
 			return;
 		}
 	}

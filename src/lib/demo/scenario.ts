@@ -108,7 +108,14 @@ export const CONVERTERS: DemoConverter[] = [
 		power: 'usb-bus',
 		outputs: ['vga'],
 		revisions: [
-			{ code: 'A', chip: 'quoll-qmz208', boardMarking: 'SCN 101', seenFrom: '2024-06-01', seenTo: '2025-08-31', runs: 2 },
+			{
+				code: 'A',
+				chip: 'quoll-qmz208',
+				boardMarking: 'SCN 101',
+				seenFrom: '2024-06-01',
+				seenTo: '2025-08-31',
+				runs: 2
+			},
 			{ code: 'B', chip: 'sorrel-szw350', boardMarking: 'SCN 203', seenFrom: '2025-09-01', seenTo: null, runs: 2 }
 		]
 	},
@@ -169,7 +176,14 @@ export const CONVERTERS: DemoConverter[] = [
 		power: 'usb-bus',
 		outputs: ['vga', 'component'],
 		revisions: [
-			{ code: 'A', chip: 'kittiwake-kjw635', boardMarking: 'TLD 301', seenFrom: '2024-03-01', seenTo: '2025-04-30', runs: 2 },
+			{
+				code: 'A',
+				chip: 'kittiwake-kjw635',
+				boardMarking: 'TLD 301',
+				seenFrom: '2024-03-01',
+				seenTo: '2025-04-30',
+				runs: 2
+			},
 			{ code: 'B', chip: 'nadir-nqj417', boardMarking: 'TLD 305', seenFrom: '2025-05-01', seenTo: null, runs: 2 }
 		]
 	},
@@ -255,7 +269,14 @@ export const CONVERTERS: DemoConverter[] = [
 		power: 'usb-bus',
 		outputs: ['vga'],
 		revisions: [
-			{ code: 'A', chip: 'tarn-tqb912', boardMarking: 'CPV 130', seenFrom: '2024-08-01', seenTo: '2025-10-31', runs: 2 },
+			{
+				code: 'A',
+				chip: 'tarn-tqb912',
+				boardMarking: 'CPV 130',
+				seenFrom: '2024-08-01',
+				seenTo: '2025-10-31',
+				runs: 2
+			},
 			{ code: 'B', chip: 'sorrel-szw350', boardMarking: 'CPV 140', seenFrom: '2025-11-01', seenTo: null, runs: 1 }
 		]
 	}
@@ -275,17 +296,63 @@ export interface DemoShop {
 }
 
 export const SHOPS: DemoShop[] = [
-	{ slug: 'northbay-circuits', name: 'Northbay Circuits', region: 'na', currency: 'USD', format: 'jsonld', portOffset: 1, shipsTo: ['na'] },
-	{ slug: 'kanalhaus', name: 'Kanalhaus', region: 'eu', currency: 'EUR', format: 'selectors', portOffset: 2, localePrice: true, shipsTo: ['eu', 'uk'] },
-	{ slug: 'thamesbit', name: 'Thamesbit', region: 'uk', currency: 'GBP', format: 'microdata', portOffset: 3, shipsTo: ['uk', 'eu'] },
-	{ slug: 'kumo-parts', name: 'Kumo Parts', region: 'jp', currency: 'JPY', format: 'api', portOffset: 4, shipsTo: ['jp', 'au'] },
-	{ slug: 'wattle-and-wire', name: 'Wattle & Wire', region: 'au', currency: 'AUD', format: 'selectors', portOffset: 5, shipsTo: ['au'] }
+	{
+		slug: 'northbay-circuits',
+		name: 'Northbay Circuits',
+		region: 'na',
+		currency: 'USD',
+		format: 'jsonld',
+		portOffset: 1,
+		shipsTo: ['na']
+	},
+	{
+		slug: 'kanalhaus',
+		name: 'Kanalhaus',
+		region: 'eu',
+		currency: 'EUR',
+		format: 'selectors',
+		portOffset: 2,
+		localePrice: true,
+		shipsTo: ['eu', 'uk']
+	},
+	{
+		slug: 'thamesbit',
+		name: 'Thamesbit',
+		region: 'uk',
+		currency: 'GBP',
+		format: 'microdata',
+		portOffset: 3,
+		shipsTo: ['uk', 'eu']
+	},
+	{
+		slug: 'kumo-parts',
+		name: 'Kumo Parts',
+		region: 'jp',
+		currency: 'JPY',
+		format: 'api',
+		portOffset: 4,
+		shipsTo: ['jp', 'au']
+	},
+	{
+		slug: 'wattle-and-wire',
+		name: 'Wattle & Wire',
+		region: 'au',
+		currency: 'AUD',
+		format: 'selectors',
+		portOffset: 5,
+		shipsTo: ['au']
+	}
 ];
 
 /** CSS selectors the curator set for the plain-HTML shops (the fake shops render to match). */
 export const SHOP_SELECTORS: Record<string, { price: string; stock: string; currency?: string; title?: string }> = {
 	kanalhaus: { price: '.artikel .preis', stock: '.artikel .lager', title: '.artikel h1' },
-	'wattle-and-wire': { price: '#buy-box [data-price]', stock: '#buy-box .availability', currency: '#buy-box [data-currency]', title: 'h1.product-title' }
+	'wattle-and-wire': {
+		price: '#buy-box [data-price]',
+		stock: '#buy-box .availability',
+		currency: '#buy-box [data-currency]',
+		title: 'h1.product-title'
+	}
 };
 
 /** JSON mapping the curator set for the API shop (dot paths into its product document). */
@@ -333,39 +400,236 @@ export interface DemoListing {
 }
 
 export const LISTINGS: DemoListing[] = [
-	{ shop: 'northbay-circuits', converter: 'vantacove-beam-bridge', path: '/products/beam-bridge', priceMinor: 2499, stock: 'out_of_stock', spells: 4 },
-	{ shop: 'northbay-circuits', converter: 'brisling-scanlet', path: '/products/scanlet', priceMinor: 1299, stock: 'in_stock' },
-	{ shop: 'northbay-circuits', converter: 'morrowgate-phosphor-one', path: '/products/phosphor-one', priceMinor: 3950, stock: 'in_stock' },
-	{ shop: 'northbay-circuits', converter: 'tessaloop-loop-rgb', path: '/products/loop-rgb', priceMinor: 1899, stock: 'in_stock' },
-	{ shop: 'kanalhaus', converter: 'vantacove-beam-bridge', path: '/artikel/vb-beam-bridge', priceMinor: 2290, stock: 'in_stock' },
-	{ shop: 'kanalhaus', converter: 'brisling-scanlet', path: '/artikel/brisling-scanlet', priceMinor: 1190, stock: 'in_stock', spells: 3 },
-	{ shop: 'kanalhaus', converter: 'quillfen-q-cast-mini', path: '/artikel/q-cast-mini', priceMinor: 790, stock: 'in_stock' },
-	{ shop: 'kanalhaus', converter: 'vantacove-beam-bridge-pro', path: '/artikel/vb-beam-bridge-pro', priceMinor: 123456, stock: 'preorder' },
+	{
+		shop: 'northbay-circuits',
+		converter: 'vantacove-beam-bridge',
+		path: '/products/beam-bridge',
+		priceMinor: 2499,
+		stock: 'out_of_stock',
+		spells: 4
+	},
+	{
+		shop: 'northbay-circuits',
+		converter: 'brisling-scanlet',
+		path: '/products/scanlet',
+		priceMinor: 1299,
+		stock: 'in_stock'
+	},
+	{
+		shop: 'northbay-circuits',
+		converter: 'morrowgate-phosphor-one',
+		path: '/products/phosphor-one',
+		priceMinor: 3950,
+		stock: 'in_stock'
+	},
+	{
+		shop: 'northbay-circuits',
+		converter: 'tessaloop-loop-rgb',
+		path: '/products/loop-rgb',
+		priceMinor: 1899,
+		stock: 'in_stock'
+	},
+	{
+		shop: 'kanalhaus',
+		converter: 'vantacove-beam-bridge',
+		path: '/artikel/vb-beam-bridge',
+		priceMinor: 2290,
+		stock: 'in_stock'
+	},
+	{
+		shop: 'kanalhaus',
+		converter: 'brisling-scanlet',
+		path: '/artikel/brisling-scanlet',
+		priceMinor: 1190,
+		stock: 'in_stock',
+		spells: 3
+	},
+	{
+		shop: 'kanalhaus',
+		converter: 'quillfen-q-cast-mini',
+		path: '/artikel/q-cast-mini',
+		priceMinor: 790,
+		stock: 'in_stock'
+	},
+	{
+		shop: 'kanalhaus',
+		converter: 'vantacove-beam-bridge-pro',
+		path: '/artikel/vb-beam-bridge-pro',
+		priceMinor: 123456,
+		stock: 'preorder'
+	},
 	{ shop: 'thamesbit', converter: 'tessaloop-loop-rgb', path: '/item/loop-rgb', priceMinor: 1595, stock: 'in_stock' },
-	{ shop: 'thamesbit', converter: 'morrowgate-phosphor-one', path: '/item/phosphor-one', priceMinor: 3400, stock: 'out_of_stock', spells: 3 },
-	{ shop: 'thamesbit', converter: 'vantacove-beam-bridge-pro', path: '/item/beam-bridge-pro', priceMinor: 2750, stock: 'in_stock' },
-	{ shop: 'kumo-parts', converter: 'vantacove-beam-bridge', path: '/api/products/KP-1001', priceMinor: 3480, stock: 'in_stock' },
-	{ shop: 'kumo-parts', converter: 'quillfen-q-cast-mini', path: '/api/products/KP-1002', priceMinor: 1280, stock: 'in_stock' },
-	{ shop: 'kumo-parts', converter: 'morrowgate-phosphor-one', path: '/api/products/KP-1003', priceMinor: 5980, stock: 'backorder' },
-	{ shop: 'wattle-and-wire', converter: 'brisling-scanlet', path: '/shop/brisling-scanlet', priceMinor: 2195, stock: 'in_stock' },
-	{ shop: 'wattle-and-wire', converter: 'vantacove-beam-bridge-pro', path: '/shop/beam-bridge-pro', priceMinor: 5495, stock: 'out_of_stock' },
-	{ shop: 'northbay-circuits', converter: 'orrinford-tubelink-duo', path: '/products/tubelink-duo', priceMinor: 2999, stock: 'in_stock', spells: 4 },
-	{ shop: 'northbay-circuits', converter: 'halvecraft-rgb-porter', path: '/products/rgb-porter', priceMinor: 2299, stock: 'in_stock', spells: 3 },
-	{ shop: 'northbay-circuits', converter: 'pellamy-linecaster-s', path: '/products/linecaster-s', priceMinor: 1999, stock: 'discontinued' },
-	{ shop: 'northbay-circuits', converter: 'wendmoor-glowbox-2', path: '/products/glowbox-2', priceMinor: 1799, stock: 'in_stock' },
-	{ shop: 'northbay-circuits', converter: 'caddoway-pocket-vga', path: '/products/pocket-vga', priceMinor: 1099, stock: 'in_stock', spells: 3 },
-	{ shop: 'kanalhaus', converter: 'orrinford-tubelink-duo', path: '/artikel/orrinford-tubelink-duo', priceMinor: 2790, stock: 'out_of_stock', spells: 3 },
-	{ shop: 'kanalhaus', converter: 'halvecraft-rgb-porter', path: '/artikel/halvecraft-rgb-porter', priceMinor: 2150, stock: 'in_stock', spells: 3 },
-	{ shop: 'kanalhaus', converter: 'trellisound-component-kit', path: '/artikel/trellisound-component-kit', priceMinor: 4490, stock: 'in_stock' },
-	{ shop: 'kanalhaus', converter: 'ruddle-slimline', path: '/artikel/ruddle-slimline', priceMinor: 1350, stock: 'in_stock' },
-	{ shop: 'thamesbit', converter: 'halvecraft-rgb-porter', path: '/item/rgb-porter', priceMinor: 1899, stock: 'in_stock', spells: 4 },
+	{
+		shop: 'thamesbit',
+		converter: 'morrowgate-phosphor-one',
+		path: '/item/phosphor-one',
+		priceMinor: 3400,
+		stock: 'out_of_stock',
+		spells: 3
+	},
+	{
+		shop: 'thamesbit',
+		converter: 'vantacove-beam-bridge-pro',
+		path: '/item/beam-bridge-pro',
+		priceMinor: 2750,
+		stock: 'in_stock'
+	},
+	{
+		shop: 'kumo-parts',
+		converter: 'vantacove-beam-bridge',
+		path: '/api/products/KP-1001',
+		priceMinor: 3480,
+		stock: 'in_stock'
+	},
+	{
+		shop: 'kumo-parts',
+		converter: 'quillfen-q-cast-mini',
+		path: '/api/products/KP-1002',
+		priceMinor: 1280,
+		stock: 'in_stock'
+	},
+	{
+		shop: 'kumo-parts',
+		converter: 'morrowgate-phosphor-one',
+		path: '/api/products/KP-1003',
+		priceMinor: 5980,
+		stock: 'backorder'
+	},
+	{
+		shop: 'wattle-and-wire',
+		converter: 'brisling-scanlet',
+		path: '/shop/brisling-scanlet',
+		priceMinor: 2195,
+		stock: 'in_stock'
+	},
+	{
+		shop: 'wattle-and-wire',
+		converter: 'vantacove-beam-bridge-pro',
+		path: '/shop/beam-bridge-pro',
+		priceMinor: 5495,
+		stock: 'out_of_stock'
+	},
+	{
+		shop: 'northbay-circuits',
+		converter: 'orrinford-tubelink-duo',
+		path: '/products/tubelink-duo',
+		priceMinor: 2999,
+		stock: 'in_stock',
+		spells: 4
+	},
+	{
+		shop: 'northbay-circuits',
+		converter: 'halvecraft-rgb-porter',
+		path: '/products/rgb-porter',
+		priceMinor: 2299,
+		stock: 'in_stock',
+		spells: 3
+	},
+	{
+		shop: 'northbay-circuits',
+		converter: 'pellamy-linecaster-s',
+		path: '/products/linecaster-s',
+		priceMinor: 1999,
+		stock: 'discontinued'
+	},
+	{
+		shop: 'northbay-circuits',
+		converter: 'wendmoor-glowbox-2',
+		path: '/products/glowbox-2',
+		priceMinor: 1799,
+		stock: 'in_stock'
+	},
+	{
+		shop: 'northbay-circuits',
+		converter: 'caddoway-pocket-vga',
+		path: '/products/pocket-vga',
+		priceMinor: 1099,
+		stock: 'in_stock',
+		spells: 3
+	},
+	{
+		shop: 'kanalhaus',
+		converter: 'orrinford-tubelink-duo',
+		path: '/artikel/orrinford-tubelink-duo',
+		priceMinor: 2790,
+		stock: 'out_of_stock',
+		spells: 3
+	},
+	{
+		shop: 'kanalhaus',
+		converter: 'halvecraft-rgb-porter',
+		path: '/artikel/halvecraft-rgb-porter',
+		priceMinor: 2150,
+		stock: 'in_stock',
+		spells: 3
+	},
+	{
+		shop: 'kanalhaus',
+		converter: 'trellisound-component-kit',
+		path: '/artikel/trellisound-component-kit',
+		priceMinor: 4490,
+		stock: 'in_stock'
+	},
+	{
+		shop: 'kanalhaus',
+		converter: 'ruddle-slimline',
+		path: '/artikel/ruddle-slimline',
+		priceMinor: 1350,
+		stock: 'in_stock'
+	},
+	{
+		shop: 'thamesbit',
+		converter: 'halvecraft-rgb-porter',
+		path: '/item/rgb-porter',
+		priceMinor: 1899,
+		stock: 'in_stock',
+		spells: 4
+	},
 	{ shop: 'thamesbit', converter: 'dunmere-signal-jr', path: '/item/signal-jr', priceMinor: 899, stock: 'in_stock' },
-	{ shop: 'thamesbit', converter: 'pellamy-linecaster-s', path: '/item/linecaster-s', priceMinor: 1650, stock: 'out_of_stock' },
-	{ shop: 'kumo-parts', converter: 'orrinford-tubelink-duo', path: '/api/products/KP-1004', priceMinor: 4280, stock: 'in_stock', spells: 3 },
-	{ shop: 'kumo-parts', converter: 'caddoway-pocket-vga', path: '/api/products/KP-1005', priceMinor: 1980, stock: 'in_stock' },
-	{ shop: 'kumo-parts', converter: 'trellisound-component-kit', path: '/api/products/KP-1006', priceMinor: 6980, stock: 'backorder' },
-	{ shop: 'wattle-and-wire', converter: 'halvecraft-rgb-porter', path: '/shop/halvecraft-rgb-porter', priceMinor: 3695, stock: 'out_of_stock', spells: 3 },
-	{ shop: 'wattle-and-wire', converter: 'dunmere-signal-jr', path: '/shop/dunmere-signal-jr', priceMinor: 1895, stock: 'in_stock' }
+	{
+		shop: 'thamesbit',
+		converter: 'pellamy-linecaster-s',
+		path: '/item/linecaster-s',
+		priceMinor: 1650,
+		stock: 'out_of_stock'
+	},
+	{
+		shop: 'kumo-parts',
+		converter: 'orrinford-tubelink-duo',
+		path: '/api/products/KP-1004',
+		priceMinor: 4280,
+		stock: 'in_stock',
+		spells: 3
+	},
+	{
+		shop: 'kumo-parts',
+		converter: 'caddoway-pocket-vga',
+		path: '/api/products/KP-1005',
+		priceMinor: 1980,
+		stock: 'in_stock'
+	},
+	{
+		shop: 'kumo-parts',
+		converter: 'trellisound-component-kit',
+		path: '/api/products/KP-1006',
+		priceMinor: 6980,
+		stock: 'backorder'
+	},
+	{
+		shop: 'wattle-and-wire',
+		converter: 'halvecraft-rgb-porter',
+		path: '/shop/halvecraft-rgb-porter',
+		priceMinor: 3695,
+		stock: 'out_of_stock',
+		spells: 3
+	},
+	{
+		shop: 'wattle-and-wire',
+		converter: 'dunmere-signal-jr',
+		path: '/shop/dunmere-signal-jr',
+		priceMinor: 1895,
+		stock: 'in_stock'
+	}
 ];
 
 /** Demo people (invented). The README documents these sign-in addresses. */
@@ -389,9 +653,24 @@ export interface DemoTester {
 }
 
 export const TESTERS: DemoTester[] = [
-	{ email: 'juno.probe@testers.scopegrade.test', name: 'Juno Probe (demo bench tester)', instrument: 'Two-channel bench scope, 70 MHz, 10x probes (demo)', scopeGain: 1.05 },
-	{ email: 'ravi.trace@testers.scopegrade.test', name: 'Ravi Trace (demo bench tester)', instrument: 'Four-channel bench scope, 200 MHz, 75 ohm feed-through (demo)', scopeGain: 1.0 },
-	{ email: 'lin.graticule@testers.scopegrade.test', name: 'Lin Graticule (demo bench tester)', instrument: 'USB scope, 100 MHz, 75 ohm feed-through (demo)', scopeGain: 0.996 }
+	{
+		email: 'juno.probe@testers.scopegrade.test',
+		name: 'Juno Probe (demo bench tester)',
+		instrument: 'Two-channel bench scope, 70 MHz, 10x probes (demo)',
+		scopeGain: 1.05
+	},
+	{
+		email: 'ravi.trace@testers.scopegrade.test',
+		name: 'Ravi Trace (demo bench tester)',
+		instrument: 'Four-channel bench scope, 200 MHz, 75 ohm feed-through (demo)',
+		scopeGain: 1.0
+	},
+	{
+		email: 'lin.graticule@testers.scopegrade.test',
+		name: 'Lin Graticule (demo bench tester)',
+		instrument: 'USB scope, 100 MHz, 75 ohm feed-through (demo)',
+		scopeGain: 0.996
+	}
 ];
 
 /** Revisions every demo tester measured ("converter-slug:code"); their runs are accepted. */
@@ -422,15 +701,53 @@ const td = (converter: string, shop: string, rows: [string, string][]): DemoTear
 
 /** Verified teardown reports (each with a generated board photo): the input of the revision odds. */
 export const TEARDOWNS: DemoTeardown[] = [
-	...td('brisling-scanlet', 'northbay-circuits', [['2025-05', 'A'], ['2025-10', 'B'], ['2025-12', 'B'], ['2026-01', 'B']]),
-	...td('brisling-scanlet', 'kanalhaus', [['2025-07', 'A'], ['2025-09', 'A'], ['2025-11', 'B']]),
-	...td('brisling-scanlet', 'wattle-and-wire', [['2025-10', 'A'], ['2025-12', 'B'], ['2026-01', 'B']]),
-	...td('orrinford-tubelink-duo', 'northbay-circuits', [['2025-02', 'A'], ['2025-07', 'B'], ['2025-10', 'B']]),
-	...td('orrinford-tubelink-duo', 'kumo-parts', [['2025-06', 'A'], ['2025-08', 'A'], ['2025-11', 'B']]),
-	...td('halvecraft-rgb-porter', 'kanalhaus', [['2025-04', 'A'], ['2025-06', 'B'], ['2025-09', 'B'], ['2025-12', 'B']]),
-	...td('halvecraft-rgb-porter', 'thamesbit', [['2025-05', 'A'], ['2025-08', 'A'], ['2025-11', 'B']]),
-	...td('halvecraft-rgb-porter', 'wattle-and-wire', [['2025-03', 'A'], ['2025-07', 'A'], ['2025-10', 'A']]),
-	...td('caddoway-pocket-vga', 'northbay-circuits', [['2025-09', 'A'], ['2025-12', 'B'], ['2026-01', 'B']])
+	...td('brisling-scanlet', 'northbay-circuits', [
+		['2025-05', 'A'],
+		['2025-10', 'B'],
+		['2025-12', 'B'],
+		['2026-01', 'B']
+	]),
+	...td('brisling-scanlet', 'kanalhaus', [
+		['2025-07', 'A'],
+		['2025-09', 'A'],
+		['2025-11', 'B']
+	]),
+	...td('brisling-scanlet', 'wattle-and-wire', [
+		['2025-10', 'A'],
+		['2025-12', 'B'],
+		['2026-01', 'B']
+	]),
+	...td('orrinford-tubelink-duo', 'northbay-circuits', [
+		['2025-02', 'A'],
+		['2025-07', 'B'],
+		['2025-10', 'B']
+	]),
+	...td('orrinford-tubelink-duo', 'kumo-parts', [
+		['2025-06', 'A'],
+		['2025-08', 'A'],
+		['2025-11', 'B']
+	]),
+	...td('halvecraft-rgb-porter', 'kanalhaus', [
+		['2025-04', 'A'],
+		['2025-06', 'B'],
+		['2025-09', 'B'],
+		['2025-12', 'B']
+	]),
+	...td('halvecraft-rgb-porter', 'thamesbit', [
+		['2025-05', 'A'],
+		['2025-08', 'A'],
+		['2025-11', 'B']
+	]),
+	...td('halvecraft-rgb-porter', 'wattle-and-wire', [
+		['2025-03', 'A'],
+		['2025-07', 'A'],
+		['2025-10', 'A']
+	]),
+	...td('caddoway-pocket-vga', 'northbay-circuits', [
+		['2025-09', 'A'],
+		['2025-12', 'B'],
+		['2026-01', 'B']
+	])
 ];
 
 /** A member's teardown report still waiting for a curator. */
@@ -454,12 +771,20 @@ export const DEMO_GUIDE = {
 		'',
 		'## Before you open one',
 		'',
-		'Unplug it, mind static, and read the shop\'s return terms first: opening a box may void its warranty. Never open the CRT itself; it holds lethal voltages even when unplugged.'
+		"Unplug it, mind static, and read the shop's return terms first: opening a box may void its warranty. Never open the CRT itself; it holds lethal voltages even when unplugged."
 	].join('\n'),
 	picks: [
-		{ converter: 'orrinford-tubelink-duo', bandAtPick: 'exact', note: 'Current batches carry the good chip; component out too.' },
+		{
+			converter: 'orrinford-tubelink-duo',
+			bandAtPick: 'exact',
+			note: 'Current batches carry the good chip; component out too.'
+		},
 		{ converter: 'vantacove-beam-bridge', bandAtPick: 'exact', note: 'Small, exact levels and an audio jack.' },
-		{ converter: 'pellamy-linecaster-s', bandAtPick: 'close', note: 'Close levels in a tiny case, if you can find one.' },
+		{
+			converter: 'pellamy-linecaster-s',
+			bandAtPick: 'close',
+			note: 'Close levels in a tiny case, if you can find one.'
+		},
 		{ converter: 'brisling-scanlet', bandAtPick: 'close', note: 'Cheap and close, in the batches we measured first.' }
 	] as { converter: string; bandAtPick: 'exact' | 'close' | 'fair' | 'poor' | 'failing'; note: string }[]
 };
@@ -503,7 +828,8 @@ export function demoReadings(chip: DemoChip, runIndex: number, fullScaleMv = 700
 				// Crushed toe: the level falls away faster than the signal below the knee.
 				base = expected * (ire / crushBelowIre) ** 1.05;
 			}
-			const mv = ire === 0 ? Math.max(0, offsetMv[ch] * 0.3 + jitter() * 0.5) : gain[ch] * base + offsetMv[ch] + jitter();
+			const mv =
+				ire === 0 ? Math.max(0, offsetMv[ch] * 0.3 + jitter() * 0.5) : gain[ch] * base + offsetMv[ch] + jitter();
 			return Math.round(Math.max(0, mv) * 10) / 10;
 		};
 		return { ire, r: level(0), g: level(1), b: level(2) };

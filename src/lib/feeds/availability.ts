@@ -63,12 +63,24 @@ export function parseItemAvailability(value: string): ItemAvailability | undefin
  * "nicht auf Lager" is not read as "auf Lager" and "unavailable" not as "available".
  */
 const PHRASES: ReadonlyArray<[RegExp, StockState]> = [
-	[/\b(no longer (available|sold|stocked)|discontinued|end of life|nicht mehr (lieferbar|erhältlich|verfügbar)|ausgelaufen|eingestellt)\b/, 'discontinued'],
+	[
+		/\b(no longer (available|sold|stocked)|discontinued|end of life|nicht mehr (lieferbar|erhältlich|verfügbar)|ausgelaufen|eingestellt)\b/,
+		'discontinued'
+	],
 	[/\b(pre-?\s?orders?|vorbestellbar|vorbestellung|vorbestellen|pre-?sale)\b/, 'preorder'],
 	// "Lieferbar in 2-3 Wochen" means not on hand (weeks away); "Lieferbar in 1-3 Tagen" is ordinary stock.
-	[/\b(back-?\s?order(ed)?|on back\s?order|made to order|lieferbar in \d+\s*(-|–|bis)?\s*\d*\s*(wochen|monaten)|nachbestellt|wird nachgeliefert)\b/, 'backorder'],
-	[/\b(out of stock|sold out|not in stock|not available|unavailable|currently unavailable|back soon|coming soon|temporarily out|ausverkauft|vergriffen|nicht (auf lager|lieferbar|verfügbar|vorrätig)|derzeit nicht|zurzeit nicht)\b/, 'out_of_stock'],
-	[/\b(in stock|available|ready to ship|ships (today|tomorrow|in \d+)|only \d+ left|low stock|few left|auf lager|sofort lieferbar|lieferbar|verfügbar|vorrätig|am lager|noch \d+ (stück|stk))\b/, 'in_stock']
+	[
+		/\b(back-?\s?order(ed)?|on back\s?order|made to order|lieferbar in \d+\s*(-|–|bis)?\s*\d*\s*(wochen|monaten)|nachbestellt|wird nachgeliefert)\b/,
+		'backorder'
+	],
+	[
+		/\b(out of stock|sold out|not in stock|not available|unavailable|currently unavailable|back soon|coming soon|temporarily out|ausverkauft|vergriffen|nicht (auf lager|lieferbar|verfügbar|vorrätig)|derzeit nicht|zurzeit nicht)\b/,
+		'out_of_stock'
+	],
+	[
+		/\b(in stock|available|ready to ship|ships (today|tomorrow|in \d+)|only \d+ left|low stock|few left|auf lager|sofort lieferbar|lieferbar|verfügbar|vorrätig|am lager|noch \d+ (stück|stk))\b/,
+		'in_stock'
+	]
 ];
 
 export interface AvailabilityReading {

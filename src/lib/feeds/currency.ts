@@ -97,26 +97,44 @@ export function detectCurrency(text: string, expected?: string): CurrencyDetecti
 		}
 		// An all-letters value that is not a code we know is still probably meant as a code.
 		if (/^[A-Za-z]{3}$/.test(trimmed)) {
-			return { found: true, currency: trimmed.toUpperCase(), source: 'code', note: `currency code ${trimmed.toUpperCase()} is not in the minor-units table; assuming 2 decimals` };
+			return {
+				found: true,
+				currency: trimmed.toUpperCase(),
+				source: 'code',
+				note: `currency code ${trimmed.toUpperCase()} is not in the minor-units table; assuming 2 decimals`
+			};
 		}
 	}
 	for (const [symbol, candidates] of SYMBOLS_LONGEST_FIRST) {
 		if (!containsSymbol(trimmed, symbol)) continue;
 		if (candidates.length === 1) return { found: true, currency: candidates[0], source: 'symbol' };
 		if (exp && candidates.includes(exp)) {
-			return { found: true, currency: exp, source: 'symbol', note: `"${symbol}" read as ${exp}, the listing's currency` };
+			return {
+				found: true,
+				currency: exp,
+				source: 'symbol',
+				note: `"${symbol}" read as ${exp}, the listing's currency`
+			};
 		}
 		if (!exp) {
-			return { found: false, ambiguous: candidates, symbol, reason: `"${symbol}" could be ${candidates.join(', ')}; the listing has no expected currency to decide` };
+			return {
+				found: false,
+				ambiguous: candidates,
+				symbol,
+				reason: `"${symbol}" could be ${candidates.join(', ')}; the listing has no expected currency to decide`
+			};
 		}
-		return { found: false, ambiguous: candidates, symbol, reason: `"${symbol}" means ${candidates.join('/')}, not the listing's ${exp}` };
+		return {
+			found: false,
+			ambiguous: candidates,
+			symbol,
+			reason: `"${symbol}" means ${candidates.join('/')}, not the listing's ${exp}`
+		};
 	}
 	return { found: false, reason: 'no currency code or symbol in the text' };
 }
 
-export type AmountParse =
-	| { ok: true; minor: number; notes: string[] }
-	| { ok: false; reason: string };
+export type AmountParse = { ok: true; minor: number; notes: string[] } | { ok: false; reason: string };
 
 /**
  * Turn price text or a number into integer minor units of `currency` (ISO 4217 exponent).
@@ -132,7 +150,12 @@ export function parseAmount(input: string | number, currency: string): AmountPar
 	if (typeof input === 'number') {
 		if (!Number.isFinite(input)) return { ok: false, reason: `price ${input} is not a finite number` };
 		// Via the decimal string, not input * 100: 1.005 * 100 is 100.49999...
-		return fromDecimalParts(String(input).includes('e') ? input.toFixed(digits + 2) : String(input), digits, currency, notes);
+		return fromDecimalParts(
+			String(input).includes('e') ? input.toFixed(digits + 2) : String(input),
+			digits,
+			currency,
+			notes
+		);
 	}
 	const text = input.normalize('NFKC').trim();
 	if (!text) return { ok: false, reason: 'price text is empty' };
@@ -158,7 +181,8 @@ export function parseAmount(input: string | number, currency: string): AmountPar
 		intPart = num.slice(0, at);
 		fracPart = num.slice(at + 1);
 		if (intPart.includes(dec)) return { ok: false, reason: `price "${text}" has more than one decimal mark` };
-		if (!validGroups(intPart, grp)) return { ok: false, reason: `price "${text}" has misplaced "${grp}" group separators` };
+		if (!validGroups(intPart, grp))
+			return { ok: false, reason: `price "${text}" has misplaced "${grp}" group separators` };
 		intPart = intPart.split(grp).join('');
 	} else {
 		const sep = lastDot >= 0 ? '.' : ',';
@@ -175,7 +199,8 @@ export function parseAmount(input: string | number, currency: string): AmountPar
 			fracPart = parts[1];
 		}
 	}
-	if (!/^\d+$/.test(intPart) || !/^\d*$/.test(fracPart)) return { ok: false, reason: `price "${text}" is not a number` };
+	if (!/^\d+$/.test(intPart) || !/^\d*$/.test(fracPart))
+		return { ok: false, reason: `price "${text}" is not a number` };
 	return fromDecimalParts(fracPart ? `${intPart}.${fracPart}` : intPart, digits, currency, notes);
 }
 
@@ -220,7 +245,10 @@ export type PriceParse =
  * own field) or, failing that, from a symbol or code inside the price text. A currency other than
  * `expectedCurrency` is a 'wrong-currency' error rather than a price we would convert silently.
  */
-export function parsePrice(priceText: string | number, opts: { currencyText?: string; expectedCurrency?: string } = {}): PriceParse {
+export function parsePrice(
+	priceText: string | number,
+	opts: { currencyText?: string; expectedCurrency?: string } = {}
+): PriceParse {
 	const expected = opts.expectedCurrency?.toUpperCase();
 	let det: CurrencyDetection | undefined;
 	if (opts.currencyText && opts.currencyText.trim()) det = detectCurrency(opts.currencyText, expected);
@@ -237,9 +265,21 @@ export function parsePrice(priceText: string | number, opts: { currencyText?: st
 		if (expected && !det?.ambiguous) {
 			const amount = parseAmount(priceText, expected);
 			if (!amount.ok) return { ok: false, kind: 'parse', reason: amount.reason };
-			return { ok: true, minor: amount.minor, currency: expected, notes: [...amount.notes, `no currency shown with the price; read in the listing's configured currency ${expected}`] };
+			return {
+				ok: true,
+				minor: amount.minor,
+				currency: expected,
+				notes: [
+					...amount.notes,
+					`no currency shown with the price; read in the listing's configured currency ${expected}`
+				]
+			};
 		}
-		return { ok: false, kind: 'no-currency', reason: `no currency found: ${det ? det.reason : 'the price is a bare number and no currency was given'}` };
+		return {
+			ok: false,
+			kind: 'no-currency',
+			reason: `no currency found: ${det ? det.reason : 'the price is a bare number and no currency was given'}`
+		};
 	}
 	const currency = det.currency;
 	if (expected && currency !== expected) {

@@ -10,7 +10,16 @@ import * as cheerio from 'cheerio';
 import type { AnyNode, Element } from 'domhandler';
 import { mapAvailability } from './availability';
 import { formatMinor, parsePrice } from './currency';
-import type { ApiMapping, ExtractFailure, ExtractFailureKind, ExtractInput, ExtractResult, OfferFormat, OfferSelectors, StockState } from './types';
+import type {
+	ApiMapping,
+	ExtractFailure,
+	ExtractFailureKind,
+	ExtractInput,
+	ExtractResult,
+	OfferFormat,
+	OfferSelectors,
+	StockState
+} from './types';
 
 type CheerioRoot = cheerio.CheerioAPI;
 
@@ -42,14 +51,21 @@ export function extractOffer(input: ExtractInput): ExtractResult {
 }
 
 function fail(kind: ExtractFailureKind, reason: string, notes?: string[]): ExtractFailure {
-	return notes && notes.length ? { ok: false, stock: 'unknown', kind, reason, notes } : { ok: false, stock: 'unknown', kind, reason };
+	return notes && notes.length
+		? { ok: false, stock: 'unknown', kind, reason, notes }
+		: { ok: false, stock: 'unknown', kind, reason };
 }
 
 /** Price parsing, currency checks and stock mapping shared by every reader. */
 function finish(raw: RawOffer, via: OfferFormat, input: ExtractInput, extraNotes: string[]): ExtractResult {
 	const notes = [...extraNotes, ...raw.notes];
 	const price = parsePrice(raw.price, { currencyText: raw.currency, expectedCurrency: input.expectedCurrency });
-	if (!price.ok) return fail(price.kind, `${price.kind === 'parse' ? 'price unreadable' : price.kind === 'no-currency' ? 'price has no currency' : 'wrong currency'} (${via}): ${price.reason}`, notes);
+	if (!price.ok)
+		return fail(
+			price.kind,
+			`${price.kind === 'parse' ? 'price unreadable' : price.kind === 'no-currency' ? 'price has no currency' : 'wrong currency'} (${via}): ${price.reason}`,
+			notes
+		);
 	notes.push(...price.notes);
 	let stock: StockState;
 	if (raw.stock) {
@@ -92,7 +108,12 @@ function extractFromHtml(input: ExtractInput): ExtractResult {
 	for (const [via, read] of readers) {
 		const r = read();
 		if (r.ok) {
-			const notes = via === input.format ? [] : [`listing expects ${input.format} but the offer was read via ${via}${failures[input.format] ? ` (${failures[input.format]!.reason})` : ''}`];
+			const notes =
+				via === input.format
+					? []
+					: [
+							`listing expects ${input.format} but the offer was read via ${via}${failures[input.format] ? ` (${failures[input.format]!.reason})` : ''}`
+						];
 			// A reader that found an offer decides the outcome even when its price proves unusable:
 			// falling through to a weaker reader could pick up an unrelated number on the page.
 			return finish(r.offer, via, input, notes);
@@ -100,7 +121,9 @@ function extractFromHtml(input: ExtractInput): ExtractResult {
 		failures[via] = { kind: r.kind, reason: r.reason };
 	}
 	const main = failures[input.format] ?? failures.jsonld!;
-	const others = (Object.keys(failures) as OfferFormat[]).filter((k) => k !== input.format).map((k) => `${k}: ${failures[k]!.reason}`);
+	const others = (Object.keys(failures) as OfferFormat[])
+		.filter((k) => k !== input.format)
+		.map((k) => `${k}: ${failures[k]!.reason}`);
 	return fail(main.kind, main.reason, others);
 }
 
@@ -135,7 +158,11 @@ function scalar(v: unknown): string | number | undefined {
 	return undefined;
 }
 
-function offerFields(offer: Record<string, unknown>): { price?: string | number; currency?: string; availability?: string } {
+function offerFields(offer: Record<string, unknown>): {
+	price?: string | number;
+	currency?: string;
+	availability?: string;
+} {
 	let price = scalar(offer.price) ?? scalar(offer.lowPrice);
 	let currency = scalar(offer.priceCurrency);
 	// Some shops put the amount in a (Unit)PriceSpecification instead of on the Offer.
@@ -150,7 +177,11 @@ function offerFields(offer: Record<string, unknown>): { price?: string | number;
 		}
 	}
 	const availability = scalar(offer.availability);
-	return { price, currency: currency === undefined ? undefined : String(currency), availability: availability === undefined ? undefined : String(availability) };
+	return {
+		price,
+		currency: currency === undefined ? undefined : String(currency),
+		availability: availability === undefined ? undefined : String(availability)
+	};
 }
 
 function readJsonLd($: CheerioRoot): ReaderResult {
@@ -178,7 +209,8 @@ function readJsonLd($: CheerioRoot): ReaderResult {
 						offerNodes.push(o as Record<string, unknown>);
 						// An AggregateOffer may list its offers; the first priced one is the listing's.
 						const inner = (o as Record<string, unknown>).offers;
-						for (const i of Array.isArray(inner) ? inner : inner ? [inner] : []) if (i && typeof i === 'object') offerNodes.push(i as Record<string, unknown>);
+						for (const i of Array.isArray(inner) ? inner : inner ? [inner] : [])
+							if (i && typeof i === 'object') offerNodes.push(i as Record<string, unknown>);
 					}
 				}
 			} else if ((isType(node, 'Offer') || isType(node, 'AggregateOffer')) && !sawProduct) {
@@ -190,12 +222,22 @@ function readJsonLd($: CheerioRoot): ReaderResult {
 				const name = product ? scalar(node.name) : undefined;
 				const notes: string[] = [];
 				if (offerNodes.length > 1) notes.push(`JSON-LD has ${offerNodes.length} offers; read the first priced one`);
-				return { ok: true, offer: { price: f.price, currency: f.currency, availability: f.availability, title: name === undefined ? undefined : String(name), notes } };
+				return {
+					ok: true,
+					offer: {
+						price: f.price,
+						currency: f.currency,
+						availability: f.availability,
+						title: name === undefined ? undefined : String(name),
+						notes
+					}
+				};
 			}
 			// A priceless Product (say, a related item) may sit beside the real one: keep looking.
 		}
 	}
-	if (sawProduct) return { ok: false, kind: 'no-price', reason: 'no price found: the JSON-LD Product has no Offer with a price' };
+	if (sawProduct)
+		return { ok: false, kind: 'no-price', reason: 'no price found: the JSON-LD Product has no Offer with a price' };
 	if (broken.length) return { ok: false, kind: 'unreadable', reason: broken[0] };
 	return { ok: false, kind: 'no-price', reason: 'no price found: JSON-LD present but it holds no Product or Offer' };
 }
@@ -234,14 +276,17 @@ function itemProps($: CheerioRoot, scope: Element): Map<string, Element[]> {
 }
 
 function isItemType($: CheerioRoot, el: Element, type: string): boolean {
-	return ($(el).attr('itemtype') ?? '').split(/\s+/).some((t) => t.replace(/^https?:\/\/(www\.)?schema\.org\//i, '').replace(/\/$/, '') === type);
+	return ($(el).attr('itemtype') ?? '')
+		.split(/\s+/)
+		.some((t) => t.replace(/^https?:\/\/(www\.)?schema\.org\//i, '').replace(/\/$/, '') === type);
 }
 
 function readMicrodata($: CheerioRoot): ReaderResult {
 	const products = $('[itemscope][itemtype]')
 		.toArray()
 		.filter((el) => isItemType($, el, 'Product'));
-	if (!products.length) return { ok: false, kind: 'no-price', reason: 'no price found: the page has no microdata Product item' };
+	if (!products.length)
+		return { ok: false, kind: 'no-price', reason: 'no price found: the page has no microdata Product item' };
 	for (const product of products) {
 		const props = itemProps($, product);
 		const offers = (props.get('offers') ?? []).filter((el) => $(el).is('[itemscope]'));
@@ -285,7 +330,8 @@ function firstText($: CheerioRoot, selector: string): { text?: string; count: nu
 }
 
 function readSelectors($: CheerioRoot, sel: OfferSelectors | undefined): ReaderResult {
-	if (!sel) return { ok: false, kind: 'no-price', reason: 'no price found: no CSS selectors configured for this listing' };
+	if (!sel)
+		return { ok: false, kind: 'no-price', reason: 'no price found: no CSS selectors configured for this listing' };
 	let price, stock, currency, title;
 	try {
 		price = firstText($, sel.price);
@@ -295,15 +341,21 @@ function readSelectors($: CheerioRoot, sel: OfferSelectors | undefined): ReaderR
 	} catch (err) {
 		return { ok: false, kind: 'parse', reason: err instanceof Error ? err.message : String(err) };
 	}
-	if (!price.count) return { ok: false, kind: 'no-price', reason: `no price found: selector "${sel.price}" matched nothing` };
+	if (!price.count)
+		return { ok: false, kind: 'no-price', reason: `no price found: selector "${sel.price}" matched nothing` };
 	const priceText = price.value ?? price.text ?? '';
-	if (!priceText) return { ok: false, kind: 'no-price', reason: `no price found: selector "${sel.price}" matched an empty element` };
+	if (!priceText)
+		return { ok: false, kind: 'no-price', reason: `no price found: selector "${sel.price}" matched an empty element` };
 	const notes: string[] = [];
 	if (price.count > 1) notes.push(`selector "${sel.price}" matched ${price.count} elements; read the first`);
 	if (!stock.count) notes.push(`stock selector "${sel.stock}" matched nothing`);
 	if (sel.currency && !currency?.count) {
 		// The curator told us where the currency lives; without it the price cannot be trusted.
-		return { ok: false, kind: 'no-currency', reason: `price has no currency: selector "${sel.currency}" matched nothing` };
+		return {
+			ok: false,
+			kind: 'no-currency',
+			reason: `price has no currency: selector "${sel.currency}" matched nothing`
+		};
 	}
 	return {
 		ok: true,
@@ -345,32 +397,42 @@ function extractFromApi(input: ExtractInput): ExtractResult {
 	try {
 		doc = JSON.parse(body);
 	} catch (err) {
-		return fail('unreadable', `body is not valid JSON (${err instanceof Error ? err.message : String(err)}); it may be truncated`);
+		return fail(
+			'unreadable',
+			`body is not valid JSON (${err instanceof Error ? err.message : String(err)}); it may be truncated`
+		);
 	}
 	const rawPrice = getPath(doc, map.price);
 	if (rawPrice === undefined || rawPrice === null || rawPrice === '') {
 		return fail('no-price', `no price found: path "${map.price}" is missing from the document`);
 	}
 	if (typeof rawPrice !== 'number' && typeof rawPrice !== 'string') {
-		return fail('parse', `price unreadable (api): path "${map.price}" holds ${Array.isArray(rawPrice) ? 'an array' : 'an object'}, not a number`);
+		return fail(
+			'parse',
+			`price unreadable (api): path "${map.price}" holds ${Array.isArray(rawPrice) ? 'an array' : 'an object'}, not a number`
+		);
 	}
 	const notes: string[] = [];
 	let currency: string | undefined;
 	if (map.currency) {
 		const c = getPath(doc, map.currency);
 		if (typeof c === 'string' && c.trim()) currency = c;
-		else if (!map.fixedCurrency) return fail('no-currency', `price has no currency: path "${map.currency}" is missing from the document`);
+		else if (!map.fixedCurrency)
+			return fail('no-currency', `price has no currency: path "${map.currency}" is missing from the document`);
 	}
 	if (!currency && map.fixedCurrency) {
 		currency = map.fixedCurrency;
-		if (map.currency) notes.push(`path "${map.currency}" missing; used the mapping's fixed currency ${map.fixedCurrency}`);
+		if (map.currency)
+			notes.push(`path "${map.currency}" missing; used the mapping's fixed currency ${map.fixedCurrency}`);
 	}
-	if (!currency) return fail('no-currency', 'price has no currency: the mapping sets neither a currency path nor a fixed currency');
+	if (!currency)
+		return fail('no-currency', 'price has no currency: the mapping sets neither a currency path nor a fixed currency');
 
 	let price: string | number = rawPrice;
 	if (map.priceScale === 'minor') {
 		const n = typeof rawPrice === 'number' ? rawPrice : Number(rawPrice);
-		if (!Number.isInteger(n)) return fail('parse', `price unreadable (api): "${rawPrice}" is not an integer of minor units`);
+		if (!Number.isInteger(n))
+			return fail('parse', `price unreadable (api): "${rawPrice}" is not an integer of minor units`);
 		// Shift into a major-unit decimal string so the shared parser applies the ISO 4217 exponent.
 		price = formatMinor(n, currency);
 	}
@@ -395,5 +457,10 @@ function extractFromApi(input: ExtractInput): ExtractResult {
 		}
 	}
 	const title = map.title ? getPath(doc, map.title) : undefined;
-	return finish({ price, currency, availability, stock, title: typeof title === 'string' ? title : undefined, notes }, 'api', input, []);
+	return finish(
+		{ price, currency, availability, stock, title: typeof title === 'string' ? title : undefined, notes },
+		'api',
+		input,
+		[]
+	);
 }

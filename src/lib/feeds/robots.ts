@@ -108,8 +108,10 @@ export function explainAllowed(
 	const target = normalisePath(toPathAndQuery(path));
 	// RFC 9309 2.2.2: "/robots.txt" itself is always allowed.
 	if (target === '/robots.txt') return { allowed: true, reason: '/robots.txt is implicitly allowed' };
-	if (robots.mode === 'allow-all') return { allowed: true, reason: robots.reason ?? 'robots.txt unavailable: no restrictions' };
-	if (robots.mode === 'disallow-all') return { allowed: false, reason: robots.reason ?? 'robots.txt unreachable: assume complete disallow' };
+	if (robots.mode === 'allow-all')
+		return { allowed: true, reason: robots.reason ?? 'robots.txt unavailable: no restrictions' };
+	if (robots.mode === 'disallow-all')
+		return { allowed: false, reason: robots.reason ?? 'robots.txt unreachable: assume complete disallow' };
 	let best: RobotsRule | undefined;
 	let bestLen = -1;
 	for (const rule of rulesFor(robots, userAgentToken)) {
@@ -186,9 +188,7 @@ function normalisePath(p: string): string {
 }
 
 /** The outcome of fetching /robots.txt, as the poller saw it (after following redirects). */
-export type RobotsFetchOutcome =
-	| { status: number; body?: string; redirects?: number }
-	| { error: unknown };
+export type RobotsFetchOutcome = { status: number; body?: string; redirects?: number } | { error: unknown };
 
 /**
  * Rules from a robots.txt fetch outcome (RFC 9309 section 2.3.1): 2xx -> parse the body;
@@ -199,17 +199,37 @@ export type RobotsFetchOutcome =
 export function robotsFromFetch(outcome: RobotsFetchOutcome): RobotsRules {
 	if ('error' in outcome) {
 		const msg = outcome.error instanceof Error ? outcome.error.message : String(outcome.error);
-		return { mode: 'disallow-all', groups: [], sitemaps: [], reason: `robots.txt unreachable (${msg}): assume complete disallow` };
+		return {
+			mode: 'disallow-all',
+			groups: [],
+			sitemaps: [],
+			reason: `robots.txt unreachable (${msg}): assume complete disallow`
+		};
 	}
 	const { status } = outcome;
 	if ((outcome.redirects ?? 0) > ROBOTS_MAX_REDIRECTS || (status >= 300 && status < 400)) {
-		return { mode: 'allow-all', groups: [], sitemaps: [], reason: `robots.txt redirected too often (status ${status}): treated as unavailable` };
+		return {
+			mode: 'allow-all',
+			groups: [],
+			sitemaps: [],
+			reason: `robots.txt redirected too often (status ${status}): treated as unavailable`
+		};
 	}
 	if (status >= 200 && status < 300) return parseRobots(outcome.body ?? '');
 	if (status >= 400 && status < 500) {
-		return { mode: 'allow-all', groups: [], sitemaps: [], reason: `robots.txt answered ${status}: unavailable, no restrictions` };
+		return {
+			mode: 'allow-all',
+			groups: [],
+			sitemaps: [],
+			reason: `robots.txt answered ${status}: unavailable, no restrictions`
+		};
 	}
-	return { mode: 'disallow-all', groups: [], sitemaps: [], reason: `robots.txt answered ${status}: unreachable, assume complete disallow` };
+	return {
+		mode: 'disallow-all',
+		groups: [],
+		sitemaps: [],
+		reason: `robots.txt answered ${status}: unreachable, assume complete disallow`
+	};
 }
 
 /** True when a robots.txt fetched at `fetchedAt` must be fetched again (RFC 9309 section 2.4). */

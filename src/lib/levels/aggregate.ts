@@ -49,16 +49,31 @@ export function aggregateRuns(reports: LevelReport[]): AggregateResult {
 	if (!Array.isArray(reports) || reports.length === 0) throw new LevelInputError('no bench runs to aggregate');
 	const versions = new Set(reports.map((r) => r.rubricVersion));
 	if (versions.size > 1)
-		throw new LevelInputError(`bench runs were graded with different rubrics (${[...versions].join(', ')}); regrade them first`);
+		throw new LevelInputError(
+			`bench runs were graded with different rubrics (${[...versions].join(', ')}); regrade them first`
+		);
 	const graded = reports
 		.map((r, i) => ({ band: r.band, score: r.score, i }))
 		.filter((x): x is { band: Band; score: number; i: number } => x.band !== null && x.score !== null);
 	const bandCounts = Object.fromEntries(BANDS.map((b) => [b, 0])) as Record<Band, number>;
 	for (const g of graded) bandCounts[g.band]++;
-	const base = { count: graded.length, notGradedCount: reports.length - graded.length, bandCounts, rubricVersion: reports[0].rubricVersion };
+	const base = {
+		count: graded.length,
+		notGradedCount: reports.length - graded.length,
+		bandCounts,
+		rubricVersion: reports[0].rubricVersion
+	};
 	const band = medianBand(graded.map((g) => g.band));
 	if (band === null)
-		return { ...base, band: null, medianScore: null, minScore: null, maxScore: null, scoreSpread: null, medianRunIndex: null };
+		return {
+			...base,
+			band: null,
+			medianScore: null,
+			minScore: null,
+			maxScore: null,
+			scoreSpread: null,
+			medianRunIndex: null
+		};
 
 	const inBand = graded.filter((g) => g.band === band).sort((a, b) => a.score - b.score);
 	const k = inBand.length;

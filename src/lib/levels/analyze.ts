@@ -189,11 +189,25 @@ function tintOf(step: StepReport): TintReading {
 	const { hueDeg, chroma } = hueChroma(da, db);
 	const t = RUBRIC.tint;
 	if (chroma < t.neutralBelowChroma) {
-		return { ire: step.ire, direction: 'neutral', size: 'none', hueDeg: round(hueDeg, 1), chroma: round(chroma, 2), words: 'neutral' };
+		return {
+			ire: step.ire,
+			direction: 'neutral',
+			size: 'none',
+			hueDeg: round(hueDeg, 1),
+			chroma: round(chroma, 2),
+			words: 'neutral'
+		};
 	}
 	const direction = castDirection(hueDeg);
 	const size: CastSize = chroma >= t.strongFromChroma ? 'strong' : chroma >= t.clearFromChroma ? 'clear' : 'slight';
-	return { ire: step.ire, direction, size, hueDeg: round(hueDeg, 1), chroma: round(chroma, 2), words: `${size} ${direction} cast` };
+	return {
+		ire: step.ire,
+		direction,
+		size,
+		hueDeg: round(hueDeg, 1),
+		chroma: round(chroma, 2),
+		words: `${size} ${direction} cast`
+	};
 }
 
 function tintPhrase(name: string, t: TintReading): string {
@@ -289,7 +303,13 @@ export function analyzeLevels(input: LevelInput, options: AnalyzeOptions = {}): 
 		for (const c of CHANNELS) {
 			if (steps[i][c] < steps[i - 1][c]) {
 				monotonic[c] = false;
-				nonMonotonicSteps.push({ channel: c, ire: steps[i].ire, mv: steps[i][c], belowIre: steps[i - 1].ire, belowMv: steps[i - 1][c] });
+				nonMonotonicSteps.push({
+					channel: c,
+					ire: steps[i].ire,
+					mv: steps[i][c],
+					belowIre: steps[i - 1].ire,
+					belowMv: steps[i - 1][c]
+				});
 			}
 		}
 	}
@@ -312,7 +332,11 @@ export function analyzeLevels(input: LevelInput, options: AnalyzeOptions = {}): 
 	const minShadowRatio10 = Math.min(shadowRatio.at10.r, shadowRatio.at10.g, shadowRatio.at10.b);
 	const decided = decideBand({ worstDeviationIre, worstSpreadIre, minShadowRatio10, nonMonotonic });
 	const rawScore =
-		100 - w.deviation * worstDeviationIre - w.load * worstLoad - w.mean * meanAbsDeviationIre - w.shadow * shadowDeficit;
+		100 -
+		w.deviation * worstDeviationIre -
+		w.load * worstLoad -
+		w.mean * meanAbsDeviationIre -
+		w.shadow * shadowDeficit;
 	const band = unterminated ? null : decided.band;
 	const failReasons = unterminated ? [] : decided.failReasons;
 	const score = unterminated ? null : Math.round(Math.min(100, Math.max(0, rawScore)) * 10) / 10;
@@ -505,7 +529,11 @@ function buildFindings(r: LevelReport, whiteMedian: number): Finding[] {
 
 	// Below Close with nothing above to explain why: name the worst step, so a buyer never
 	// sees a poor grade without the numbers behind it.
-	if (r.band !== 'exact' && r.band !== 'close' && !out.some((f) => f.severity === 'warning' || f.severity === 'critical')) {
+	if (
+		r.band !== 'exact' &&
+		r.band !== 'close' &&
+		!out.some((f) => f.severity === 'warning' || f.severity === 'critical')
+	) {
 		const w = r.worstDeviation;
 		const expected = w.mv - w.deviationMv;
 		const low = w.deviationMv < 0;
@@ -524,7 +552,10 @@ function buildFindings(r: LevelReport, whiteMedian: number): Finding[] {
 		});
 	}
 
-	if ((r.band === 'exact' || r.band === 'close') && !out.some((f) => f.severity === 'warning' || f.severity === 'critical')) {
+	if (
+		(r.band === 'exact' || r.band === 'close') &&
+		!out.some((f) => f.severity === 'warning' || f.severity === 'critical')
+	) {
 		const devMv = r.worstDeviationIre * r.mvPerIre;
 		out.unshift({
 			code: 'levels-right',

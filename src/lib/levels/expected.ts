@@ -47,8 +47,11 @@ export function expectedGrade(
 	const agg = aggregateRuns(others.map((r) => r.report as LevelReport));
 	// runs the engine does not grade (e.g. measured unterminated) leave nothing to expect
 	if (agg.band === null || agg.medianRunIndex === null) return null;
-	const otherConverters = new Set(others.filter((r) => r.converterId !== target.converterId).map((r) => r.converterId)).size;
-	const sameConverterRevisions = new Set(others.filter((r) => r.converterId === target.converterId).map((r) => r.revisionId)).size;
+	const otherConverters = new Set(others.filter((r) => r.converterId !== target.converterId).map((r) => r.converterId))
+		.size;
+	const sameConverterRevisions = new Set(
+		others.filter((r) => r.converterId === target.converterId).map((r) => r.revisionId)
+	).size;
 	const where = [
 		otherConverters ? `${plural(otherConverters, 'other converter')}` : '',
 		sameConverterRevisions ? `${plural(sameConverterRevisions, 'other revision')} of this converter` : ''
@@ -103,7 +106,12 @@ export function backtestExpected(
 			skipped++;
 			continue;
 		}
-		rows.push({ revisionId: rev.revisionId, measured: rev.band, expected: e.band, distance: Math.abs(bandRank(e.band) - bandRank(rev.band)) });
+		rows.push({
+			revisionId: rev.revisionId,
+			measured: rev.band,
+			expected: e.band,
+			distance: Math.abs(bandRank(e.band) - bandRank(rev.band))
+		});
 	}
 	const exact = rows.filter((r) => r.distance === 0).length;
 	const withinOne = rows.filter((r) => r.distance <= 1).length;

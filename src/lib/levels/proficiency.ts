@@ -166,7 +166,9 @@ export function revisionConsensus(runs: readonly RunLevels[], sigmaPt = SIGMA_PT
 	const steps = [...new Set(runs.flatMap((r) => r.steps.map((s) => s.ire)))].sort((a, b) => a - b);
 	for (const ire of steps) {
 		for (const channel of CHANNELS) {
-			const vals = runs.map((r) => r.steps.find((s) => s.ire === ire)?.[channel]).filter((v): v is number => v !== undefined);
+			const vals = runs
+				.map((r) => r.steps.find((s) => s.ire === ire)?.[channel])
+				.filter((v): v is number => v !== undefined);
 			if (vals.length < 2) continue;
 			const a = algorithmA(vals);
 			cells.push({ ire, channel, value: a.mean, sd: a.sd, n: a.n });
@@ -180,7 +182,10 @@ export function revisionConsensus(runs: readonly RunLevels[], sigmaPt = SIGMA_PT
 			const z = zScore(reading, c.value, sigmaPt);
 			out.push({ ire: c.ire, channel: c.channel, reading, z, signal: interpretZ(z) });
 		}
-		const worst = out.reduce<(typeof out)[number] | null>((w, c) => (!w || Math.abs(c.z) > Math.abs(w.z) ? c : w), null);
+		const worst = out.reduce<(typeof out)[number] | null>(
+			(w, c) => (!w || Math.abs(c.z) > Math.abs(w.z) ? c : w),
+			null
+		);
 		const signal = worst ? worst.signal : 'satisfactory';
 		const reason = worst
 			? `${worst.ire} IRE ${CHANNEL_WORD[worst.channel]} reads ${round(Math.abs(worst.z) * sigmaPt)} IRE ${worst.z >= 0 ? 'above' : 'below'} the consensus of ${runs.length} runs by ${testers.size} testers (z = ${round(worst.z)})`
@@ -310,12 +315,27 @@ export function assessTester(tester: string, points: readonly TesterPoint[]): Te
 	const gainPercent = round(gainOff * 100, 1) || 0; // no "-0 %"
 	const k = TESTER_RULES.standardErrors;
 	const gainBad = Math.abs(gainOff) >= TESTER_RULES.gainTolerance && Math.abs(gainOff) > k * fit.seSlope;
-	const offsetBad = Math.abs(fit.intercept) >= TESTER_RULES.offsetToleranceIre && Math.abs(fit.intercept) > k * fit.seIntercept;
+	const offsetBad =
+		Math.abs(fit.intercept) >= TESTER_RULES.offsetToleranceIre && Math.abs(fit.intercept) > k * fit.seIntercept;
 	const pct = Math.round(Math.abs(gainOff) * 100);
 	if (gainBad && gainOff > 0)
-		return { ...base, status: 'reads-high', flagged: true, fit, gainPercent, verdict: `Reads about ${pct} % high across ${where}: check the scope's vertical calibration and the 75 ohm load.` };
+		return {
+			...base,
+			status: 'reads-high',
+			flagged: true,
+			fit,
+			gainPercent,
+			verdict: `Reads about ${pct} % high across ${where}: check the scope's vertical calibration and the 75 ohm load.`
+		};
 	if (gainBad)
-		return { ...base, status: 'reads-low', flagged: true, fit, gainPercent, verdict: `Reads about ${pct} % low across ${where}: check the scope's vertical calibration and that the line has one 75 ohm load, not two.` };
+		return {
+			...base,
+			status: 'reads-low',
+			flagged: true,
+			fit,
+			gainPercent,
+			verdict: `Reads about ${pct} % low across ${where}: check the scope's vertical calibration and that the line has one 75 ohm load, not two.`
+		};
 	if (offsetBad) {
 		const high = fit.intercept > 0;
 		return {
@@ -394,13 +414,17 @@ export function testerReport(input: readonly TesterInputRevision[], sigmaPt = SI
 		offset.set(k, 0);
 	}
 	for (let iter = 0; iter < 100 && cells.length > 0; iter++) {
-		for (const c of cells) c.level = algorithmA(c.obs.map((o) => (o.reading - offset.get(o.key)!) / gain.get(o.key)!)).mean;
+		for (const c of cells)
+			c.level = algorithmA(c.obs.map((o) => (o.reading - offset.get(o.key)!) / gain.get(o.key)!)).mean;
 		const next = new Map<string, { g: number; o: number }>();
 		for (const k of fitted) {
 			const mine = cells.flatMap((c) => c.obs.filter((o) => o.key === k).map((o) => ({ x: c.level, y: o.reading })));
 			const xs = mine.map((p) => p.x);
 			if (mine.length < 3 || Math.max(...xs) - Math.min(...xs) < 1e-9) continue;
-			const f = fitLine(xs, mine.map((p) => p.y));
+			const f = fitLine(
+				xs,
+				mine.map((p) => p.y)
+			);
 			next.set(k, { g: f.slope, o: f.intercept });
 		}
 		if (next.size === 0) break;
@@ -419,7 +443,15 @@ export function testerReport(input: readonly TesterInputRevision[], sigmaPt = SI
 	const points = new Map<string, TesterPoint[]>([...names.keys()].map((k) => [k, []]));
 	for (const c of cells)
 		for (const o of c.obs)
-			points.get(o.key)!.push({ revisionId: c.revisionId, converterId: c.converterId, runId: o.runId, consensus: c.level, reading: o.reading });
+			points
+				.get(o.key)!
+				.push({
+					revisionId: c.revisionId,
+					converterId: c.converterId,
+					runId: o.runId,
+					consensus: c.level,
+					reading: o.reading
+				});
 	const testers = [...points.entries()]
 		.map(([k, pts]) => assessTester(names.get(k)!, pts))
 		.sort((a, b) => Number(b.flagged) - Number(a.flagged) || a.tester.localeCompare(b.tester));

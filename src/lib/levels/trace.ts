@@ -214,7 +214,12 @@ interface Layout {
 
 function splitFields(line: string, layout: Layout): string[] {
 	const raw = layout.sep === null ? line.trim().split(/\s+/) : line.split(layout.sep);
-	const f = raw.map((x) => x.trim().replace(/^"(.*)"$/, '$1').trim());
+	const f = raw.map((x) =>
+		x
+			.trim()
+			.replace(/^"(.*)"$/, '$1')
+			.trim()
+	);
 	while (f.length > 1 && f[f.length - 1] === '') f.pop();
 	return f;
 }
@@ -319,7 +324,10 @@ function unitFromHeader(text: string | undefined): VoltageUnit | null {
 
 function channelFromHeader(text: string | undefined): Channel | null {
 	if (!text) return null;
-	const tokens = text.toLowerCase().split(/[^a-z]+/).filter(Boolean);
+	const tokens = text
+		.toLowerCase()
+		.split(/[^a-z]+/)
+		.filter(Boolean);
 	if (tokens.includes('red') || tokens.includes('r')) return 'r';
 	if (tokens.includes('green') || tokens.includes('g')) return 'g';
 	if (tokens.includes('blue') || tokens.includes('b')) return 'b';
@@ -418,7 +426,7 @@ function findSteps(
 		return medianOf(mv, a, b, scratch);
 	};
 	const runs: Run[] = [];
-	for (let i = 0; i < n; ) {
+	for (let i = 0; i < n;) {
 		if (!flat[i]) {
 			i++;
 			continue;
@@ -441,7 +449,7 @@ function findSteps(
 	const longest = (dir: 1 | -1) => {
 		let bestStart = 0;
 		let bestLen = merged.length ? 1 : 0;
-		for (let i = 0; i < merged.length; ) {
+		for (let i = 0; i < merged.length;) {
 			let j = i + 1;
 			while (j < merged.length && dir * (merged[j].level - merged[j - 1].level) > 0) j++;
 			if (j - i > bestLen) {
@@ -555,7 +563,8 @@ export function importTrace(csvText: string, options: ImportTraceOptions = {}): 
 		if (!head[i].numeric) continue;
 		const width = head[i].fields.length;
 		let ok = 0;
-		for (let j = i + 1; j < Math.min(head.length, i + 6); j++) if (head[j].numeric && head[j].fields.length === width) ok++;
+		for (let j = i + 1; j < Math.min(head.length, i + 6); j++)
+			if (head[j].numeric && head[j].fields.length === width) ok++;
 		if (ok >= Math.min(5, head.length - i - 1)) {
 			firstData = i;
 			break;
@@ -565,7 +574,9 @@ export function importTrace(csvText: string, options: ImportTraceOptions = {}): 
 		throw new LevelInputError('no numeric columns: expected a time column and one to three voltage columns of numbers');
 	const width = head[firstData].fields.length;
 	if (width < 2)
-		throw new LevelInputError('only one numeric column: expected a time column followed by one to three voltage columns');
+		throw new LevelInputError(
+			'only one numeric column: expected a time column followed by one to three voltage columns'
+		);
 
 	// Header (and an optional units row) just above the data; anything above them is a preamble.
 	let header: string[] | undefined;
@@ -625,7 +636,16 @@ export function importTrace(csvText: string, options: ImportTraceOptions = {}): 
 				if (b === e) break;
 			}
 			// More fields than the data width: only empty trailing ones are allowed.
-			if (!bad && c === width && a <= e && text.slice(a, e).split(sep).some((x) => x.trim() !== '')) bad = true;
+			if (
+				!bad &&
+				c === width &&
+				a <= e &&
+				text
+					.slice(a, e)
+					.split(sep)
+					.some((x) => x.trim() !== '')
+			)
+				bad = true;
 			if (c < width) bad = true;
 		}
 		if (bad) {
@@ -655,9 +675,13 @@ export function importTrace(csvText: string, options: ImportTraceOptions = {}): 
 	}
 	const dataCols = width - first;
 	if (dataCols < 2)
-		throw new LevelInputError('only one numeric column: expected a time column followed by one to three voltage columns');
+		throw new LevelInputError(
+			'only one numeric column: expected a time column followed by one to three voltage columns'
+		);
 	if (dataCols > 4)
-		throw new LevelInputError(`${dataCols} numeric columns: expected a time column followed by one to three voltage columns`);
+		throw new LevelInputError(
+			`${dataCols} numeric columns: expected a time column followed by one to three voltage columns`
+		);
 	if (rows < 110)
 		throw new LevelInputError(`too few samples (${rows}) to find 11 steps; export the whole line at full resolution`);
 
@@ -769,7 +793,10 @@ export function importTrace(csvText: string, options: ImportTraceOptions = {}): 
  * present unless `copyMissing` is set, which fills absent channels with a
  * copy of a measured one (say so wherever the result is shown).
  */
-export function traceToLevelInput(trace: TraceImport, options: { copyMissing?: boolean; fullScaleMv?: number } = {}): LevelInput {
+export function traceToLevelInput(
+	trace: TraceImport,
+	options: { copyMissing?: boolean; fullScaleMv?: number } = {}
+): LevelInput {
 	const have = CHANNELS.filter((c) => trace.plateaus[c]);
 	const missing = CHANNELS.filter((c) => !trace.plateaus[c]);
 	if (missing.length && !options.copyMissing)

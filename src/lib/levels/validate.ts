@@ -32,7 +32,9 @@ const reading = (name: string) =>
 	z
 		.number({ error: `${name} reading must be a finite number of millivolts` })
 		.min(FLOOR_MV, { error: `${name} reading is far below blanking; readings are mV above blanking (0 mV)` })
-		.max(MAX_READING_MV, { error: `${name} reading is above ${MAX_READING_MV} mV, not a plausible video level (check V vs mV)` });
+		.max(MAX_READING_MV, {
+			error: `${name} reading is above ${MAX_READING_MV} mV, not a plausible video level (check V vs mV)`
+		});
 
 const stepSchema = z.object({
 	ire: z.number({ error: 'ire must be a finite number' }),
@@ -77,7 +79,8 @@ function pathText(path: PropertyKey[]): string {
 
 /** Validate and normalise level input; throws LevelInputError with every problem found. */
 export function validateLevelInput(input: unknown): ValidInput {
-	if (input == null || typeof input !== 'object') throw new LevelInputError('input is empty: expected { steps: [...] }');
+	if (input == null || typeof input !== 'object')
+		throw new LevelInputError('input is empty: expected { steps: [...] }');
 	const parsed = levelInputSchema.safeParse(input);
 	if (!parsed.success) {
 		const issues = parsed.error.issues.map((i) => {
@@ -92,7 +95,8 @@ export function validateLevelInput(input: unknown): ValidInput {
 	}
 	const { steps } = parsed.data;
 	const fullScaleMv = parsed.data.fullScaleMv ?? DEFAULT_FULL_SCALE_MV;
-	if (steps.length === 0) throw new LevelInputError('no readings: steps is empty (need at least 0, 10, 50 and 100 IRE)');
+	if (steps.length === 0)
+		throw new LevelInputError('no readings: steps is empty (need at least 0, 10, 50 and 100 IRE)');
 
 	if (readingsLookLikeVolts(steps)) {
 		const white = steps.find((s) => s.ire === 100);

@@ -97,9 +97,13 @@ function clippingOf(stepsIre: number[], t: LevelTransform): WhatIfClipping {
 	}
 	const parts: string[] = [];
 	if (black.length)
-		parts.push(`${listIre(black)} IRE ${black.length > 1 ? 'fall' : 'falls'} below the source's black and ${black.length > 1 ? 'show' : 'shows'} as black (shadow detail lost)`);
+		parts.push(
+			`${listIre(black)} IRE ${black.length > 1 ? 'fall' : 'falls'} below the source's black and ${black.length > 1 ? 'show' : 'shows'} as black (shadow detail lost)`
+		);
 	if (white.length)
-		parts.push(`${listIre(white)} IRE ${white.length > 1 ? 'go' : 'goes'} past the source's white and ${white.length > 1 ? 'show' : 'shows'} as white (highlight detail lost)`);
+		parts.push(
+			`${listIre(white)} IRE ${white.length > 1 ? 'go' : 'goes'} past the source's white and ${white.length > 1 ? 'show' : 'shows'} as white (highlight detail lost)`
+		);
 	return { black, white, words: parts.length ? `This setting clips: ${parts.join('; ')}.` : null };
 }
 
@@ -107,7 +111,8 @@ function checkTransform(t: LevelTransform): Required<LevelTransform> {
 	const gain = t.gain ?? 1;
 	const blackLiftIre = t.blackLiftIre ?? 0;
 	const range = t.range ?? 'none';
-	if (!Number.isFinite(gain) || gain <= 0 || gain > 4) throw new LevelInputError(`gain must be a number above 0 and at most 4, got ${gain}`);
+	if (!Number.isFinite(gain) || gain <= 0 || gain > 4)
+		throw new LevelInputError(`gain must be a number above 0 and at most 4, got ${gain}`);
 	if (!Number.isFinite(blackLiftIre) || Math.abs(blackLiftIre) > 50)
 		throw new LevelInputError(`blackLiftIre must be between -50 and 50 IRE, got ${blackLiftIre}`);
 	if (!['none', 'limited-to-full', 'full-to-limited'].includes(range))
@@ -208,7 +213,10 @@ export function bestFit(input: LevelInput, options?: AnalyzeOptions): BestFitRes
 	}));
 	const report = analyzeLevels({ steps, fullScaleMv: valid.fullScaleMv }, options);
 	const rescuable = report.band !== null && bandRank(report.band) <= bandRank(RUBRIC.rescue.band);
-	const worst = CHANNELS.reduce((a, c) => (channels[c].residualRmsIre > channels[a].residualRmsIre ? c : a), CHANNELS[0]);
+	const worst = CHANNELS.reduce(
+		(a, c) => (channels[c].residualRmsIre > channels[a].residualRmsIre ? c : a),
+		CHANNELS[0]
+	);
 	const rms = channels[worst].residualRmsIre.toFixed(1);
 	const name = { r: 'red', g: 'green', b: 'blue' }[worst];
 	const verdict = rescuable

@@ -62,7 +62,11 @@ export interface AuditedUpdate<T extends TableWithId> {
  * The audited update, written once: in one transaction, lock the row (404 FieldError when it is
  * not there), update it, and log the chosen fields before and after. Returns the updated row.
  */
-export async function auditedUpdate<T extends TableWithId>(db: Database, actor: Actor, spec: AuditedUpdate<T>): Promise<InferSelectModel<T>> {
+export async function auditedUpdate<T extends TableWithId>(
+	db: Database,
+	actor: Actor,
+	spec: AuditedUpdate<T>
+): Promise<InferSelectModel<T>> {
 	type Row = InferSelectModel<T>;
 	// Drizzle cannot type queries over a generic table; every table here has an integer id, as chips do.
 	const table = spec.table as unknown as typeof chips;

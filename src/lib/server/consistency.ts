@@ -23,7 +23,10 @@ type Db = PgDatabase<PgQueryResultHKT, typeof t, any>;
 const COUNTED: t.RunStatus[] = ['accepted', 'pending'];
 
 /** Runs (in IRE) of the given revisions, or of all, grouped per revision. */
-export async function loadRunLevels(db: Db, revisionIds?: number[]): Promise<Array<TesterInputRevision & { runs: Array<RunLevels & { submittedById: string | null }> }>> {
+export async function loadRunLevels(
+	db: Db,
+	revisionIds?: number[]
+): Promise<Array<TesterInputRevision & { runs: Array<RunLevels & { submittedById: string | null }> }>> {
 	const runs = await db
 		.select({
 			id: t.benchRuns.id,
@@ -35,13 +38,20 @@ export async function loadRunLevels(db: Db, revisionIds?: number[]): Promise<Arr
 		})
 		.from(t.benchRuns)
 		.innerJoin(t.revisions, eq(t.revisions.id, t.benchRuns.revisionId))
-		.where(and(inArray(t.benchRuns.status, COUNTED), revisionIds ? inArray(t.benchRuns.revisionId, revisionIds) : undefined))
+		.where(
+			and(inArray(t.benchRuns.status, COUNTED), revisionIds ? inArray(t.benchRuns.revisionId, revisionIds) : undefined)
+		)
 		.orderBy(asc(t.benchRuns.id));
 	if (runs.length === 0) return [];
 	const readings = await db
 		.select()
 		.from(t.benchReadings)
-		.where(inArray(t.benchReadings.benchRunId, runs.map((r) => r.id)));
+		.where(
+			inArray(
+				t.benchReadings.benchRunId,
+				runs.map((r) => r.id)
+			)
+		);
 	const byRun = new Map<number, typeof readings>();
 	for (const r of readings) byRun.set(r.benchRunId, [...(byRun.get(r.benchRunId) ?? []), r]);
 	const out = new Map<number, TesterInputRevision & { runs: Array<RunLevels & { submittedById: string | null }> }>();
@@ -75,13 +85,16 @@ export async function refreshRevisionChecks(db: Db, revisionId: number, now = ne
 	for (const rz of consensus?.runs ?? []) {
 		keep.add(rz.runId);
 		const before = stateOf.get(rz.runId) ?? null;
-		const state: t.CheckState | null =
-			rz.signal === 'action' ? (before ?? 'open') : before === 'open' ? null : before;
+		const state: t.CheckState | null = rz.signal === 'action' ? (before ?? 'open') : before === 'open' ? null : before;
 		const values = {
 			signal: rz.signal,
 			worstZ: Math.round(rz.worstZ * 100) / 100,
 			reason: rz.reason,
-			cells: rz.cells.map((c) => ({ ...c, reading: Math.round(c.reading * 100) / 100, z: Math.round(c.z * 100) / 100 })),
+			cells: rz.cells.map((c) => ({
+				...c,
+				reading: Math.round(c.reading * 100) / 100,
+				z: Math.round(c.z * 100) / 100
+			})),
 			testers: consensus!.testers,
 			computedAt: now,
 			state
@@ -95,7 +108,9 @@ export async function refreshRevisionChecks(db: Db, revisionId: number, now = ne
 	const gone = existing.map((e) => e.benchRunId).filter((id) => !keep.has(id));
 	if (gone.length) {
 		// a decision already taken stays on record; only open flags and plain checks go
-		const decided = existing.filter((e) => gone.includes(e.benchRunId) && e.state && e.state !== 'open').map((e) => e.benchRunId);
+		const decided = existing
+			.filter((e) => gone.includes(e.benchRunId) && e.state && e.state !== 'open')
+			.map((e) => e.benchRunId);
 		const drop = gone.filter((id) => !decided.includes(id));
 		if (drop.length) await db.delete(t.runChecks).where(inArray(t.runChecks.benchRunId, drop));
 	}
@@ -117,13 +132,22 @@ export async function testerOverview(db: Db) {
 		.from(t.revisions)
 		.innerJoin(t.converters, eq(t.converters.id, t.revisions.converterId));
 	const label = new Map(names.map((n) => [n.id, `${n.brand} ${n.model} · revision ${n.code}`]));
-	const runsByTester = new Map<string, Array<{ runId: number; revisionId: number; revision: string; signal: string | null; worstZ: number | null }>>();
+	const runsByTester = new Map<
+		string,
+		Array<{ runId: number; revisionId: number; revision: string; signal: string | null; worstZ: number | null }>
+	>();
 	for (const rev of report.revisions)
 		for (const rz of rev.consensus.runs) {
 			const k = testerKey(rz.tester);
 			runsByTester.set(k, [
 				...(runsByTester.get(k) ?? []),
-				{ runId: rz.runId, revisionId: rev.revisionId, revision: label.get(rev.revisionId) ?? `revision ${rev.revisionId}`, signal: rz.signal, worstZ: Math.round(rz.worstZ * 10) / 10 }
+				{
+					runId: rz.runId,
+					revisionId: rev.revisionId,
+					revision: label.get(rev.revisionId) ?? `revision ${rev.revisionId}`,
+					signal: rz.signal,
+					worstZ: Math.round(rz.worstZ * 10) / 10
+				}
 			]);
 		}
 	return {
@@ -144,7 +168,10 @@ export async function testerOverview(db: Db) {
 
 /** The tester names a member measured under (from the runs they submitted). */
 export async function testerNamesOf(db: Db, userId: string) {
-	const rows = await db.selectDistinct({ name: t.benchRuns.measuredBy }).from(t.benchRuns).where(eq(t.benchRuns.submittedById, userId));
+	const rows = await db
+		.selectDistinct({ name: t.benchRuns.measuredBy })
+		.from(t.benchRuns)
+		.where(eq(t.benchRuns.submittedById, userId));
 	return [...new Set(rows.map((r) => testerKey(r.name)))];
 }
 

@@ -38,7 +38,11 @@ async function chipRuns(db: Db, chipIds?: number[]): Promise<Map<number, ChipRun
 	for (const r of rows) {
 		if (!r.band || r.score === null || !r.rubricVersion) continue;
 		const list = out.get(r.chipId) ?? [];
-		list.push({ revisionId: r.revisionId, converterId: r.converterId, report: { band: r.band, score: r.score, rubricVersion: r.rubricVersion, worstDeviationIre: r.worstDeviationIre } });
+		list.push({
+			revisionId: r.revisionId,
+			converterId: r.converterId,
+			report: { band: r.band, score: r.score, rubricVersion: r.rubricVersion, worstDeviationIre: r.worstDeviationIre }
+		});
 		out.set(r.chipId, list);
 	}
 	return out;
@@ -82,7 +86,11 @@ export async function refreshExpectedForChips(db: Db, chipIds: number[], now = n
 	for (const rev of revs) {
 		const e =
 			rev.runCount === 0 && !rev.retiredAt
-				? expectedGrade({ revisionId: rev.id, converterId: rev.converterId }, runs.get(rev.chipId) ?? [], RUBRIC_VERSION)
+				? expectedGrade(
+						{ revisionId: rev.id, converterId: rev.converterId },
+						runs.get(rev.chipId) ?? [],
+						RUBRIC_VERSION
+					)
 				: null;
 		const band = e?.band ?? null;
 		const basis = e?.basis ?? null;
@@ -90,9 +98,19 @@ export async function refreshExpectedForChips(db: Db, chipIds: number[], now = n
 		if (band === rev.expectedBand && basis === rev.expectedBasis && deviation === rev.expectedDeviationIre) continue;
 		await db
 			.update(t.revisions)
-			.set({ expectedBand: band, expectedBasis: basis, expectedDeviationIre: deviation, expectedRuns: e?.runs ?? null, expectedAt: e ? now : null })
+			.set({
+				expectedBand: band,
+				expectedBasis: basis,
+				expectedDeviationIre: deviation,
+				expectedRuns: e?.runs ?? null,
+				expectedAt: e ? now : null
+			})
 			.where(eq(t.revisions.id, rev.id));
-		const detail = e ? e.basis : rev.runCount > 0 ? 'measured: the measured grade replaces the expected one' : 'no runs of this chip elsewhere';
+		const detail = e
+			? e.basis
+			: rev.runCount > 0
+				? 'measured: the measured grade replaces the expected one'
+				: 'no runs of this chip elsewhere';
 		await noteGradeChange(db, rev.id, 'expected', rev.expectedBand, band, detail, now);
 	}
 }
@@ -105,7 +123,11 @@ export async function refreshExpectedForRevision(db: Db, revisionId: number, now
 /** Recompute every expected grade (seed, migrations of the rule). */
 export async function refreshAllExpected(db: Db, now = new Date()) {
 	const chips = await db.select({ id: t.chips.id }).from(t.chips);
-	await refreshExpectedForChips(db, chips.map((c) => c.id), now);
+	await refreshExpectedForChips(
+		db,
+		chips.map((c) => c.id),
+		now
+	);
 }
 
 /** A revision's grade history, oldest first. */
@@ -121,7 +143,12 @@ export async function gradeHistoryOf(db: Db, revisionIds: number[]) {
 /** Leave-one-out backtest over every measured live revision of the catalogue. */
 export async function backtestCatalogue(db: Db): Promise<BacktestResult> {
 	const measured = await db
-		.select({ revisionId: t.revisions.id, converterId: t.revisions.converterId, chipId: t.revisions.chipId, band: t.revisions.band })
+		.select({
+			revisionId: t.revisions.id,
+			converterId: t.revisions.converterId,
+			chipId: t.revisions.chipId,
+			band: t.revisions.band
+		})
 		.from(t.revisions)
 		.where(and(isNull(t.revisions.retiredAt)));
 	const runs = await chipRuns(db);
@@ -143,7 +170,12 @@ export interface StoredBacktest {
 /** Run the backtest and keep its figures (not the rows) for the learn page. */
 export async function runAndStoreBacktest(db: Db, now = new Date()): Promise<BacktestResult> {
 	const res = await backtestCatalogue(db);
-	const value = { predicted: res.predicted, skipped: res.skipped, exactRate: res.exactRate, withinOneRate: res.withinOneRate };
+	const value = {
+		predicted: res.predicted,
+		skipped: res.skipped,
+		exactRate: res.exactRate,
+		withinOneRate: res.withinOneRate
+	};
 	await db
 		.insert(t.statSnapshots)
 		.values({ name: BACKTEST_SNAPSHOT, value, computedAt: now })

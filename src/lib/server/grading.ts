@@ -67,9 +67,9 @@ export async function recordBenchRun(db: Db, run: NewBenchRun): Promise<{ id: nu
 			rubricVersion: report.rubricVersion
 		})
 		.returning({ id: t.benchRuns.id });
-	await db.insert(t.benchReadings).values(
-		run.readings.map((s) => ({ benchRunId: row.id, ire: s.ire, rMv: s.r, gMv: s.g, bMv: s.b }))
-	);
+	await db
+		.insert(t.benchReadings)
+		.values(run.readings.map((s) => ({ benchRunId: row.id, ire: s.ire, rMv: s.r, gMv: s.g, bMv: s.b })));
 	return { id: row.id, report };
 }
 
@@ -86,11 +86,25 @@ export async function regradeRevision(db: Db, revisionId: number, now = new Date
 		.where(eq(t.revisions.id, revisionId));
 	const agg = await gradeFromRuns(db, revisionId, now);
 	if (before) {
-		await noteGradeChange(db, revisionId, 'measured', before.band, agg?.band ?? null, agg ? `median of ${agg.count} accepted ${agg.count === 1 ? 'run' : 'runs'}` : 'no accepted runs', now);
+		await noteGradeChange(
+			db,
+			revisionId,
+			'measured',
+			before.band,
+			agg?.band ?? null,
+			agg ? `median of ${agg.count} accepted ${agg.count === 1 ? 'run' : 'runs'}` : 'no accepted runs',
+			now
+		);
 		await refreshExpectedForChips(db, [before.chipId], now);
 		// this converter and every converter whose expected grade may have moved with the chip
-		const touched = await db.selectDistinct({ id: t.revisions.converterId }).from(t.revisions).where(eq(t.revisions.chipId, before.chipId));
-		await refreshCards(db, touched.map((r) => r.id));
+		const touched = await db
+			.selectDistinct({ id: t.revisions.converterId })
+			.from(t.revisions)
+			.where(eq(t.revisions.chipId, before.chipId));
+		await refreshCards(
+			db,
+			touched.map((r) => r.id)
+		);
 	}
 	await refreshRevisionChecks(db, revisionId, now);
 	return agg;
@@ -104,19 +118,32 @@ async function gradeFromRuns(db: Db, revisionId: number, now: Date) {
 	if (runs.length === 0) {
 		await db
 			.update(t.revisions)
-			.set({ band: null, score: null, scoreMin: null, scoreMax: null, deviationIre: null, bandReason: null, runCount: 0, gradedAt: now, updatedAt: now })
+			.set({
+				band: null,
+				score: null,
+				scoreMin: null,
+				scoreMax: null,
+				deviationIre: null,
+				bandReason: null,
+				runCount: 0,
+				gradedAt: now,
+				updatedAt: now
+			})
 			.where(eq(t.revisions.id, revisionId));
 		return null;
 	}
 	const readings = await db
 		.select()
 		.from(t.benchReadings)
-		.where(inArray(t.benchReadings.benchRunId, runs.map((r) => r.id)));
+		.where(
+			inArray(
+				t.benchReadings.benchRunId,
+				runs.map((r) => r.id)
+			)
+		);
 	const reports = runs.map((run) =>
 		analyzeLevels({
-			steps: readings
-				.filter((x) => x.benchRunId === run.id)
-				.map((x) => ({ ire: x.ire, r: x.rMv, g: x.gMv, b: x.bMv })),
+			steps: readings.filter((x) => x.benchRunId === run.id).map((x) => ({ ire: x.ire, r: x.rMv, g: x.gMv, b: x.bMv })),
 			fullScaleMv: run.fullScaleMv
 		})
 	);
@@ -132,7 +159,9 @@ async function gradeFromRuns(db: Db, revisionId: number, now: Date) {
 			scoreMin: agg.minScore,
 			scoreMax: agg.maxScore,
 			deviationIre: lead?.worstDeviationIre ?? null,
-			bandReason: lead ? bandReasonOf({ band: agg.band, worstDeviationIre: lead.worstDeviationIre, failReasons: lead.failReasons }) : null,
+			bandReason: lead
+				? bandReasonOf({ band: agg.band, worstDeviationIre: lead.worstDeviationIre, failReasons: lead.failReasons })
+				: null,
 			runCount: agg.count,
 			rubricVersion: agg.rubricVersion,
 			gradedAt: now,
@@ -150,7 +179,10 @@ async function gradeFromRuns(db: Db, revisionId: number, now: Date) {
  * revision's band is written to the audit log (entity 'revision', action 'regraded'), which
  * is the revision's history. Idempotent: a second call finds nothing to do.
  */
-export async function regradeStaleReports(db: Db, now = new Date()): Promise<{ runs: number; revisions: number; bandChanges: number }> {
+export async function regradeStaleReports(
+	db: Db,
+	now = new Date()
+): Promise<{ runs: number; revisions: number; bandChanges: number }> {
 	const stale = await db
 		.select({ id: t.benchRuns.id, revisionId: t.benchRuns.revisionId, fullScaleMv: t.benchRuns.fullScaleMv })
 		.from(t.benchRuns)
@@ -160,7 +192,12 @@ export async function regradeStaleReports(db: Db, now = new Date()): Promise<{ r
 		const readings = await db
 			.select()
 			.from(t.benchReadings)
-			.where(inArray(t.benchReadings.benchRunId, stale.map((r) => r.id)));
+			.where(
+				inArray(
+					t.benchReadings.benchRunId,
+					stale.map((r) => r.id)
+				)
+			);
 		const byRun = new Map<number, Array<{ ire: number; r: number; g: number; b: number }>>();
 		for (const x of readings) {
 			const list = byRun.get(x.benchRunId) ?? [];
@@ -179,19 +216,35 @@ export async function regradeStaleReports(db: Db, now = new Date()): Promise<{ r
 	const staleRevisions = await db
 		.select({ id: t.revisions.id })
 		.from(t.revisions)
-		.where(and(isNotNull(t.revisions.rubricVersion), ne(t.revisions.rubricVersion, RUBRIC_VERSION), gt(t.revisions.runCount, 0)));
+		.where(
+			and(
+				isNotNull(t.revisions.rubricVersion),
+				ne(t.revisions.rubricVersion, RUBRIC_VERSION),
+				gt(t.revisions.runCount, 0)
+			)
+		);
 	for (const r of staleRevisions) touched.add(r.id);
 
 	let bandChanges = 0;
 	for (const revisionId of [...touched].sort((a, b) => a - b)) {
 		const [before] = await db
-			.select({ band: t.revisions.band, score: t.revisions.score, runCount: t.revisions.runCount, rubricVersion: t.revisions.rubricVersion })
+			.select({
+				band: t.revisions.band,
+				score: t.revisions.score,
+				runCount: t.revisions.runCount,
+				rubricVersion: t.revisions.rubricVersion
+			})
 			.from(t.revisions)
 			.where(eq(t.revisions.id, revisionId));
 		if (!before) continue;
 		await regradeRevision(db, revisionId, now);
 		const [after] = await db
-			.select({ band: t.revisions.band, score: t.revisions.score, runCount: t.revisions.runCount, rubricVersion: t.revisions.rubricVersion })
+			.select({
+				band: t.revisions.band,
+				score: t.revisions.score,
+				runCount: t.revisions.runCount,
+				rubricVersion: t.revisions.rubricVersion
+			})
 			.from(t.revisions)
 			.where(eq(t.revisions.id, revisionId));
 		if (after.band !== before.band) {
@@ -215,7 +268,13 @@ export async function gradeHistory(db: Db, revisionId: number) {
 	const rows = await db
 		.select({ at: t.auditLog.at, before: t.auditLog.before, after: t.auditLog.after, reason: t.auditLog.reason })
 		.from(t.auditLog)
-		.where(and(eq(t.auditLog.entity, 'revision'), eq(t.auditLog.entityId, String(revisionId)), eq(t.auditLog.action, 'regraded')))
+		.where(
+			and(
+				eq(t.auditLog.entity, 'revision'),
+				eq(t.auditLog.entityId, String(revisionId)),
+				eq(t.auditLog.action, 'regraded')
+			)
+		)
 		.orderBy(desc(t.auditLog.at));
 	type Grade = { band: t.Band | null; score: number | null; rubricVersion: string | null };
 	return rows.map((r) => ({ at: r.at, before: r.before as Grade, after: r.after as Grade, reason: r.reason ?? '' }));

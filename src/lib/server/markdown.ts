@@ -10,8 +10,37 @@ import sanitizeHtml from 'sanitize-html';
 const marked = new Marked({ gfm: true, breaks: false, async: false });
 
 const ALLOWED: sanitizeHtml.IOptions = {
-	allowedTags: ['h2', 'h3', 'h4', 'p', 'a', 'ul', 'ol', 'li', 'strong', 'em', 'code', 'pre', 'blockquote', 'hr', 'br', 'table', 'thead', 'tbody', 'tr', 'th', 'td', 'del', 'img'],
-	allowedAttributes: { a: ['href', 'title', 'rel'], img: ['src', 'alt', 'title'], th: ['scope', 'align'], td: ['align'] },
+	allowedTags: [
+		'h2',
+		'h3',
+		'h4',
+		'p',
+		'a',
+		'ul',
+		'ol',
+		'li',
+		'strong',
+		'em',
+		'code',
+		'pre',
+		'blockquote',
+		'hr',
+		'br',
+		'table',
+		'thead',
+		'tbody',
+		'tr',
+		'th',
+		'td',
+		'del',
+		'img'
+	],
+	allowedAttributes: {
+		a: ['href', 'title', 'rel'],
+		img: ['src', 'alt', 'title'],
+		th: ['scope', 'align'],
+		td: ['align']
+	},
 	allowedSchemes: ['http', 'https', 'mailto'],
 	allowedSchemesByTag: { img: ['https'] },
 	allowedSchemesAppliedToAttributes: ['href', 'src'],

@@ -21,7 +21,13 @@ import { LRUCache } from 'lru-cache';
 import { env } from '$env/dynamic/private';
 import { building } from '$app/environment';
 import { sql } from '$lib/server/db';
-import { catalogueParams, CURRENCY_COOKIE, parseLenient, REGION_COOKIE, viewpoint } from '$lib/server/queries/public-params';
+import {
+	catalogueParams,
+	CURRENCY_COOKIE,
+	parseLenient,
+	REGION_COOKIE,
+	viewpoint
+} from '$lib/server/queries/public-params';
 import { matchesEtag, PUBLIC_CACHE_CONTROL } from '$lib/server/queries/public-http';
 
 /** Public, cookie-independent paths (besides region and currency): pages and the open-data API. */
@@ -60,7 +66,12 @@ const enabled = env.PAGE_CACHE !== 'off';
 const EMPTY = new Uint8Array(0);
 const cache = new LRUCache<string, Stored>({
 	maxSize: Number(env.PAGE_CACHE_MB || 32) * 1024 * 1024,
-	sizeCalculation: (v) => v.body.byteLength + v.br.byteLength + v.gzip.byteLength + 256 + v.headers.reduce((n, [k, x]) => n + k.length + x.length, 0),
+	sizeCalculation: (v) =>
+		v.body.byteLength +
+		v.br.byteLength +
+		v.gzip.byteLength +
+		256 +
+		v.headers.reduce((n, [k, x]) => n + k.length + x.length, 0),
 	ttl: Number(env.PAGE_CACHE_TTL_SECONDS || 60) * 1000
 });
 /** Bumped on every invalidation: a render that began before it is not stored. */
@@ -81,11 +92,13 @@ function listen() {
 		invalidatePageCache();
 		live = true;
 	};
-	listening = sql.listen('sg_public', () => invalidatePageCache(), onListen).catch((err) => {
-		listening = null; // try again on the next request
-		live = false;
-		console.error('page cache: LISTEN sg_public failed; cache stays off until it works', err);
-	});
+	listening = sql
+		.listen('sg_public', () => invalidatePageCache(), onListen)
+		.catch((err) => {
+			listening = null; // try again on the next request
+			live = false;
+			console.error('page cache: LISTEN sg_public failed; cache stays off until it works', err);
+		});
 }
 
 function isPublic(path: string): boolean {
@@ -114,16 +127,24 @@ const DROPPABLE_COOKIE = /^(__Secure-)?authjs\.callback-url=/;
  * that is the only cookie a cacheable page may set, and it is set again on every answer.
  */
 function onlyViewpointCookies(headers: Headers): boolean {
-	return headers.getSetCookie().every((c) => c.startsWith(`${REGION_COOKIE}=`) || c.startsWith(`${CURRENCY_COOKIE}=`) || DROPPABLE_COOKIE.test(c));
+	return headers
+		.getSetCookie()
+		.every((c) => c.startsWith(`${REGION_COOKIE}=`) || c.startsWith(`${CURRENCY_COOKIE}=`) || DROPPABLE_COOKIE.test(c));
 }
 
 function viewpointCookies(url: URL, cookies: Cookies, acceptLanguage: string | null): string[] {
 	const region = url.searchParams.get('region') || undefined;
 	const currency = url.searchParams.get('currency') || undefined;
 	if (!region && !currency) return [];
-	const { data } = parseLenient(catalogueParams.pick({ region: true, currency: true }), { ...(region && { region }), ...(currency && { currency }) });
+	const { data } = parseLenient(catalogueParams.pick({ region: true, currency: true }), {
+		...(region && { region }),
+		...(currency && { currency })
+	});
 	const out: string[] = [];
-	const recorder = { get: (name: string) => cookies.get(name), set: (name: string, value: string) => void out.push(`${name}=${value}; Path=/; Max-Age=31536000; SameSite=Lax`) } as unknown as Cookies;
+	const recorder = {
+		get: (name: string) => cookies.get(name),
+		set: (name: string, value: string) => void out.push(`${name}=${value}; Path=/; Max-Age=31536000; SameSite=Lax`)
+	} as unknown as Cookies;
 	if (data.region || data.currency) viewpoint(data, recorder, acceptLanguage);
 	return out;
 }
@@ -131,7 +152,9 @@ function viewpointCookies(url: URL, cookies: Cookies, acceptLanguage: string | n
 function answer(request: Request, s: Stored, hit: boolean, url: URL, cookies: Cookies): Response {
 	const headers = new Headers(s.headers);
 	headers.set('X-Page-Cache', hit ? 'hit' : 'miss');
-	if (url.pathname.startsWith('/api/') === false) for (const c of viewpointCookies(url, cookies, request.headers.get('accept-language'))) headers.append('Set-Cookie', c);
+	if (url.pathname.startsWith('/api/') === false)
+		for (const c of viewpointCookies(url, cookies, request.headers.get('accept-language')))
+			headers.append('Set-Cookie', c);
 	if (matchesEtag(request.headers.get('if-none-match'), s.etag)) {
 		for (const h of ['content-type', 'content-length']) headers.delete(h);
 		return new Response(null, { status: 304, headers });
@@ -167,7 +190,11 @@ export const pageCacheHandle: Handle = async ({ event, resolve }) => {
 		headers: [],
 		body,
 		// With the cache off, scripts/serve.mjs compresses per request instead.
-		br: enabled ? brotliCompressSync(body, { params: { [zlib.constants.BROTLI_PARAM_QUALITY]: 5, [zlib.constants.BROTLI_PARAM_SIZE_HINT]: body.byteLength } }) : EMPTY,
+		br: enabled
+			? brotliCompressSync(body, {
+					params: { [zlib.constants.BROTLI_PARAM_QUALITY]: 5, [zlib.constants.BROTLI_PARAM_SIZE_HINT]: body.byteLength }
+				})
+			: EMPTY,
 		gzip: enabled ? gzipSync(body, { level: 6 }) : EMPTY,
 		etag: response.headers.get('etag') ?? etagOf(body)
 	};

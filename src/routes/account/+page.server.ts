@@ -8,7 +8,9 @@ export const load: PageServerLoad = async (event) => {
 	const user = requireRole(event, 'member');
 	// a member sees their own runs and their own tester verdict, nobody else's
 	const [runs, names] = await Promise.all([memberRunChecks(db, user.id), testerNamesOf(db, user.id)]);
-	const testers = names.length ? (await testerOverview(db)).testers.filter((x) => names.includes(testerKey(x.tester))) : [];
+	const testers = names.length
+		? (await testerOverview(db)).testers.filter((x) => names.includes(testerKey(x.tester)))
+		: [];
 	return {
 		account: { email: user.email, name: user.name, role: user.role },
 		runs,

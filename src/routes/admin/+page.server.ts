@@ -9,10 +9,7 @@ import type { Actions, PageServerLoad } from './$types';
 export const load: PageServerLoad = async (event) => {
 	const me = requireRole(event, 'admin');
 	const q = (event.url.searchParams.get('q') ?? '').trim().slice(0, 100);
-	const [byRole, people] = await Promise.all([
-		roleCounts(db),
-		listUsers(db, q)
-	]);
+	const [byRole, people] = await Promise.all([roleCounts(db), listUsers(db, q)]);
 	return { byRole, people, q, meId: me.id };
 };
 
@@ -26,7 +23,8 @@ export const actions: Actions = {
 		const res = await attempt(form, () => changeRole(db, me, form.data));
 		if (!res.ok) {
 			const f = res.failure.data.form;
-			const msg = (f.message as { text?: string } | undefined)?.text ?? (Object.values(f.errors ?? {}).flat()[0] as string);
+			const msg =
+				(f.message as { text?: string } | undefined)?.text ?? (Object.values(f.errors ?? {}).flat()[0] as string);
 			return fail400(msg ?? 'The role was not changed.', res.failure.status);
 		}
 		redirect(303, `/admin?changed=${encodeURIComponent(res.value.email ?? '')}`);

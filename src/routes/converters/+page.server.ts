@@ -1,6 +1,12 @@
 import { db } from '$lib/server/db';
 import { loadCataloguePage } from '$lib/server/queries/read-model';
-import { catalogueParams, parseLenient, searchObject, toCatalogueFilter, viewpoint } from '$lib/server/queries/public-params';
+import {
+	catalogueParams,
+	parseLenient,
+	searchObject,
+	toCatalogueFilter,
+	viewpoint
+} from '$lib/server/queries/public-params';
 import type { PageServerLoad } from './$types';
 
 /** Cards per page: a catalogue of thousands stays quick to render and to read on a phone. */
@@ -9,8 +15,20 @@ const PAGE_SIZE = 48;
 export const load: PageServerLoad = async ({ url, cookies, request }) => {
 	const { data: params, issues } = parseLenient(catalogueParams, searchObject(url));
 	const view = viewpoint(params, cookies, request.headers.get('accept-language'));
-	const found = await loadCataloguePage(db, view, toCatalogueFilter(params, view.currency), { page: params.page, pageSize: PAGE_SIZE });
+	const found = await loadCataloguePage(db, view, toCatalogueFilter(params, view.currency), {
+		page: params.page,
+		pageSize: PAGE_SIZE
+	});
 	// Cards show the best offer only: the region's other listings stay off the page's data.
 	const converters = found.entries.map((e) => ({ ...e, offers: [] }));
-	return { view, params, issues, total: found.total, matching: found.matching, page: found.page, pages: found.pages, converters };
+	return {
+		view,
+		params,
+		issues,
+		total: found.total,
+		matching: found.matching,
+		page: found.page,
+		pages: found.pages,
+		converters
+	};
 };

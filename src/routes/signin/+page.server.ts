@@ -42,6 +42,8 @@ export const actions: Actions = {
 			return fail(429, { email: parsed.data.email, error: tooManySignIns(limit.retryAfterSeconds) });
 		}
 		// Auth.js reads providerId, email and redirectTo from the posted form.
-		await signIn(withForm(event, { providerId: 'nodemailer', email: parsed.data.email, redirectTo: parsed.data.next }, authOrigin));
+		await signIn(
+			withForm(event, { providerId: 'nodemailer', email: parsed.data.email, redirectTo: parsed.data.next }, authOrigin)
+		);
 	}
 };

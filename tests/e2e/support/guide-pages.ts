@@ -34,7 +34,16 @@ export async function distinctColours(canvas: Locator): Promise<number> {
 export async function expectAccessible(page: Page, label: string) {
 	const result = await new AxeBuilder({ page }).withTags(['wcag2a', 'wcag2aa', 'wcag21a', 'wcag21aa']).analyze();
 	const bad = result.violations.filter((v) => v.impact === 'serious' || v.impact === 'critical');
-	expect(bad.map((v) => `${v.id}: ${v.nodes.map((n) => n.target.join(' ')).slice(0, 3).join(' | ')}`), `${label}: serious/critical axe violations`).toEqual([]);
+	expect(
+		bad.map(
+			(v) =>
+				`${v.id}: ${v.nodes
+					.map((n) => n.target.join(' '))
+					.slice(0, 3)
+					.join(' | ')}`
+		),
+		`${label}: serious/critical axe violations`
+	).toEqual([]);
 }
 
 export async function screenshot(page: Page, name: string) {
@@ -44,6 +53,8 @@ export async function screenshot(page: Page, name: string) {
 
 /** The page fits the viewport width (no sideways scrolling on a phone). */
 export async function expectNoSidewaysScroll(page: Page, label: string) {
-	const overflow = await page.evaluate(() => document.documentElement.scrollWidth - document.documentElement.clientWidth);
+	const overflow = await page.evaluate(
+		() => document.documentElement.scrollWidth - document.documentElement.clientWidth
+	);
 	expect(overflow, `${label} scrolls sideways by ${overflow}px`).toBeLessThanOrEqual(1);
 }

@@ -6,12 +6,30 @@
  * (sources.md "Shop pages"). The mapping of each member onto our stock states is our own reading.
  */
 import { describe, expect, it } from 'vitest';
-import { ITEM_AVAILABILITY, mapAvailability, parseItemAvailability, stockToItemAvailability } from '../../../src/lib/feeds';
+import {
+	ITEM_AVAILABILITY,
+	mapAvailability,
+	parseItemAvailability,
+	stockToItemAvailability
+} from '../../../src/lib/feeds';
 
 describe('schema.org ItemAvailability (schema.org 30.0)', () => {
 	it('knows exactly the 12 members', () => {
 		expect([...ITEM_AVAILABILITY].sort()).toEqual(
-			['BackOrder', 'Discontinued', 'InStock', 'InStoreOnly', 'LimitedAvailability', 'MadeToOrder', 'OnlineOnly', 'OutOfStock', 'PreOrder', 'PreSale', 'Reserved', 'SoldOut'].sort()
+			[
+				'BackOrder',
+				'Discontinued',
+				'InStock',
+				'InStoreOnly',
+				'LimitedAvailability',
+				'MadeToOrder',
+				'OnlineOnly',
+				'OutOfStock',
+				'PreOrder',
+				'PreSale',
+				'Reserved',
+				'SoldOut'
+			].sort()
 		);
 	});
 
@@ -31,7 +49,14 @@ describe('schema.org ItemAvailability (schema.org 30.0)', () => {
 	};
 
 	it.each(Object.entries(expected))('%s maps to %s in every written form', (member, stock) => {
-		for (const form of [`https://schema.org/${member}`, `http://schema.org/${member}`, member, `schema:${member}`, member.toLowerCase(), `https://schema.org/${member}/`]) {
+		for (const form of [
+			`https://schema.org/${member}`,
+			`http://schema.org/${member}`,
+			member,
+			`schema:${member}`,
+			member.toLowerCase(),
+			`https://schema.org/${member}/`
+		]) {
 			const r = mapAvailability(form);
 			expect(r.stock, form).toBe(stock);
 			expect(r.member, form).toBe(member);
@@ -82,11 +107,14 @@ describe('stock phrases (English and German)', () => {
 		expect(mapAvailability(text).stock).toBe(stock);
 	});
 
-	it.each([['Ask us'], ['Call for details'], ['Kontaktieren Sie uns'], ['🙂'], ['']])('unrecognised "%s" is unknown, never out_of_stock', (text) => {
-		const r = mapAvailability(text);
-		expect(r.stock).toBe('unknown');
-		expect(r.note).toBeTruthy();
-	});
+	it.each([['Ask us'], ['Call for details'], ['Kontaktieren Sie uns'], ['🙂'], ['']])(
+		'unrecognised "%s" is unknown, never out_of_stock',
+		(text) => {
+			const r = mapAvailability(text);
+			expect(r.stock).toBe('unknown');
+			expect(r.note).toBeTruthy();
+		}
+	);
 
 	it('a missing value is unknown', () => {
 		expect(mapAvailability(undefined).stock).toBe('unknown');

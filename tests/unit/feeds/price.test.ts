@@ -10,8 +10,21 @@ import { detectCurrency, formatMinor, minorDigits, parseAmount, parsePrice } fro
 
 describe('ISO 4217 minor units (ISO 4217 currency list, minor unit column)', () => {
 	it.each([
-		['USD', 2], ['EUR', 2], ['GBP', 2], ['JPY', 0], ['AUD', 2], ['CAD', 2], ['CHF', 2],
-		['SEK', 2], ['NOK', 2], ['DKK', 2], ['PLN', 2], ['NZD', 2], ['KRW', 0], ['BHD', 3], ['KWD', 3]
+		['USD', 2],
+		['EUR', 2],
+		['GBP', 2],
+		['JPY', 0],
+		['AUD', 2],
+		['CAD', 2],
+		['CHF', 2],
+		['SEK', 2],
+		['NOK', 2],
+		['DKK', 2],
+		['PLN', 2],
+		['NZD', 2],
+		['KRW', 0],
+		['BHD', 3],
+		['KWD', 3]
 	])('%s has %i minor digits', (code, digits) => {
 		expect(minorDigits(code)).toBe(digits);
 	});
@@ -71,11 +84,14 @@ describe('price text formats', () => {
 		expect(parseAmount(0.1 + 0.2, 'EUR')).toMatchObject({ ok: true, minor: 30 });
 	});
 
-	it.each([['abc'], [''], ['Preis auf Anfrage'], ['0,00 €'], ['0'], ['-5.00'], ['€ -3,50'], ['1,23,45.6']])('"%s" is an error, never 0 or negative', (text) => {
-		const r = parseAmount(text, 'EUR');
-		expect(r.ok).toBe(false);
-		if (!r.ok) expect(r.reason.length).toBeGreaterThan(5);
-	});
+	it.each([['abc'], [''], ['Preis auf Anfrage'], ['0,00 €'], ['0'], ['-5.00'], ['€ -3,50'], ['1,23,45.6']])(
+		'"%s" is an error, never 0 or negative',
+		(text) => {
+			const r = parseAmount(text, 'EUR');
+			expect(r.ok).toBe(false);
+			if (!r.ok) expect(r.reason.length).toBeGreaterThan(5);
+		}
+	);
 
 	it('negative and zero numbers are errors', () => {
 		expect(parseAmount(-1, 'USD').ok).toBe(false);
@@ -100,12 +116,20 @@ describe('currency detection', () => {
 	});
 
 	it('parsePrice gives a wrong-currency error for a currency other than the expected one', () => {
-		expect(parsePrice('15.95', { currencyText: 'EUR', expectedCurrency: 'GBP' })).toMatchObject({ ok: false, kind: 'wrong-currency' });
+		expect(parsePrice('15.95', { currencyText: 'EUR', expectedCurrency: 'GBP' })).toMatchObject({
+			ok: false,
+			kind: 'wrong-currency'
+		});
 		expect(parsePrice('$22.90', { expectedCurrency: 'EUR' })).toMatchObject({ ok: false, kind: 'wrong-currency' });
 	});
 
 	it('parsePrice reads a bare amount in the expected currency (with a note), and gives no-currency without one', () => {
-		expect(parsePrice('22,90', { expectedCurrency: 'EUR' })).toMatchObject({ ok: true, minor: 2290, currency: 'EUR', notes: [expect.stringMatching(/configured currency EUR/)] });
+		expect(parsePrice('22,90', { expectedCurrency: 'EUR' })).toMatchObject({
+			ok: true,
+			minor: 2290,
+			currency: 'EUR',
+			notes: [expect.stringMatching(/configured currency EUR/)]
+		});
 		expect(parsePrice(22.9, {})).toMatchObject({ ok: false, kind: 'no-currency' });
 	});
 
@@ -120,11 +144,22 @@ describe('currency detection', () => {
 	it('a symbol of another currency is still wrong-currency when the listing has one configured', () => {
 		expect(parsePrice('£129.00', { expectedCurrency: 'EUR' })).toMatchObject({ ok: false, kind: 'wrong-currency' });
 		expect(parsePrice('$129', { expectedCurrency: 'EUR' })).toMatchObject({ ok: false, kind: 'wrong-currency' });
-		expect(parsePrice('129.00', { currencyText: 'GBP', expectedCurrency: 'EUR' })).toMatchObject({ ok: false, kind: 'wrong-currency' });
+		expect(parsePrice('129.00', { currencyText: 'GBP', expectedCurrency: 'EUR' })).toMatchObject({
+			ok: false,
+			kind: 'wrong-currency'
+		});
 	});
 
 	it('parsePrice combines code, amount and currency exponent', () => {
-		expect(parsePrice('3480', { currencyText: 'JPY', expectedCurrency: 'JPY' })).toMatchObject({ ok: true, minor: 3480, currency: 'JPY' });
-		expect(parsePrice('1.234,56 €', { expectedCurrency: 'EUR' })).toMatchObject({ ok: true, minor: 123456, currency: 'EUR' });
+		expect(parsePrice('3480', { currencyText: 'JPY', expectedCurrency: 'JPY' })).toMatchObject({
+			ok: true,
+			minor: 3480,
+			currency: 'JPY'
+		});
+		expect(parsePrice('1.234,56 €', { expectedCurrency: 'EUR' })).toMatchObject({
+			ok: true,
+			minor: 123456,
+			currency: 'EUR'
+		});
 	});
 });

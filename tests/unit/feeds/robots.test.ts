@@ -5,7 +5,14 @@
  * '*' and '$'), 2.3.1.3/2.3.1.4 (unavailable and unreachable status), 2.4 (caching), 2.5 (limits).
  */
 import { describe, expect, it } from 'vitest';
-import { explainAllowed, isAllowed, parseRobots, robotsCacheExpired, robotsFromFetch, ROBOTS_MAX_BYTES } from '../../../src/lib/feeds';
+import {
+	explainAllowed,
+	isAllowed,
+	parseRobots,
+	robotsCacheExpired,
+	robotsFromFetch,
+	ROBOTS_MAX_BYTES
+} from '../../../src/lib/feeds';
 
 const BOT = 'ScopegradeBot';
 
@@ -40,7 +47,9 @@ Disallow: /
 	});
 
 	it('several groups for the same crawler are combined', () => {
-		const r = parseRobots('User-agent: ScopegradeBot\nDisallow: /a/\n\nUser-agent: *\nDisallow: /c/\n\nUser-agent: scopegradebot\nDisallow: /b/\n');
+		const r = parseRobots(
+			'User-agent: ScopegradeBot\nDisallow: /a/\n\nUser-agent: *\nDisallow: /c/\n\nUser-agent: scopegradebot\nDisallow: /b/\n'
+		);
 		expect(isAllowed(r, BOT, '/a/1')).toBe(false);
 		expect(isAllowed(r, BOT, '/b/1')).toBe(false);
 		expect(isAllowed(r, BOT, '/c/1')).toBe(true);
@@ -143,7 +152,9 @@ describe("special characters '*' and '$' (RFC 9309 section 2.2.3)", () => {
 	});
 
 	it('comments, odd spacing and unknown keys are tolerated', () => {
-		const r = parseRobots('\uFEFFuser-AGENT :  *   # everyone\r\nCrawl-delay: 10\r\nDISALLOW: /cart/ # no carts\r\nnonsense line\r\nSitemap: http://127.0.0.1/sitemap.xml\r\n');
+		const r = parseRobots(
+			'\uFEFFuser-AGENT :  *   # everyone\r\nCrawl-delay: 10\r\nDISALLOW: /cart/ # no carts\r\nnonsense line\r\nSitemap: http://127.0.0.1/sitemap.xml\r\n'
+		);
 		expect(isAllowed(r, BOT, '/cart/x')).toBe(false);
 		expect(r.sitemaps).toEqual(['http://127.0.0.1/sitemap.xml']);
 	});

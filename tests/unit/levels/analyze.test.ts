@@ -1,5 +1,12 @@
 import { describe, expect, it } from 'vitest';
-import { LevelInputError, RUBRIC, analyzeLevels, bandRank, readingsLookLikeVolts, type Band } from '../../../src/lib/levels';
+import {
+	LevelInputError,
+	RUBRIC,
+	analyzeLevels,
+	bandRank,
+	readingsLookLikeVolts,
+	type Band
+} from '../../../src/lib/levels';
 import { perfectExcept, ramp } from './helpers';
 
 const codes = (r: ReturnType<typeof analyzeLevels>) => r.findings.map((f) => f.code);
@@ -38,15 +45,18 @@ describe('trade rules of thumb (common practice, no published source)', () => {
 		expect(r.rubricVersion).toBe('sg-levels-2');
 	});
 
-	it.each([25, 30])('%i mV at 10 IRE (where 70 mV is expected) is failing, with a shadows finding citing the numbers', (mv) => {
-		const r = analyzeLevels(perfectExcept(10, [mv, mv, mv]));
-		expect(r.band).toBe('failing');
-		expect(r.failReasons).toContain('shadow-floor');
-		const f = r.findings.find((x) => x.code === 'shadows-dark')!;
-		expect(f.severity).toBe('critical');
-		expect(f.text).toContain(`Shadows too dark: ${mv} mV at 10 IRE where 70 mV is expected`);
-		expect(r.shadowRatio.at10.g).toBeCloseTo(mv / 70, 10);
-	});
+	it.each([25, 30])(
+		'%i mV at 10 IRE (where 70 mV is expected) is failing, with a shadows finding citing the numbers',
+		(mv) => {
+			const r = analyzeLevels(perfectExcept(10, [mv, mv, mv]));
+			expect(r.band).toBe('failing');
+			expect(r.failReasons).toContain('shadow-floor');
+			const f = r.findings.find((x) => x.code === 'shadows-dark')!;
+			expect(f.severity).toBe('critical');
+			expect(f.text).toContain(`Shadows too dark: ${mv} mV at 10 IRE where 70 mV is expected`);
+			expect(r.shadowRatio.at10.g).toBeCloseTo(mv / 70, 10);
+		}
+	);
 
 	it("blue at 770 mV with red and green at 700 mV at 100 IRE is at best 'poor' and the tint says blue", () => {
 		const r = analyzeLevels(perfectExcept(100, [700, 700, 770]));
@@ -62,11 +72,17 @@ describe('trade rules of thumb (common practice, no published source)', () => {
 		expect(all.tint.midGrey.direction).toBe('blue');
 	});
 
-	it("doubled readings (about 1400 mV at white: no 75 ohm load, which halves the level into a matched load) are not graded", () => {
+	it('doubled readings (about 1400 mV at white: no 75 ohm load, which halves the level into a matched load) are not graded', () => {
 		// A 75 ohm source into 75 ohm delivers half its open-circuit voltage (voltage divider); without the load the scope reads double.
 		const r = analyzeLevels(ramp((i) => [14 * i, 14 * i, 14 * i]));
 		expect(r.warnings).toContain('possibly-unterminated');
-		expect(r).toMatchObject({ graded: false, notGradedReason: 'unterminated', band: null, score: null, failReasons: [] });
+		expect(r).toMatchObject({
+			graded: false,
+			notGradedReason: 'unterminated',
+			band: null,
+			score: null,
+			failReasons: []
+		});
 		expect(r.findings[0].code).toBe('possibly-unterminated');
 		expect(r.findings[0].severity).toBe('critical');
 		expect(r.findings[0].text).toMatch(/^Not graded: white reads 1400 mV, about twice the 700 mV expected/);
@@ -148,13 +164,17 @@ describe('band edges (house rubric sg-levels-1, RUBRIC.bands; our own, not a sta
 		const eq = analyzeLevels(ramp((i) => (i === 40 || i === 50 ? [315, 315, 315] : [7 * i, 7 * i, 7 * i])));
 		expect(eq.band).toBe('poor');
 		expect(eq.monotonic).toEqual({ r: true, g: true, b: true });
-		const dip = analyzeLevels(ramp((i) => (i === 40 ? [315, 315, 315] : i === 50 ? [315, 314.9, 315] : [7 * i, 7 * i, 7 * i])));
+		const dip = analyzeLevels(
+			ramp((i) => (i === 40 ? [315, 315, 315] : i === 50 ? [315, 314.9, 315] : [7 * i, 7 * i, 7 * i]))
+		);
 		expect(dip.band).toBe('failing');
 		expect(dip.failReasons).toEqual(['non-monotonic']);
 		expect(dip.warnings).toContain('non-monotonic');
 		expect(dip.monotonic).toEqual({ r: true, g: false, b: true });
 		expect(dip.nonMonotonicSteps).toEqual([{ channel: 'g', ire: 50, mv: 314.9, belowIre: 40, belowMv: 315 }]);
-		expect(dip.findings.find((f) => f.code === 'non-monotonic')!.text).toContain('314.9 mV at 50 IRE is below 315 mV at 40 IRE');
+		expect(dip.findings.find((f) => f.code === 'non-monotonic')!.text).toContain(
+			'314.9 mV at 50 IRE is below 315 mV at 40 IRE'
+		);
 	});
 });
 
@@ -224,7 +244,9 @@ describe('ratios, tint and findings', () => {
 
 	it('highlights dim and too bright, citing the 100 IRE reading', () => {
 		const dim = analyzeLevels(ramp((i) => [6.5 * i, 6.5 * i, 6.5 * i]));
-		expect(dim.findings.find((x) => x.code === 'highlights-dim')!.text).toContain('Highlights dim: 650 mV at 100 IRE where 700 mV is expected');
+		expect(dim.findings.find((x) => x.code === 'highlights-dim')!.text).toContain(
+			'Highlights dim: 650 mV at 100 IRE where 700 mV is expected'
+		);
 		const hot = analyzeLevels(ramp((i) => [7.6 * i, 7.6 * i, 7.6 * i]));
 		expect(hot.findings.find((x) => x.code === 'highlights-hot')!.text).toContain('760 mV at 100 IRE');
 	});
@@ -298,13 +320,22 @@ describe('bad input', () => {
 		bad(perfectExcept(0, [-50, 0, 0]), /red reads -50 mV, more than 7 mV/);
 		// the tolerance is 1 IRE of the run's own full scale: 10 mV at 1000 mV
 		expect(analyzeLevels(ramp((i) => [10 * i - (i === 0 ? 9 : 0), 10 * i, 10 * i], 1000)).graded).toBe(true);
-		bad(ramp((i) => [10 * i - (i === 0 ? 11 : 0), 10 * i, 10 * i], 1000), /more than 10 mV/);
+		bad(
+			ramp((i) => [10 * i - (i === 0 ? 11 : 0), 10 * i, 10 * i], 1000),
+			/more than 10 mV/
+		);
 		bad(perfectExcept(100, [700, 2500, 700]), /above 2000 mV/);
 	});
 	it('readings that look like volts are refused, never graded as millivolts', () => {
-		bad(ramp((i) => [0.007 * i, 0.007 * i, 0.007 * i]), /look like volts \(white reads 0.7\): enter millivolts, e.g. 700 for 0.7 V/);
+		bad(
+			ramp((i) => [0.007 * i, 0.007 * i, 0.007 * i]),
+			/look like volts \(white reads 0.7\): enter millivolts, e.g. 700 for 0.7 V/
+		);
 		// unterminated volts (1.4 at white) too
-		bad(ramp((i) => [0.014 * i, 0.014 * i, 0.014 * i]), /look like volts/);
+		bad(
+			ramp((i) => [0.014 * i, 0.014 * i, 0.014 * i]),
+			/look like volts/
+		);
 		expect(readingsLookLikeVolts(ramp((i) => [0.007 * i, 0.007 * i, 0.0071 * i]).steps)).toBe(true);
 		// a dead output (every step near 0 mV) is a reading, not volts: it grades failing
 		expect(readingsLookLikeVolts(ramp(() => [0.2, 0.2, 0.2]).steps)).toBe(false);

@@ -11,14 +11,25 @@ describe('module boundary', () => {
 			const text = readFileSync(join(srcDir, f), 'utf8');
 			const imports = [...text.matchAll(/from\s+'([^']+)'/g)].map((m) => m[1]);
 			// ../enums is the plain list of domain vocabularies (bands), itself import-free.
-			for (const spec of imports) expect(spec === 'zod' || spec === '../enums' || spec.startsWith('./'), `${f} imports ${spec}`).toBe(true);
+			for (const spec of imports)
+				expect(spec === 'zod' || spec === '../enums' || spec.startsWith('./'), `${f} imports ${spec}`).toBe(true);
 		}
 		const enums = readFileSync(join(srcDir, '../enums.ts'), 'utf8');
 		expect([...enums.matchAll(/from\s+'([^']+)'/g)]).toEqual([]);
 	});
 
 	it('exports the public interface other parts call', () => {
-		for (const name of ['analyzeLevels', 'deltaE2000', 'bt1886', 'importTrace', 'whatIf', 'bestFit', 'aggregateRuns', 'LevelInputError', 'RUBRIC'])
+		for (const name of [
+			'analyzeLevels',
+			'deltaE2000',
+			'bt1886',
+			'importTrace',
+			'whatIf',
+			'bestFit',
+			'aggregateRuns',
+			'LevelInputError',
+			'RUBRIC'
+		])
 			expect(levels).toHaveProperty(name);
 		expect(levels.RUBRIC_VERSION).toBe('sg-levels-2');
 	});

@@ -26,7 +26,9 @@ describe('expectedGrade', () => {
 	it('leaves out the revision itself and names other revisions of the same converter', () => {
 		const e = expectedGrade({ revisionId: 1, converterId: 20 }, runs)!;
 		expect(e.runs).toBe(3);
-		expect(e.basis).toBe('from 3 runs of this chip in 2 other converters and 1 other revision of this converter; not yet measured');
+		expect(e.basis).toBe(
+			'from 3 runs of this chip in 2 other converters and 1 other revision of this converter; not yet measured'
+		);
 	});
 
 	it('is null with nothing to go on, or with mixed rubric versions', () => {
@@ -40,16 +42,21 @@ describe('expectedGrade', () => {
 describe('backtestExpected (leave one out)', () => {
 	it('counts exact and within-one-band predictions', () => {
 		const chipRuns = new Map<number, ChipRun[]>([
-			[1, [
-				{ revisionId: 1, converterId: 1, report: report(1.0) },
-				{ revisionId: 2, converterId: 2, report: report(1.0) },
-				{ revisionId: 3, converterId: 3, report: report(1.06) }
-			]],
+			[
+				1,
+				[
+					{ revisionId: 1, converterId: 1, report: report(1.0) },
+					{ revisionId: 2, converterId: 2, report: report(1.0) },
+					{ revisionId: 3, converterId: 3, report: report(1.06) }
+				]
+			],
 			[2, [{ revisionId: 4, converterId: 4, report: report(1.0) }]]
 		]);
 		const bands = new Map([...chipRuns.values()].flat().map((r) => [r.revisionId, r.report.band]));
 		const res = backtestExpected(
-			[1, 2, 3].map((id) => ({ revisionId: id, converterId: id, chipId: 1, band: bands.get(id)! })).concat([{ revisionId: 4, converterId: 4, chipId: 2, band: bands.get(4)! }]),
+			[1, 2, 3]
+				.map((id) => ({ revisionId: id, converterId: id, chipId: 1, band: bands.get(id)! }))
+				.concat([{ revisionId: 4, converterId: 4, chipId: 2, band: bands.get(4)! }]),
 			chipRuns
 		);
 		expect(res.predicted).toBe(3);

@@ -3,7 +3,10 @@ import type { LevelInput, LevelStepInput } from '../../../src/lib/levels';
 export const STEPS = [0, 10, 20, 30, 40, 50, 60, 70, 80, 90, 100];
 
 /** A full 11-step input; `f` gives [r, g, b] in mV for an IRE step. */
-export function ramp(f: (ire: number) => [number, number, number] = (i) => [7 * i, 7 * i, 7 * i], fullScaleMv?: number): LevelInput {
+export function ramp(
+	f: (ire: number) => [number, number, number] = (i) => [7 * i, 7 * i, 7 * i],
+	fullScaleMv?: number
+): LevelInput {
 	const steps: LevelStepInput[] = STEPS.map((ire) => {
 		const [r, g, b] = f(ire);
 		return { ire, r, g, b };

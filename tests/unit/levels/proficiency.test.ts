@@ -158,7 +158,9 @@ describe('revisionConsensus', () => {
 		const di = c.runs.find((r) => r.runId === 4)!;
 		expect(di.signal).toBe('action');
 		expect(di.worstAt?.ire).toBe(100);
-		expect(di.reason).toMatch(/^100 IRE (red|green|blue) reads [\d.]+ IRE above the consensus of 4 runs by 4 testers \(z = [\d.]+\)$/);
+		expect(di.reason).toMatch(
+			/^100 IRE (red|green|blue) reads [\d.]+ IRE above the consensus of 4 runs by 4 testers \(z = [\d.]+\)$/
+		);
 		for (const r of c.runs.filter((r) => r.runId !== 4)) expect(r.signal).not.toBe('action');
 	});
 });
@@ -182,7 +184,13 @@ describe('fitLine against simple-statistics 7 (general-purpose reference)', () =
 		expect(f.seIntercept).toBeCloseTo(s * Math.sqrt(1 / xs.length + ss.mean(xs) ** 2 / sxx), 10);
 		// and r^2 agrees with the library's own rSquared
 		const r2 = 1 - sse / ss.sumNthPowerDeviations(ys, 2);
-		expect(r2).toBeCloseTo(ss.rSquared(xs.map((x, i) => [x, ys[i]]), line), 10);
+		expect(r2).toBeCloseTo(
+			ss.rSquared(
+				xs.map((x, i) => [x, ys[i]]),
+				line
+			),
+			10
+		);
 	});
 
 	it('is exact with zero standard errors on a perfect line, and refuses degenerate input', () => {
@@ -224,7 +232,9 @@ describe('tester verdicts', () => {
 		expect(flagged[0].status).toBe('reads-high');
 		expect(flagged[0].gainPercent!).toBeGreaterThan(4);
 		expect(flagged[0].gainPercent!).toBeLessThan(6);
-		expect(flagged[0].verdict).toBe("Reads about 5 % high across 6 converters: check the scope's vertical calibration and the 75 ohm load.");
+		expect(flagged[0].verdict).toBe(
+			"Reads about 5 % high across 6 converters: check the scope's vertical calibration and the 75 ohm load."
+		);
 		for (const t of report.testers.filter((t) => !t.flagged)) {
 			expect(t.status).toBe('consistent');
 			expect(Math.abs(t.gainPercent!)).toBeLessThan(1);

@@ -51,16 +51,21 @@ describe('score monotonicity (fast-check)', () => {
 
 	it('the worst deviation never falls and dE00 at the moved step never falls for a single-channel move from exact', () => {
 		fc.assert(
-			fc.property(fc.integer({ min: 1, max: 10 }), channel, fc.double({ min: 0.1, max: 100, noNaN: true }), (k, c, extra) => {
-				const base = build(Array.from({ length: 11 }, () => [0, 0, 0] as [number, number, number]));
-				const moved = base.map((s) => ({ ...s }));
-				moved[k][c] += extra;
-				const a = analyzeLevels({ steps: base });
-				const b = analyzeLevels({ steps: moved });
-				expect(b.worstDeviationIre).toBeGreaterThanOrEqual(a.worstDeviationIre);
-				expect(b.steps[k].deltaE00).toBeGreaterThan(0);
-				expect(b.score).toBeLessThan(100);
-			}),
+			fc.property(
+				fc.integer({ min: 1, max: 10 }),
+				channel,
+				fc.double({ min: 0.1, max: 100, noNaN: true }),
+				(k, c, extra) => {
+					const base = build(Array.from({ length: 11 }, () => [0, 0, 0] as [number, number, number]));
+					const moved = base.map((s) => ({ ...s }));
+					moved[k][c] += extra;
+					const a = analyzeLevels({ steps: base });
+					const b = analyzeLevels({ steps: moved });
+					expect(b.worstDeviationIre).toBeGreaterThanOrEqual(a.worstDeviationIre);
+					expect(b.steps[k].deltaE00).toBeGreaterThan(0);
+					expect(b.score).toBeLessThan(100);
+				}
+			),
 			{ numRuns: 200 }
 		);
 	});

@@ -1,7 +1,13 @@
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { LevelInputError, TRACE_WARNING_WORDS, analyzeLevels, importTrace, traceToLevelInput } from '../../../src/lib/levels';
+import {
+	LevelInputError,
+	TRACE_WARNING_WORDS,
+	analyzeLevels,
+	importTrace,
+	traceToLevelInput
+} from '../../../src/lib/levels';
 import { renderCsv, synthesize } from '../../../fixtures/traces/generate';
 import { LINE, TRACE_SPECS } from '../../../fixtures/traces/specs';
 
@@ -23,11 +29,14 @@ function rejects(text: string, re: RegExp, options?: Parameters<typeof importTra
 }
 
 describe('fixtures', () => {
-	it.each(TRACE_SPECS.map((s) => [s.file, s] as const))('%s is up to date with generate.ts and under 200 KB', (file, spec) => {
-		const text = read(file);
-		expect(text).toBe(renderCsv(spec));
-		expect(text.length).toBeLessThan(200 * 1024);
-	});
+	it.each(TRACE_SPECS.map((s) => [s.file, s] as const))(
+		'%s is up to date with generate.ts and under 200 KB',
+		(file, spec) => {
+			const text = read(file);
+			expect(text).toBe(renderCsv(spec));
+			expect(text.length).toBeLessThan(200 * 1024);
+		}
+	);
 	it('good-3ch.csv is a clean 3-channel trace with a header', () => {
 		expect(read('good-3ch.csv').split('\n')[0]).toBe('Time (s),Red (V),Green (V),Blue (V)');
 	});
@@ -60,12 +69,25 @@ describe('importTrace recovers the levels within 2 mV', () => {
 	});
 
 	it('reads units from the header or, without one, from the magnitudes', () => {
-		expect(importTrace(read('good-3ch.csv')).channels[0]).toMatchObject({ unit: 'V', unitFrom: 'header', column: 'Red (V)' });
-		expect(importTrace(read('crushed-1ch-semicolon-mv.csv')).channels[0]).toMatchObject({ unit: 'mV', unitFrom: 'header', channel: 'g' });
+		expect(importTrace(read('good-3ch.csv')).channels[0]).toMatchObject({
+			unit: 'V',
+			unitFrom: 'header',
+			column: 'Red (V)'
+		});
+		expect(importTrace(read('crushed-1ch-semicolon-mv.csv')).channels[0]).toMatchObject({
+			unit: 'mV',
+			unitFrom: 'header',
+			channel: 'g'
+		});
 		const noHeader = importTrace(read('bluehigh-3ch-noheader-mv.csv'));
 		expect(noHeader.channels[0]).toMatchObject({ unit: 'mV', unitFrom: 'magnitude' });
-		expect(noHeader.warnings).toEqual(expect.arrayContaining(['no-header', 'units-from-magnitude', 'channel-order-assumed']));
-		expect(importTrace(read('clipped-1ch-noheader-v.csv')).channels[0]).toMatchObject({ unit: 'V', unitFrom: 'magnitude' });
+		expect(noHeader.warnings).toEqual(
+			expect.arrayContaining(['no-header', 'units-from-magnitude', 'channel-order-assumed'])
+		);
+		expect(importTrace(read('clipped-1ch-noheader-v.csv')).channels[0]).toMatchObject({
+			unit: 'V',
+			unitFrom: 'magnitude'
+		});
 	});
 
 	it('splits a stretch holding two equal steps (clipped 90 and 100 IRE) by the step duration', () => {
@@ -93,7 +115,16 @@ describe('importTrace recovers the levels within 2 mV', () => {
 		expect(u.channels[2]).toMatchObject({ channel: 'b', unit: 'V', unitFrom: 'header' });
 		const tabbed = base.map((l) => l.replaceAll(',', '\t')).join('\n');
 		expect(importTrace(tabbed).steps[10].r).toBeCloseTo(spec.channels[0].levels[10], 0);
-		const quoted = base.map((l, i) => (i === 0 ? l.split(',').map((f) => `"${f}"`).join(',') : l + ',')).join('\n');
+		const quoted = base
+			.map((l, i) =>
+				i === 0
+					? l
+							.split(',')
+							.map((f) => `"${f}"`)
+							.join(',')
+					: l + ','
+			)
+			.join('\n');
 		expect(importTrace(quoted).channels.map((c) => c.channel)).toEqual(['r', 'g', 'b']);
 	});
 
@@ -115,7 +146,9 @@ describe('importTrace recovers the levels within 2 mV', () => {
 		expect(() => traceToLevelInput(crushed)).toThrow(/green only; measure red and blue too/);
 		const report = analyzeLevels(traceToLevelInput(crushed, { copyMissing: true }));
 		expect(report.band).toBe('failing');
-		expect(report.findings.find((f) => f.code === 'shadows-dark')!.text).toMatch(/^Shadows too dark: 28(\.\d)? mV at 10 IRE/);
+		expect(report.findings.find((f) => f.code === 'shadows-dark')!.text).toMatch(
+			/^Shadows too dark: 28(\.\d)? mV at 10 IRE/
+		);
 	});
 });
 
@@ -151,7 +184,10 @@ describe('scope exports as they really come (fixtures made by generate.ts, our o
 	});
 	it('a staircase with another step count is refused saying how many steps it found, never relabelled', () => {
 		rejects(read('bad-9-steps.csv'), /found 9 step levels rising one after another, expected 11/);
-		rejects(read('bad-16-steps.csv'), /^16 steps on green \(Green \(V\)\), expected 11: found a staircase of 16 levels/);
+		rejects(
+			read('bad-16-steps.csv'),
+			/^16 steps on green \(Green \(V\)\), expected 11: found a staircase of 16 levels/
+		);
 		// falling the other way round too
 		const spec = TRACE_SPECS.find((s) => s.file === 'bad-16-steps.csv')!;
 		rejects(renderCsv({ ...spec, descending: true }), /^16 steps on green .* 16 levels falling/);
@@ -179,5 +215,6 @@ describe('importTrace rejects malformed traces with a clear message', () => {
 		rejects(Array.from({ length: 200 }, (_, i) => `${i % 7},${i}`).join('\n'), /not a time column/);
 	});
 	it('too few samples', () => rejects('0,0\n1,0.1\n2,0.2', /too few samples/));
-	it('bad channel mapping option', () => rejects(read('good-3ch.csv'), /options.channels/, { channels: ['r', 'r', 'b'] }));
+	it('bad channel mapping option', () =>
+		rejects(read('good-3ch.csv'), /options.channels/, { channels: ['r', 'r', 'b'] }));
 });

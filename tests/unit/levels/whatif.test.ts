@@ -34,7 +34,9 @@ describe('whatIf (interpolating the measured transfer curve)', () => {
 		expect(report.band).toBe('failing');
 		expect(clipping.white).toEqual([100]);
 		expect(clipping.black).toEqual([]);
-		expect(clipping.words).toBe("This setting clips: 100 IRE goes past the source's white and shows as white (highlight detail lost).");
+		expect(clipping.words).toBe(
+			"This setting clips: 100 IRE goes past the source's white and shows as white (highlight detail lost)."
+		);
 		// a smaller gain that stays inside the range does not clip
 		expect(whatIf(input, { gain: 0.98, blackLiftIre: 1 }).clipping).toEqual({ black: [], white: [], words: null });
 	});
@@ -45,7 +47,9 @@ describe('whatIf (interpolating the measured transfer curve)', () => {
 		expect(steps[1].g).toBe(0); // 10 - 15 = -5 IRE: the source sends black
 		expect(steps[2].g).toBeCloseTo(35, 10); // 20 - 15 = 5 IRE
 		expect(clipping.black).toEqual([0, 10]);
-		expect(clipping.words).toBe("This setting clips: 0 and 10 IRE fall below the source's black and show as black (shadow detail lost).");
+		expect(clipping.words).toBe(
+			"This setting clips: 0 and 10 IRE fall below the source's black and show as black (shadow detail lost)."
+		);
 		expect(transformSignalIre(10, { blackLiftIre: -15 })).toBe(0);
 		expect(unclippedSignalIre(10, { blackLiftIre: -15 })).toBeCloseTo(-5, 10);
 		// limited-to-full pushes 0 IRE below black and 100 IRE past white (codes 16..235 expanded to 0..255)
@@ -74,8 +78,25 @@ describe('whatIf (interpolating the measured transfer curve)', () => {
 	});
 
 	it('clamps at 0 mV when the signal is pushed below black', () => {
-		expect(interpolateCurve([[0, 0], [10, 70], [20, 140]], -10)).toBe(0);
-		expect(interpolateCurve([[0, 5], [10, 70]], 20)).toBeCloseTo(135, 10);
+		expect(
+			interpolateCurve(
+				[
+					[0, 0],
+					[10, 70],
+					[20, 140]
+				],
+				-10
+			)
+		).toBe(0);
+		expect(
+			interpolateCurve(
+				[
+					[0, 5],
+					[10, 70]
+				],
+				20
+			)
+		).toBeCloseTo(135, 10);
 		const { steps } = whatIf(ramp(), { blackLiftIre: -20 });
 		expect(steps[1].g).toBe(0);
 		expect(steps[3].g).toBeCloseTo(70, 10);
@@ -106,7 +127,9 @@ describe('bestFit (per-channel least squares)', () => {
 		const fit = bestFit(perfectExcept(10, [25, 25, 25]));
 		expect(fit.rescuable).toBe(false);
 		expect(fit.report.band).not.toBe('exact');
-		expect(fit.verdict).toMatch(/^No source setting can rescue it: even the best gain and offset per channel leave \d+\.\d IRE RMS on red/);
+		expect(fit.verdict).toMatch(
+			/^No source setting can rescue it: even the best gain and offset per channel leave \d+\.\d IRE RMS on red/
+		);
 	});
 
 	it('leaves a residual for a bent curve (crushed shadows), in mV and IRE', () => {
@@ -123,7 +146,7 @@ describe('bestFit (per-channel least squares)', () => {
 	});
 });
 
-describe('aggregateRuns (house rubric sg-levels-2: the median of the graded runs\' bands; worse middle band for an even count)', () => {
+describe("aggregateRuns (house rubric sg-levels-2: the median of the graded runs' bands; worse middle band for an even count)", () => {
 	const exact = analyzeLevels(ramp());
 	const close = analyzeLevels(perfectExcept(50, [360, 360, 360]));
 	const fair = analyzeLevels(perfectExcept(50, [370, 370, 370]));
@@ -132,7 +155,13 @@ describe('aggregateRuns (house rubric sg-levels-2: the median of the graded runs
 	const unterminated = analyzeLevels(ramp((i) => [14 * i, 14 * i, 14 * i]));
 
 	it('the fixtures land in the bands they are named for', () => {
-		expect([exact, close, fair, poor, failing].map((r) => r.band)).toEqual(['exact', 'close', 'fair', 'poor', 'failing']);
+		expect([exact, close, fair, poor, failing].map((r) => r.band)).toEqual([
+			'exact',
+			'close',
+			'fair',
+			'poor',
+			'failing'
+		]);
 	});
 
 	it('Close, Poor and Failing give Poor (the middle band), whatever the scores', () => {

@@ -9,7 +9,12 @@ import { downsampleSteps, windowFigures, type ChangePoint } from '../../../src/l
 const DAY = 86_400_000;
 const NOW = new Date('2026-03-01T00:00:00Z');
 const at = (daysAgo: number) => new Date(NOW.getTime() - daysAgo * DAY);
-const pt = (daysAgo: number, priceMinor: number | null, stock: ChangePoint['stock'], currency = 'EUR'): ChangePoint => ({ at: at(daysAgo), priceMinor, currency, stock });
+const pt = (
+	daysAgo: number,
+	priceMinor: number | null,
+	stock: ChangePoint['stock'],
+	currency = 'EUR'
+): ChangePoint => ({ at: at(daysAgo), priceMinor, currency, stock });
 
 /** A scripted history (days ago, price, stock). */
 const SCRIPT: ChangePoint[] = [
@@ -56,7 +61,13 @@ describe('windowFigures', () => {
 		expect(f.coveredHours).toBe(240);
 		expect(f.buyableShare).toBe(1);
 		expect(f.restocks).toBe(0);
-		expect(windowFigures([], at(30), NOW)).toMatchObject({ lowestMinor: null, medianMinor: null, buyableShare: null, restocks: 0, typicalRestockHours: null });
+		expect(windowFigures([], at(30), NOW)).toMatchObject({
+			lowestMinor: null,
+			medianMinor: null,
+			buyableShare: null,
+			restocks: 0,
+			typicalRestockHours: null
+		});
 	});
 
 	it('prices in another currency than the latest are left out rather than mixed', () => {
@@ -76,7 +87,12 @@ describe('downsampleSteps', () => {
 		const points: ChangePoint[] = [];
 		for (let h = 0; h < 365 * 24; h++) {
 			const price = 2000 + Math.round(300 * Math.sin(h / 50)) + (h === 4321 ? -900 : 0) + (h === 777 ? 900 : 0);
-			points.push({ at: new Date(from.getTime() + h * 3_600_000), priceMinor: price, currency: 'EUR', stock: h % 48 < 30 ? 'in_stock' : 'out_of_stock' });
+			points.push({
+				at: new Date(from.getTime() + h * 3_600_000),
+				priceMinor: price,
+				currency: 'EUR',
+				stock: h % 48 < 30 ? 'in_stock' : 'out_of_stock'
+			});
 		}
 		const out = downsampleSteps(points, from, NOW, 300);
 		expect(out.length).toBeLessThanOrEqual(300);

@@ -51,10 +51,14 @@ describe('Retry-After (RFC 9110 10.2.3)', () => {
 	});
 	it('without a Date header, measures an HTTP-date against real time', () => {
 		const real = Date.parse('2026-02-01T00:00:00Z');
-		expect(parseRetryAfter(new Date(real + 90_000).toUTCString(), now, null, real)?.getTime()).toBe(now.getTime() + 90_000);
+		expect(parseRetryAfter(new Date(real + 90_000).toUTCString(), now, null, real)?.getTime()).toBe(
+			now.getTime() + 90_000
+		);
 	});
 	it('a date in the past means no wait; absurd waits are clamped; garbage is ignored', () => {
-		expect(parseRetryAfter('Thu, 01 Jan 1970 00:00:00 GMT', now, 'Wed, 21 Oct 2015 07:28:00 GMT')?.getTime()).toBe(now.getTime());
+		expect(parseRetryAfter('Thu, 01 Jan 1970 00:00:00 GMT', now, 'Wed, 21 Oct 2015 07:28:00 GMT')?.getTime()).toBe(
+			now.getTime()
+		);
 		expect(parseRetryAfter('99999999', now)?.getTime()).toBe(now.getTime() + MAX_RETRY_AFTER_MS);
 		expect(parseRetryAfter('soon', now)).toBeNull();
 		expect(parseRetryAfter('-5', now)).toBeNull();
@@ -88,7 +92,7 @@ describe('private addresses (SSRF guard)', () => {
 		['fd12::1', true], // RFC 4193 unique local
 		['fe80::1', true],
 		['::ffff:127.0.0.1', true],
-		['2001:db8::1', true], // RFC 3849 documentation: not routable, refused like the rest
+		['2001:db8::1', true] // RFC 3849 documentation: not routable, refused like the rest
 	])('%s -> %s', (ip, expected) => {
 		expect(isPrivateAddress(ip)).toBe(expected);
 	});
@@ -98,8 +102,12 @@ describe('feed config', () => {
 	it("the listing's config overrides the shop's, key by key", () => {
 		const shop = { selectors: { price: '.p', stock: '.s' } };
 		expect(mergeFeedConfig(shop, null)).toEqual(shop);
-		expect(mergeFeedConfig(shop, { selectors: { price: '.x', stock: '.y' } })).toEqual({ selectors: { price: '.x', stock: '.y' } });
-		expect(mergeFeedConfig({ apiMapping: { price: 'a', stock: 'b' } }, { selectors: { price: '.x', stock: '.y' } })).toEqual({
+		expect(mergeFeedConfig(shop, { selectors: { price: '.x', stock: '.y' } })).toEqual({
+			selectors: { price: '.x', stock: '.y' }
+		});
+		expect(
+			mergeFeedConfig({ apiMapping: { price: 'a', stock: 'b' } }, { selectors: { price: '.x', stock: '.y' } })
+		).toEqual({
 			apiMapping: { price: 'a', stock: 'b' },
 			selectors: { price: '.x', stock: '.y' }
 		});

@@ -2,8 +2,20 @@ import { describe, expect, it } from 'vitest';
 import { createWriteQueue } from '../../../src/lib/server/polling/write-queue';
 import type { PendingPoll, PollResult } from '../../../src/lib/server/polling/record';
 
-const item = (listingId: number): PendingPoll => ({ c: { listingId } as PendingPoll['c'], verdict: { kind: 'not_modified', detail: '' }, now: new Date(0) });
-const result = (p: PendingPoll): PollResult => ({ listingId: p.c.listingId, shopId: 1, outcome: 'not_modified', at: p.now, detail: '', changed: false, events: [] });
+const item = (listingId: number): PendingPoll => ({
+	c: { listingId } as PendingPoll['c'],
+	verdict: { kind: 'not_modified', detail: '' },
+	now: new Date(0)
+});
+const result = (p: PendingPoll): PollResult => ({
+	listingId: p.c.listingId,
+	shopId: 1,
+	outcome: 'not_modified',
+	at: p.now,
+	detail: '',
+	changed: false,
+	events: []
+});
 
 /** A writer whose batches finish when the test says so. */
 function manualWriter() {
@@ -58,7 +70,7 @@ describe('createWriteQueue (group commit)', () => {
 		await q.idle();
 	});
 
-	it('hands a failed batch\'s error to each of its polls', async () => {
+	it("hands a failed batch's error to each of its polls", async () => {
 		const q = createWriteQueue(async () => Promise.reject(new Error('db away')));
 		await expect(q.push(item(7))).rejects.toThrow('db away');
 	});

@@ -1,5 +1,11 @@
 import { describe, expect, it } from 'vitest';
-import { bestOfferByConverter, convertMinor, formatMoney, regionFromAcceptLanguage, type CurrentOffer } from '../../../src/lib/pricing';
+import {
+	bestOfferByConverter,
+	convertMinor,
+	formatMoney,
+	regionFromAcceptLanguage,
+	type CurrentOffer
+} from '../../../src/lib/pricing';
 
 // Invented rates for the checks (units per 1 EUR).
 const rates = { EUR: 1, USD: 1.08, GBP: 0.85, JPY: 162, AUD: 1.65 };
@@ -25,10 +31,50 @@ describe('convertMinor', () => {
 describe('bestOfferByConverter', () => {
 	const base = { shopName: 'S', url: 'http://x', lastCheckedAt: null, lastSuccessAt: null } as const;
 	const offers: CurrentOffer[] = [
-		{ ...base, listingId: 1, converterId: 7, shopSlug: 'a', shopRegion: 'eu', shipsTo: ['eu'], priceMinor: 1500, currency: 'EUR', stock: 'in_stock' },
-		{ ...base, listingId: 2, converterId: 7, shopSlug: 'b', shopRegion: 'uk', shipsTo: ['uk', 'eu'], priceMinor: 1020, currency: 'GBP', stock: 'in_stock' },
-		{ ...base, listingId: 3, converterId: 7, shopSlug: 'c', shopRegion: 'eu', shipsTo: ['eu'], priceMinor: 900, currency: 'EUR', stock: 'out_of_stock' },
-		{ ...base, listingId: 4, converterId: 7, shopSlug: 'd', shopRegion: 'na', shipsTo: ['na'], priceMinor: 500, currency: 'USD', stock: 'in_stock' }
+		{
+			...base,
+			listingId: 1,
+			converterId: 7,
+			shopSlug: 'a',
+			shopRegion: 'eu',
+			shipsTo: ['eu'],
+			priceMinor: 1500,
+			currency: 'EUR',
+			stock: 'in_stock'
+		},
+		{
+			...base,
+			listingId: 2,
+			converterId: 7,
+			shopSlug: 'b',
+			shopRegion: 'uk',
+			shipsTo: ['uk', 'eu'],
+			priceMinor: 1020,
+			currency: 'GBP',
+			stock: 'in_stock'
+		},
+		{
+			...base,
+			listingId: 3,
+			converterId: 7,
+			shopSlug: 'c',
+			shopRegion: 'eu',
+			shipsTo: ['eu'],
+			priceMinor: 900,
+			currency: 'EUR',
+			stock: 'out_of_stock'
+		},
+		{
+			...base,
+			listingId: 4,
+			converterId: 7,
+			shopSlug: 'd',
+			shopRegion: 'na',
+			shipsTo: ['na'],
+			priceMinor: 500,
+			currency: 'USD',
+			stock: 'in_stock'
+		}
 	];
 	it('picks the cheapest buyable offer that serves the region, in the display currency', () => {
 		const best = bestOfferByConverter(offers, 'eu', 'EUR', rates).get(7)!;

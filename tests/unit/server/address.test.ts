@@ -8,7 +8,12 @@
 import { createServer, type Server } from 'node:http';
 import type { AddressInfo } from 'node:net';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { addressProblem, assertFetchableUrl, guardedFetch, type Resolver } from '../../../src/lib/server/security/address';
+import {
+	addressProblem,
+	assertFetchableUrl,
+	guardedFetch,
+	type Resolver
+} from '../../../src/lib/server/security/address';
 import { isPrivateAddress } from '../../../src/lib/server/polling/net';
 
 const refused: Array<[string, RegExp]> = [
@@ -72,27 +77,50 @@ describe('addressProblem', () => {
 		expect(addressProblem(ip)).toMatch(why);
 		expect(isPrivateAddress(ip.replace(/^\[|\]$/g, ''))).toBe(true);
 	});
-	it.each(['93.184.216.34', '8.8.4.4', '1.1.1.1', '172.32.0.1', '100.128.0.1', '2606:4700::1111', '2a00:1450:4001::200e', '2001:4860:4860::8888'])(
-		'%s is public',
-		(ip) => {
-			expect(addressProblem(ip)).toBeNull();
-			expect(isPrivateAddress(ip)).toBe(false);
-		}
-	);
+	it.each([
+		'93.184.216.34',
+		'8.8.4.4',
+		'1.1.1.1',
+		'172.32.0.1',
+		'100.128.0.1',
+		'2606:4700::1111',
+		'2a00:1450:4001::200e',
+		'2001:4860:4860::8888'
+	])('%s is public', (ip) => {
+		expect(addressProblem(ip)).toBeNull();
+		expect(isPrivateAddress(ip)).toBe(false);
+	});
 });
 
 describe('URL checks', () => {
-	const resolver = (answers: Record<string, string[]>): Resolver => async (host) =>
-		(answers[host] ?? []).map((address) => ({ address, family: address.includes(':') ? 6 : 4 }));
+	const resolver =
+		(answers: Record<string, string[]>): Resolver =>
+		async (host) =>
+			(answers[host] ?? []).map((address) => ({ address, family: address.includes(':') ? 6 : 4 }));
 
 	it('refuses when any resolved address is private, and IP-literal hosts in any spelling', async () => {
 		const r = resolver({ 'shop.example': ['93.184.216.34', '10.0.0.5'] });
-		await expect(assertFetchableUrl(new URL('https://shop.example/p'), false, r)).rejects.toThrow(/10\.0\.0\.5, a private address/);
+		await expect(assertFetchableUrl(new URL('https://shop.example/p'), false, r)).rejects.toThrow(
+			/10\.0\.0\.5, a private address/
+		);
 		// WHATWG URL canonicalises these hosts; each must still be refused.
-		for (const u of ['http://[::ffff:7f00:1]/', 'http://[::ffff:127.0.0.1]:8080/', 'http://0x7f000001/', 'http://2130706433/', 'http://127.1/', 'http://[64:ff9b::a9fe:a9fe]/'])
+		for (const u of [
+			'http://[::ffff:7f00:1]/',
+			'http://[::ffff:127.0.0.1]:8080/',
+			'http://0x7f000001/',
+			'http://2130706433/',
+			'http://127.1/',
+			'http://[64:ff9b::a9fe:a9fe]/'
+		])
 			await expect(assertFetchableUrl(new URL(u), false, r), u).rejects.toThrow(/refusing/);
 		await expect(assertFetchableUrl(new URL('ftp://shop.example/'), false, r)).rejects.toThrow(/only http and https/);
-		expect(await assertFetchableUrl(new URL('https://shop.example/p'), false, resolver({ 'shop.example': ['93.184.216.34'] }))).toEqual(['93.184.216.34']);
+		expect(
+			await assertFetchableUrl(
+				new URL('https://shop.example/p'),
+				false,
+				resolver({ 'shop.example': ['93.184.216.34'] })
+			)
+		).toEqual(['93.184.216.34']);
 	});
 });
 
@@ -108,7 +136,10 @@ describe('guardedFetch pins the checked address in the connection', () => {
 
 	it('connects to the address its own lookup returned (the host name is not in DNS)', async () => {
 		let lookups = 0;
-		const f = guardedFetch({ allowPrivate: true, resolver: async () => (lookups++, [{ address: '127.0.0.1', family: 4 }]) });
+		const f = guardedFetch({
+			allowPrivate: true,
+			resolver: async () => (lookups++, [{ address: '127.0.0.1', family: 4 }])
+		});
 		const res = await f(`http://shop.invalid:${port}/`);
 		expect(await res.text()).toBe(`hello from shop.invalid:${port}`);
 		expect(lookups).toBe(1);
@@ -120,7 +151,9 @@ describe('guardedFetch pins the checked address in the connection', () => {
 		const answers = ['93.184.216.34', '127.0.0.1'];
 		let call = 0;
 		const resolverSeq: Resolver = async () => [{ address: answers[Math.min(call++, 1)], family: 4 }];
-		expect(await assertFetchableUrl(new URL(`http://shop.invalid:${port}/`), false, resolverSeq)).toEqual(['93.184.216.34']);
+		expect(await assertFetchableUrl(new URL(`http://shop.invalid:${port}/`), false, resolverSeq)).toEqual([
+			'93.184.216.34'
+		]);
 		const f = guardedFetch({ allowPrivate: false, resolver: resolverSeq });
 		const err = await f(`http://shop.invalid:${port}/`).then(
 			() => null,

@@ -19,8 +19,26 @@ const view: OutboxContext['view'] = {
 	buyUrl: 'http://127.0.0.1:4311/products/beam-bridge?a=1&b=2',
 	converterUrl: 'http://127.0.0.1:4300/converters/vantacove-beam-bridge'
 };
-const ctx = (watchId: number): OutboxContext => ({ outboxId: watchId, attempts: 1, messageId: `<m${watchId}@x>`, mode: 'instant', watchId, userId: 'u', email: `w${watchId}@example.test`, paused: false, eventId: 1, listingId: 1, soldOutSince: null, quiet: null, view });
-const opts = { baseUrl: 'http://127.0.0.1:4300', secret: 'test-secret-0123456789abcdef', smtp: { host: 'x', port: 25, secure: false, from: 'Scopegrade <alerts@scopegrade.test>' } };
+const ctx = (watchId: number): OutboxContext => ({
+	outboxId: watchId,
+	attempts: 1,
+	messageId: `<m${watchId}@x>`,
+	mode: 'instant',
+	watchId,
+	userId: 'u',
+	email: `w${watchId}@example.test`,
+	paused: false,
+	eventId: 1,
+	listingId: 1,
+	soldOutSince: null,
+	quiet: null,
+	view
+});
+const opts = {
+	baseUrl: 'http://127.0.0.1:4300',
+	secret: 'test-secret-0123456789abcdef',
+	smtp: { host: 'x', port: 25, secure: false, from: 'Scopegrade <alerts@scopegrade.test>' }
+};
 
 describe('buildAlertMail with a shared rendering', () => {
 	it('matches the one-off rendering for every watcher, unsubscribe link included', () => {

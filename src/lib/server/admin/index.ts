@@ -21,7 +21,13 @@ export async function roleCounts(db: Database) {
 export async function listUsers(db: Database, q = '', limit = 100) {
 	const where = q ? or(ilike(t.users.email, `%${q}%`), ilike(t.users.name, `%${q}%`)) : undefined;
 	return db
-		.select({ id: t.users.id, email: t.users.email, name: t.users.name, role: t.users.role, createdAt: t.users.createdAt })
+		.select({
+			id: t.users.id,
+			email: t.users.email,
+			name: t.users.name,
+			role: t.users.role,
+			createdAt: t.users.createdAt
+		})
 		.from(t.users)
 		.where(where)
 		.orderBy(sql`case ${t.users.role} when 'admin' then 0 when 'curator' then 1 else 2 end`, asc(t.users.email))
@@ -51,7 +57,19 @@ export async function changeRole(db: Database, actor: Actor, input: z.infer<type
 	});
 }
 
-const SHOP_FIELDS = ['slug', 'name', 'region', 'currency', 'shipsTo', 'baseUrl', 'defaultFormat', 'feedConfig', 'maxConcurrency', 'minSpacingMs', 'active'] as const;
+const SHOP_FIELDS = [
+	'slug',
+	'name',
+	'region',
+	'currency',
+	'shipsTo',
+	'baseUrl',
+	'defaultFormat',
+	'feedConfig',
+	'maxConcurrency',
+	'minSpacingMs',
+	'active'
+] as const;
 
 function shopValues(input: z.infer<typeof shopSchema>) {
 	return {
@@ -82,8 +100,17 @@ export async function createShop(db: Database, actor: Actor, input: z.infer<type
 	if (!slug) throw new FieldError('slug', 'Type a slug (letters and digits).');
 	try {
 		return await db.transaction(async (tx) => {
-			const [row] = await tx.insert(t.shops).values({ slug, ...shopValues(input) }).returning();
-			await audit(tx, { actorId: actor.id, action: 'created', entity: 'shop', entityId: row.id, after: pick(row, SHOP_FIELDS) });
+			const [row] = await tx
+				.insert(t.shops)
+				.values({ slug, ...shopValues(input) })
+				.returning();
+			await audit(tx, {
+				actorId: actor.id,
+				action: 'created',
+				entity: 'shop',
+				entityId: row.id,
+				after: pick(row, SHOP_FIELDS)
+			});
 			return row;
 		});
 	} catch (err) {
@@ -104,7 +131,11 @@ export async function updateShop(db: Database, actor: Actor, id: number, input: 
 }
 
 export async function listRates(db: Database, limit = 100) {
-	return db.select().from(t.exchangeRates).orderBy(desc(t.exchangeRates.day), asc(t.exchangeRates.base), asc(t.exchangeRates.quote)).limit(limit);
+	return db
+		.select()
+		.from(t.exchangeRates)
+		.orderBy(desc(t.exchangeRates.day), asc(t.exchangeRates.base), asc(t.exchangeRates.quote))
+		.limit(limit);
 }
 
 /** Add (or correct) the rate for one currency pair on one day. */
@@ -113,7 +144,9 @@ export async function addRate(db: Database, actor: Actor, input: z.infer<typeof 
 		const [before] = await tx
 			.select()
 			.from(t.exchangeRates)
-			.where(sql`${t.exchangeRates.base} = ${input.base} and ${t.exchangeRates.quote} = ${input.quote} and ${t.exchangeRates.day} = ${input.day}`);
+			.where(
+				sql`${t.exchangeRates.base} = ${input.base} and ${t.exchangeRates.quote} = ${input.quote} and ${t.exchangeRates.day} = ${input.day}`
+			);
 		const [row] = await tx
 			.insert(t.exchangeRates)
 			.values({ base: input.base, quote: input.quote, day: input.day, rate: String(input.rate), source: 'manual' })

@@ -13,7 +13,15 @@ import type { Database } from '../db/client';
 import { rowsOf, type Db } from './db';
 import { renderDigestMessage, unsubscribeHeaders, unsubscribeUrl } from './message';
 import { localParts } from './schedule';
-import { backoffMs, claimDue, createAlertTransport, DEFAULT_MAX_ATTEMPTS, mailDomain, settle, type SenderOptions } from './sender';
+import {
+	backoffMs,
+	claimDue,
+	createAlertTransport,
+	DEFAULT_MAX_ATTEMPTS,
+	mailDomain,
+	settle,
+	type SenderOptions
+} from './sender';
 import { signUnsubscribeToken } from './token';
 import { loadOutboxContexts } from './view';
 
@@ -64,14 +72,30 @@ export async function sendDigests(db: Db, options: SenderOptions & { now?: Date 
 				report.notYet++; // today's digest went out; the rest waits for tomorrow's
 				continue;
 			}
-			const ids = await claimDue(db, { owner, limit: 500, leaseMs: options.leaseMs ?? 300_000, mode: 'digest', domain, userId: m.user_id });
+			const ids = await claimDue(db, {
+				owner,
+				limit: 500,
+				leaseMs: options.leaseMs ?? 300_000,
+				mode: 'digest',
+				domain,
+				userId: m.user_id
+			});
 			if (ids.length === 0) continue;
 			report.members++;
-			await db.execute(sql`update alert_outbox set digest_key = ${key} where id in (${sql.join(ids.map((id) => sql`${id}`), sql`, `)})`);
+			await db.execute(
+				sql`update alert_outbox set digest_key = ${key} where id in (${sql.join(
+					ids.map((id) => sql`${id}`),
+					sql`, `
+				)})`
+			);
 			const contexts = await loadOutboxContexts(db, ids, { baseUrl: base, rates });
 			const keep = [];
 			for (const c of contexts) {
-				if (c.paused || !c.email) await settle(db, c.outboxId, owner, { kind: 'skip', reason: c.paused ? 'watch paused before the digest' : 'no e-mail address' });
+				if (c.paused || !c.email)
+					await settle(db, c.outboxId, owner, {
+						kind: 'skip',
+						reason: c.paused ? 'watch paused before the digest' : 'no e-mail address'
+					});
 				else keep.push(c);
 			}
 			if (keep.length === 0) {
@@ -93,13 +117,29 @@ export async function sendDigests(db: Db, options: SenderOptions & { now?: Date 
 					messageId: `<digest-${digestId}@${domain}>`,
 					headers: { ...unsubscribeHeaders(base, token, domain), 'Auto-Submitted': 'auto-generated' }
 				});
-				if (info.rejected?.length) throw Object.assign(new Error(`recipient rejected: ${info.rejected.join(', ')}`), { responseCode: 550 });
+				if (info.rejected?.length)
+					throw Object.assign(new Error(`recipient rejected: ${info.rejected.join(', ')}`), { responseCode: 550 });
 			} catch (err) {
 				report.failed++;
 				const error = (err as Error).message ?? String(err);
 				for (const c of keep) {
 					const dead = c.attempts >= maxAttempts || ((err as { responseCode?: number }).responseCode ?? 0) >= 500;
-					await settle(db, c.outboxId, owner, dead ? { kind: 'dead', error: `digest: ${error}` } : { kind: 'retry', error: `digest: ${error}`, delayMs: backoffMs(c.attempts, options.backoffBaseMs ?? 120_000, options.backoffMaxMs ?? 4 * 3_600_000) });
+					await settle(
+						db,
+						c.outboxId,
+						owner,
+						dead
+							? { kind: 'dead', error: `digest: ${error}` }
+							: {
+									kind: 'retry',
+									error: `digest: ${error}`,
+									delayMs: backoffMs(
+										c.attempts,
+										options.backoffBaseMs ?? 120_000,
+										options.backoffMaxMs ?? 4 * 3_600_000
+									)
+								}
+					);
 				}
 				continue;
 			}

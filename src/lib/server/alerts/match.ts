@@ -85,7 +85,10 @@ interface EventContext {
 function pgArray(value: string | string[] | null): string[] {
 	if (Array.isArray(value)) return value;
 	if (!value) return [];
-	return value.replace(/^\{|\}$/g, '').split(',').filter(Boolean);
+	return value
+		.replace(/^\{|\}$/g, '')
+		.split(',')
+		.filter(Boolean);
 }
 
 /**
@@ -120,7 +123,11 @@ export async function bestExpectedBand(db: Db, converterId: number): Promise<str
  * Match stock events against watches and write their outbox rows. Call it inside the
  * transaction that wrote the events.
  */
-export async function matchStockEvents(tx: Db, events: StockEventInput[], options: MatchOptions = {}): Promise<MatchResult[]> {
+export async function matchStockEvents(
+	tx: Db,
+	events: StockEventInput[],
+	options: MatchOptions = {}
+): Promise<MatchResult[]> {
 	const quietHours = options.quietHours ?? quietHoursFromEnv();
 	let rates = options.rates;
 	const results: MatchResult[] = [];
@@ -164,7 +171,12 @@ export async function matchStockEvents(tx: Db, events: StockEventInput[], option
 			);
 			if (prev) {
 				await tx.execute(sql`update stock_event set quiet = true where id = ${ctx.id}`);
-				results.push({ eventId: ev.id, outcome: 'quiet', reason: `restock ${prev.id} less than ${quietHours} h before`, created: 0 });
+				results.push({
+					eventId: ev.id,
+					outcome: 'quiet',
+					reason: `restock ${prev.id} less than ${quietHours} h before`,
+					created: 0
+				});
 				continue;
 			}
 		}

@@ -66,7 +66,8 @@ export function senderOptionsFromEnv(env: Record<string, string | undefined>, sm
 		const raw = env[name];
 		if (raw === undefined || raw === '') return fallback;
 		const n = Number(raw);
-		if (!Number.isFinite(n) || n < min || n > max) throw new Error(`${name} must be a number between ${min} and ${max}, got "${raw}"`);
+		if (!Number.isFinite(n) || n < min || n > max)
+			throw new Error(`${name} must be a number between ${min} and ${max}, got "${raw}"`);
 		return n;
 	};
 	const baseUrl = env.PUBLIC_BASE_URL || env.ORIGIN;
@@ -90,7 +91,12 @@ export function senderOptionsFromEnv(env: Record<string, string | undefined>, sm
  * message (same settings as the sign-in mail's transport otherwise).
  */
 export function createAlertTransport(smtp: SmtpConfig, connections = 4): Transporter {
-	return nodemailer.createTransport({ ...transportOptions(smtp), pool: true, maxConnections: connections, maxMessages: 500 });
+	return nodemailer.createTransport({
+		...transportOptions(smtp),
+		pool: true,
+		maxConnections: connections,
+		maxMessages: 500
+	});
 }
 
 /** Delay before retry number `attempts` (1-based): base * 2^(attempts-1), capped, with 20 % jitter. */
@@ -108,7 +114,10 @@ export function mailDomain(from: string): string {
  * Claim due rows of one mode: pending and due, or 'sending' with an expired lease (a sender
  * died). Each claim counts as an attempt and fixes the row's Message-ID.
  */
-export async function claimDue(db: Db, opts: { owner: string; limit: number; leaseMs: number; mode: 'instant' | 'digest'; domain: string; userId?: string }) {
+export async function claimDue(
+	db: Db,
+	opts: { owner: string; limit: number; leaseMs: number; mode: 'instant' | 'digest'; domain: string; userId?: string }
+) {
 	const rows = rowsOf<{ id: number }>(
 		await db.execute(sql`
 			with due as (
@@ -178,7 +187,9 @@ function isPermanent(err: unknown): boolean {
 /** The server could not be reached at all: nothing about this message is at fault. */
 function isConnectionError(err: unknown): boolean {
 	const code = (err as { code?: string }).code;
-	return code === 'ECONNECTION' || code === 'ESOCKET' || code === 'ETIMEDOUT' || code === 'EDNS' || code === 'ECONNREFUSED';
+	return (
+		code === 'ECONNECTION' || code === 'ESOCKET' || code === 'ETIMEDOUT' || code === 'EDNS' || code === 'ECONNREFUSED'
+	);
 }
 
 function errorText(err: unknown): string {
@@ -194,7 +205,11 @@ const UNSUBSCRIBE_MARK = 'sg-unsubscribe-mark-7f3a';
  * alert view (one restock fans out to many watchers who differ only in their unsubscribe link), so
  * a large fan-out renders its template once.
  */
-export function buildAlertMail(ctx: OutboxContext, opts: Pick<SenderOptions, 'baseUrl' | 'secret' | 'smtp'>, rendered?: Map<string, RenderedMessage>) {
+export function buildAlertMail(
+	ctx: OutboxContext,
+	opts: Pick<SenderOptions, 'baseUrl' | 'secret' | 'smtp'>,
+	rendered?: Map<string, RenderedMessage>
+) {
 	const token = signUnsubscribeToken(opts.secret, { kind: 'watch', watchId: ctx.watchId });
 	const base = opts.baseUrl.replace(/\/+$/, '');
 	const domain = mailDomain(opts.smtp.from);
@@ -240,7 +255,13 @@ export async function sendDue(db: Db, options: SenderOptions): Promise<SendRepor
 	const report: SendReport = { claimed: 0, sent: 0, retried: 0, dead: 0, deferred: 0, skipped: 0, released: 0 };
 	const log = options.log ?? (() => {});
 
-	const ids = await claimDue(db, { owner, limit: options.batchSize ?? 50, leaseMs, mode: 'instant', domain: mailDomain(options.smtp.from) });
+	const ids = await claimDue(db, {
+		owner,
+		limit: options.batchSize ?? 50,
+		leaseMs,
+		mode: 'instant',
+		domain: mailDomain(options.smtp.from)
+	});
 	report.claimed = ids.length;
 	if (ids.length === 0) return report;
 
@@ -254,21 +275,38 @@ export async function sendDue(db: Db, options: SenderOptions): Promise<SendRepor
 
 	async function handle(ctx: OutboxContext) {
 		if (!ctx.email) {
-			if (await settle(db, ctx.outboxId, owner, { kind: 'dead', error: 'the member has no e-mail address' })) report.dead++;
+			if (await settle(db, ctx.outboxId, owner, { kind: 'dead', error: 'the member has no e-mail address' }))
+				report.dead++;
 			return;
 		}
 		if (ctx.paused) {
-			if (await settle(db, ctx.outboxId, owner, { kind: 'skip', reason: 'watch paused or unsubscribed before delivery' })) report.skipped++;
+			if (
+				await settle(db, ctx.outboxId, owner, { kind: 'skip', reason: 'watch paused or unsubscribed before delivery' })
+			)
+				report.skipped++;
 			return;
 		}
 		if (ctx.soldOutSince) {
 			// Telling someone to hurry for a unit that is already gone again breaks their trust.
-			if (await settle(db, ctx.outboxId, owner, { kind: 'skip', reason: `sold out again at ${ctx.soldOutSince.toISOString()} before delivery` })) report.skipped++;
+			if (
+				await settle(db, ctx.outboxId, owner, {
+					kind: 'skip',
+					reason: `sold out again at ${ctx.soldOutSince.toISOString()} before delivery`
+				})
+			)
+				report.skipped++;
 			return;
 		}
 		const until = quietUntil(now, ctx.quiet);
 		if (until) {
-			if (await settle(db, ctx.outboxId, owner, { kind: 'defer', until, reason: `quiet hours until ${until.toISOString()}` })) report.deferred++;
+			if (
+				await settle(db, ctx.outboxId, owner, {
+					kind: 'defer',
+					until,
+					reason: `quiet hours until ${until.toISOString()}`
+				})
+			)
+				report.deferred++;
 			return;
 		}
 		if (unreachable) {
@@ -277,14 +315,18 @@ export async function sendDue(db: Db, options: SenderOptions): Promise<SendRepor
 		}
 		try {
 			const info = await transport.sendMail(buildAlertMail(ctx, options, rendered));
-			if (info.rejected?.length) throw Object.assign(new Error(`recipient rejected: ${info.rejected.join(', ')}`), { responseCode: 550 });
+			if (info.rejected?.length)
+				throw Object.assign(new Error(`recipient rejected: ${info.rejected.join(', ')}`), { responseCode: 550 });
 		} catch (err) {
 			const error = errorText(err);
 			const delayMs = backoffMs(ctx.attempts, baseMs, maxMs);
 			// The rest of the batch waits as long as this row, without spending an attempt.
 			if (isConnectionError(err)) unreachable = { error: `SMTP server unreachable: ${error}`, delayMs };
 			if (isPermanent(err) || ctx.attempts >= maxAttempts) {
-				if (await settle(db, ctx.outboxId, owner, { kind: 'dead', error: `after ${ctx.attempts} attempt(s): ${error}` })) report.dead++;
+				if (
+					await settle(db, ctx.outboxId, owner, { kind: 'dead', error: `after ${ctx.attempts} attempt(s): ${error}` })
+				)
+					report.dead++;
 			} else if (await settle(db, ctx.outboxId, owner, { kind: 'retry', error, delayMs })) {
 				report.retried++;
 			}

@@ -20,12 +20,15 @@ function tag(secret: string, scope: UnsubscribeScope): Buffer {
 }
 
 function requireSecret(secret: string | undefined): string {
-	if (!secret || secret.length < 16) throw new Error('AUTH_SECRET must be set (16 characters or more) to sign unsubscribe links');
+	if (!secret || secret.length < 16)
+		throw new Error('AUTH_SECRET must be set (16 characters or more) to sign unsubscribe links');
 	return secret;
 }
 
 function encodeUser(userId: string): string {
-	return UUID.test(userId) ? Buffer.from(userId.replace(/-/g, ''), 'hex').toString('base64url') : `~${Buffer.from(userId).toString('base64url')}`;
+	return UUID.test(userId)
+		? Buffer.from(userId.replace(/-/g, ''), 'hex').toString('base64url')
+		: `~${Buffer.from(userId).toString('base64url')}`;
 }
 
 function decodeUser(text: string): string | null {

@@ -18,7 +18,11 @@ export interface UnsubscribeOutcome {
 }
 
 /** What a token would stop, without acting on it (for the GET confirmation page). */
-export async function describeToken(db: Db, secret: string | undefined, token: string): Promise<{ scope: UnsubscribeScope; what: string; alreadyStopped: boolean } | null> {
+export async function describeToken(
+	db: Db,
+	secret: string | undefined,
+	token: string
+): Promise<{ scope: UnsubscribeScope; what: string; alreadyStopped: boolean } | null> {
 	const scope = verifyUnsubscribeToken(secret, token);
 	if (!scope) return null;
 	if (scope.kind === 'watch') {
@@ -37,14 +41,20 @@ export async function describeToken(db: Db, secret: string | undefined, token: s
 }
 
 /** Apply a token. Null when the token is malformed or forged. */
-export async function unsubscribeWithToken(db: Db, secret: string | undefined, token: string): Promise<UnsubscribeOutcome | null> {
+export async function unsubscribeWithToken(
+	db: Db,
+	secret: string | undefined,
+	token: string
+): Promise<UnsubscribeOutcome | null> {
 	const described = await describeToken(db, secret, token);
 	if (!described) return null;
 	const { scope, what } = described;
 	const watchFilter = scope.kind === 'watch' ? sql`id = ${scope.watchId}` : sql`user_id = ${scope.userId}`;
 	const outboxFilter = scope.kind === 'watch' ? sql`watch_id = ${scope.watchId}` : sql`user_id = ${scope.userId}`;
 	const paused = rowsOf<{ id: number }>(
-		await db.execute(sql`update watch set paused = true, updated_at = now() where ${watchFilter} and not paused returning id`)
+		await db.execute(
+			sql`update watch set paused = true, updated_at = now() where ${watchFilter} and not paused returning id`
+		)
 	);
 	// Rows a sender holds right now ('sending') are left to it: it re-reads the watch before sending.
 	const skipped = rowsOf<{ id: number }>(

@@ -64,7 +64,10 @@ interface Row {
 function pgArray<T extends string>(value: string | string[] | null): T[] {
 	if (Array.isArray(value)) return value as T[];
 	if (!value) return [];
-	return value.replace(/^\{|\}$/g, '').split(',').filter(Boolean) as T[];
+	return value
+		.replace(/^\{|\}$/g, '')
+		.split(',')
+		.filter(Boolean) as T[];
 }
 
 const toDate = (v: string | Date | null) => (v == null ? null : v instanceof Date ? v : new Date(v));
@@ -102,7 +105,13 @@ async function expectedFacts(db: Db, converterId: number): Promise<RevisionFacts
 
 /** The converter's best current revision with a one-line finding from its latest accepted run. */
 export async function revisionFacts(db: Db, converterId: number): Promise<RevisionFacts> {
-	const [rev] = rowsOf<{ id: number; band: Band | null; code: string; deviation_ire: number | null; band_reason: string | null }>(
+	const [rev] = rowsOf<{
+		id: number;
+		band: Band | null;
+		code: string;
+		deviation_ire: number | null;
+		band_reason: string | null;
+	}>(
 		await db.execute(sql`
 			select id, band, code, deviation_ire, band_reason from revision
 			where converter_id = ${converterId} and band is not null
@@ -137,7 +146,11 @@ function firstSentence(text: string): string {
 }
 
 /** Load everything the sender and the digest need for some outbox rows. */
-export async function loadOutboxContexts(db: Db, ids: number[], opts: { baseUrl: string; rates: RatesPerEur }): Promise<OutboxContext[]> {
+export async function loadOutboxContexts(
+	db: Db,
+	ids: number[],
+	opts: { baseUrl: string; rates: RatesPerEur }
+): Promise<OutboxContext[]> {
 	if (ids.length === 0) return [];
 	const rows = rowsOf<Row>(
 		await db.execute(sql`
@@ -162,7 +175,10 @@ export async function loadOutboxContexts(db: Db, ids: number[], opts: { baseUrl:
 				where x.listing_id = e.listing_id and x.kind = 'restock' and x.at < e.at
 				order by x.at desc limit 1
 			) pr on true
-			where o.id in (${sql.join(ids.map((id) => sql`${id}`), sql`, `)})
+			where o.id in (${sql.join(
+				ids.map((id) => sql`${id}`),
+				sql`, `
+			)})
 			order by o.id`)
 	);
 	const facts = new Map<number, RevisionFacts>();

@@ -49,7 +49,10 @@ export const watchFormSchema = z
 				.refine(isKnownCurrencyCode, { message: 'Use a three-letter currency code such as EUR.' })
 				.optional()
 		),
-		region: z.preprocess(emptyToUndefined, z.enum(REGION_CODES, { message: 'Pick a region from the list.' }).optional()),
+		region: z.preprocess(
+			emptyToUndefined,
+			z.enum(REGION_CODES, { message: 'Pick a region from the list.' }).optional()
+		),
 		needsAudio: checkbox,
 		alsoPriceDrops: checkbox,
 		/** Let a revision's expected grade (not yet measured) meet the band limit. */
@@ -65,7 +68,11 @@ export const watchFormSchema = z
 		}
 		if (v.maxPrice !== undefined && v.priceCurrency) {
 			if (!fitsMinorUnits(v.maxPrice, v.priceCurrency)) {
-				ctx.addIssue({ code: 'custom', path: ['maxPrice'], message: `${v.priceCurrency} has ${minorDigits(v.priceCurrency)} decimal places.` });
+				ctx.addIssue({
+					code: 'custom',
+					path: ['maxPrice'],
+					message: `${v.priceCurrency} has ${minorDigits(v.priceCurrency)} decimal places.`
+				});
 			}
 		}
 		if (!v.converterSlug && !v.minBand && v.maxPrice === undefined) {
@@ -83,20 +90,38 @@ export type WatchForm = z.infer<typeof watchFormSchema>;
 export const prefsFormSchema = z
 	.object({
 		alertMode: z.enum(['instant', 'digest'], { message: 'Choose instant e-mails or a daily digest.' }),
-		quietFrom: z.preprocess(emptyToUndefined, z.coerce.number().int().min(0).max(23, { message: 'Hours run from 0 to 23.' }).optional()),
-		quietTo: z.preprocess(emptyToUndefined, z.coerce.number().int().min(0).max(23, { message: 'Hours run from 0 to 23.' }).optional()),
+		quietFrom: z.preprocess(
+			emptyToUndefined,
+			z.coerce.number().int().min(0).max(23, { message: 'Hours run from 0 to 23.' }).optional()
+		),
+		quietTo: z.preprocess(
+			emptyToUndefined,
+			z.coerce.number().int().min(0).max(23, { message: 'Hours run from 0 to 23.' }).optional()
+		),
 		timezone: z
 			.string()
 			.trim()
 			.min(1, { message: 'Enter a time zone such as Europe/Berlin.' })
 			.refine(isTimeZone, { message: 'Unknown time zone: use a name such as Europe/Berlin or America/Toronto.' }),
-		digestHour: z.coerce.number({ message: 'Pick an hour.' }).int().min(0).max(23, { message: 'Hours run from 0 to 23.' })
+		digestHour: z.coerce
+			.number({ message: 'Pick an hour.' })
+			.int()
+			.min(0)
+			.max(23, { message: 'Hours run from 0 to 23.' })
 	})
 	.superRefine((v, ctx) => {
 		if ((v.quietFrom === undefined) !== (v.quietTo === undefined)) {
-			ctx.addIssue({ code: 'custom', path: [v.quietFrom === undefined ? 'quietFrom' : 'quietTo'], message: 'Give both ends of the quiet hours, or neither.' });
+			ctx.addIssue({
+				code: 'custom',
+				path: [v.quietFrom === undefined ? 'quietFrom' : 'quietTo'],
+				message: 'Give both ends of the quiet hours, or neither.'
+			});
 		} else if (v.quietFrom !== undefined && v.quietFrom === v.quietTo) {
-			ctx.addIssue({ code: 'custom', path: ['quietTo'], message: 'Quiet hours must end at a different hour than they start.' });
+			ctx.addIssue({
+				code: 'custom',
+				path: ['quietTo'],
+				message: 'Quiet hours must end at a different hour than they start.'
+			});
 		}
 	});
 
@@ -179,9 +204,11 @@ async function valuesFromForm(db: Db, form: WatchForm) {
 	const converterId = form.converterSlug ? await converterBySlug(db, form.converterSlug) : null;
 	if (form.shopIds.length) {
 		const known = await db.select({ id: t.shops.id }).from(t.shops).where(inArray(t.shops.id, form.shopIds));
-		if (known.length !== new Set(form.shopIds).size) throw new WatchInputError('shopIds', 'One of those shops is not in our list.');
+		if (known.length !== new Set(form.shopIds).size)
+			throw new WatchInputError('shopIds', 'One of those shops is not in our list.');
 	}
-	const maxPriceMinor = form.maxPrice !== undefined && form.priceCurrency ? toMinor(form.maxPrice, form.priceCurrency) : null;
+	const maxPriceMinor =
+		form.maxPrice !== undefined && form.priceCurrency ? toMinor(form.maxPrice, form.priceCurrency) : null;
 	return {
 		converterId,
 		minBand: form.minBand ?? null,
@@ -198,7 +225,10 @@ async function valuesFromForm(db: Db, form: WatchForm) {
 /** Create a watch or rule from the form. */
 export async function createWatch(db: Db, userId: string, form: WatchForm) {
 	const values = await valuesFromForm(db, form);
-	const [row] = await db.insert(t.watches).values({ userId, ...values }).returning({ id: t.watches.id });
+	const [row] = await db
+		.insert(t.watches)
+		.values({ userId, ...values })
+		.returning({ id: t.watches.id });
 	return row.id;
 }
 
@@ -276,7 +306,13 @@ export interface Prefs {
 export async function getPrefs(db: Db, userId: string): Promise<Prefs> {
 	const [p] = await db.select().from(t.memberPrefs).where(eq(t.memberPrefs.userId, userId));
 	return p
-		? { alertMode: p.alertMode, quietFrom: p.quietFrom, quietTo: p.quietTo, timezone: p.timezone, digestHour: p.digestHour }
+		? {
+				alertMode: p.alertMode,
+				quietFrom: p.quietFrom,
+				quietTo: p.quietTo,
+				timezone: p.timezone,
+				digestHour: p.digestHour
+			}
 		: { alertMode: 'instant', quietFrom: null, quietTo: null, timezone: 'UTC', digestHour: 8 };
 }
 
@@ -293,7 +329,10 @@ export async function savePrefs(db: Db, userId: string, form: PrefsForm) {
 		digestHour: form.digestHour,
 		updatedAt: new Date()
 	};
-	await db.insert(t.memberPrefs).values({ userId, ...values }).onConflictDoUpdate({ target: t.memberPrefs.userId, set: values });
+	await db
+		.insert(t.memberPrefs)
+		.values({ userId, ...values })
+		.onConflictDoUpdate({ target: t.memberPrefs.userId, set: values });
 	await db
 		.update(t.alertOutbox)
 		.set({ mode: form.alertMode })

@@ -27,7 +27,9 @@ export const converterListQuery = catalogueParams
 /** GET /listings */
 export const listingsQuery = z
 	.object({
-		converter: z.string({ error: 'converter (a converter slug) is required' }).regex(SLUG_PATTERN, 'must be a converter slug'),
+		converter: z
+			.string({ error: 'converter (a converter slug) is required' })
+			.regex(SLUG_PATTERN, 'must be a converter slug'),
 		region: regionSchema.optional(),
 		currency: currencySchema.optional()
 	})
@@ -73,7 +75,13 @@ export interface ApiOperation {
 	query?: z.ZodObject;
 	body?: z.ZodType;
 	/** Success status and body: a components/schemas name, or a media type with a plain description. */
-	ok: { status: 200 | 201 | 204; schema?: string; media?: Record<string, object>; description: string; cached?: boolean };
+	ok: {
+		status: 200 | 201 | 204;
+		schema?: string;
+		media?: Record<string, object>;
+		description: string;
+		cached?: boolean;
+	};
 	/** Error statuses besides those the auth level implies (401, 403). */
 	errors: Array<400 | 404>;
 }
@@ -82,7 +90,8 @@ export const API_OPERATIONS: ApiOperation[] = [
 	{
 		path: '/converters',
 		method: 'get',
-		summary: 'Live converters by name with revisions, bands and the best offer in a region, a page at a time (page, limit; default 100)',
+		summary:
+			'Live converters by name with revisions, bands and the best offer in a region, a page at a time (page, limit; default 100)',
 		auth: 'public',
 		query: converterListQuery,
 		ok: { status: 200, schema: 'ConverterList', description: 'Converter list', cached: true },
@@ -144,7 +153,10 @@ export const API_OPERATIONS: ApiOperation[] = [
 		ok: {
 			status: 200,
 			description: 'The export',
-			media: { 'text/csv': { schema: { type: 'string' } }, 'application/json': { schema: { type: 'object', description: 'The rows with their licence and count' } } },
+			media: {
+				'text/csv': { schema: { type: 'string' } },
+				'application/json': { schema: { type: 'object', description: 'The rows with their licence and count' } }
+			},
 			cached: true
 		},
 		errors: [404]
@@ -154,7 +166,12 @@ export const API_OPERATIONS: ApiOperation[] = [
 		method: 'get',
 		summary: 'This description (OpenAPI 3.1)',
 		auth: 'public',
-		ok: { status: 200, description: 'The OpenAPI document', media: { 'application/json': { schema: { type: 'object' } } }, cached: true },
+		ok: {
+			status: 200,
+			description: 'The OpenAPI document',
+			media: { 'application/json': { schema: { type: 'object' } } },
+			cached: true
+		},
 		errors: []
 	},
 	{

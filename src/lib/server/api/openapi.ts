@@ -22,10 +22,14 @@ const stock = { type: 'string', enum: STOCK_STATES };
 const displayCurrency = (): Json => jsonSchema(currencySchema);
 const dateTime = { type: 'string', format: 'date-time' };
 const nullable = (schema: object) => ({ oneOf: [schema, { type: 'null' }] });
-const deviationIre = { type: ['number', 'null'], description: 'Worst deviation in IRE of the run the band was taken from (where the band mark places its marker)' };
+const deviationIre = {
+	type: ['number', 'null'],
+	description: 'Worst deviation in IRE of the run the band was taken from (where the band mark places its marker)'
+};
 const bandReason = {
 	oneOf: [{ type: 'string', enum: BAND_REASONS }, { type: 'null' }],
-	description: 'Why the band is not where the deviation falls: crushed 10 IRE step, a step lower than the one below, or channel spread'
+	description:
+		'Why the band is not where the deviation falls: crushed 10 IRE step, a step lower than the one below, or channel spread'
 };
 
 /** JSON Schema of a zod schema as the handler sees it after parsing (types, enums, bounds). */
@@ -47,14 +51,28 @@ function parameters(where: 'query' | 'path', schema: z.ZodObject | undefined): J
 }
 
 const problemRef = (name: string) => ({ $ref: `#/components/responses/${name}` });
-const ERROR_RESPONSES: Record<number, string> = { 400: 'BadRequest', 401: 'SignInRequired', 403: 'Forbidden', 404: 'NotFound' };
+const ERROR_RESPONSES: Record<number, string> = {
+	400: 'BadRequest',
+	401: 'SignInRequired',
+	403: 'Forbidden',
+	404: 'NotFound'
+};
 
 function operation(op: ApiOperation): Json {
 	const responses: Json = {};
-	const headers = op.ok.cached ? { ETag: { description: 'Strong validator; send it back in If-None-Match', schema: { type: 'string' } } } : undefined;
-	const content = op.ok.media ?? (op.ok.schema ? { 'application/json': { schema: { $ref: `#/components/schemas/${op.ok.schema}` } } } : undefined);
-	responses[String(op.ok.status)] = { description: op.ok.description, ...(headers ? { headers } : {}), ...(content ? { content } : {}) };
-	if (op.path === '/watches' && op.method === 'post') responses['200'] = { description: 'The watch existed already', content };
+	const headers = op.ok.cached
+		? { ETag: { description: 'Strong validator; send it back in If-None-Match', schema: { type: 'string' } } }
+		: undefined;
+	const content =
+		op.ok.media ??
+		(op.ok.schema ? { 'application/json': { schema: { $ref: `#/components/schemas/${op.ok.schema}` } } } : undefined);
+	responses[String(op.ok.status)] = {
+		description: op.ok.description,
+		...(headers ? { headers } : {}),
+		...(content ? { content } : {})
+	};
+	if (op.path === '/watches' && op.method === 'post')
+		responses['200'] = { description: 'The watch existed already', content };
 	if (op.ok.cached) responses['304'] = { description: 'Not modified (If-None-Match matched the ETag)' };
 	const statuses = new Set<number>(op.errors);
 	if (op.auth !== 'public') statuses.add(401);
@@ -65,7 +83,9 @@ function operation(op: ApiOperation): Json {
 		operationId: `${op.method}${op.path.replace(/[{}]/g, '').replace(/[^a-zA-Z0-9]+(.)?/g, (_m, c: string | undefined) => (c ? c.toUpperCase() : ''))}`,
 		...(op.auth === 'public' ? { security: [] } : { security: [{ session: [] }], 'x-role': op.auth }),
 		parameters: [...parameters('path', op.params), ...parameters('query', op.query)],
-		...(op.body ? { requestBody: { required: true, content: { 'application/json': { schema: jsonSchema(op.body) } } } } : {}),
+		...(op.body
+			? { requestBody: { required: true, content: { 'application/json': { schema: jsonSchema(op.body) } } } }
+			: {}),
 		responses
 	};
 }
@@ -95,7 +115,8 @@ export function openApiDocument(origin: string) {
 					type: 'apiKey',
 					in: 'cookie',
 					name: 'authjs.session-token',
-					description: "The sign-in session; `x-role` on an operation names the least role it needs (member < curator < admin)."
+					description:
+						'The sign-in session; `x-role` on an operation names the least role it needs (member < curator < admin).'
 				}
 			},
 			responses: {
@@ -117,7 +138,14 @@ export function openApiDocument(origin: string) {
 						errors: { type: 'object', additionalProperties: { type: 'string' }, description: 'Message per field path' }
 					}
 				},
-				Money: { type: 'object', required: ['minor', 'currency'], properties: { minor: { type: 'integer', description: 'Minor units (ISO 4217)' }, currency: { type: 'string' } } },
+				Money: {
+					type: 'object',
+					required: ['minor', 'currency'],
+					properties: {
+						minor: { type: 'integer', description: 'Minor units (ISO 4217)' },
+						currency: { type: 'string' }
+					}
+				},
 				Offer: {
 					type: ['object', 'null'],
 					properties: {
@@ -164,7 +192,22 @@ export function openApiDocument(origin: string) {
 						lastReviewedAt: { type: ['string', 'null'], format: 'date-time' }
 					}
 				},
-				ConverterList: { type: 'object', properties: { region, currency: displayCurrency(), licence: { type: 'string' }, total: { type: 'integer' }, page: { type: 'integer' }, pages: { type: 'integer' }, links: { type: 'object', properties: { next: { type: ['string', 'null'] }, prev: { type: ['string', 'null'] } } }, converters: { type: 'array', items: { $ref: '#/components/schemas/Converter' } } } },
+				ConverterList: {
+					type: 'object',
+					properties: {
+						region,
+						currency: displayCurrency(),
+						licence: { type: 'string' },
+						total: { type: 'integer' },
+						page: { type: 'integer' },
+						pages: { type: 'integer' },
+						links: {
+							type: 'object',
+							properties: { next: { type: ['string', 'null'] }, prev: { type: ['string', 'null'] } }
+						},
+						converters: { type: 'array', items: { $ref: '#/components/schemas/Converter' } }
+					}
+				},
 				RevisionDetail: {
 					type: 'object',
 					properties: {
@@ -172,13 +215,39 @@ export function openApiDocument(origin: string) {
 						revision: {
 							allOf: [
 								{ $ref: '#/components/schemas/Revision' },
-								{ type: 'object', properties: { runs: { type: 'array', items: { type: 'object', properties: { id: { type: 'integer' }, readings: { type: 'array' }, report: { type: 'object', description: 'Level report from the engine' } } } } } }
+								{
+									type: 'object',
+									properties: {
+										runs: {
+											type: 'array',
+											items: {
+												type: 'object',
+												properties: {
+													id: { type: 'integer' },
+													readings: { type: 'array' },
+													report: { type: 'object', description: 'Level report from the engine' }
+												}
+											}
+										}
+									}
+								}
 							]
 						}
 					}
 				},
-				ConverterDetail: { type: 'object', properties: { converter: { $ref: '#/components/schemas/Converter' }, listings: { type: 'array', items: { $ref: '#/components/schemas/Offer' } }, teardowns: { type: 'array' }, odds: { type: 'array' } } },
-				ListingList: { type: 'object', properties: { converter: { type: 'string' }, listings: { type: 'array', items: { type: 'object' } } } },
+				ConverterDetail: {
+					type: 'object',
+					properties: {
+						converter: { $ref: '#/components/schemas/Converter' },
+						listings: { type: 'array', items: { $ref: '#/components/schemas/Offer' } },
+						teardowns: { type: 'array' },
+						odds: { type: 'array' }
+					}
+				},
+				ListingList: {
+					type: 'object',
+					properties: { converter: { type: 'string' }, listings: { type: 'array', items: { type: 'object' } } }
+				},
 				FinderAnswer: {
 					type: 'object',
 					properties: {
@@ -186,7 +255,16 @@ export function openApiDocument(origin: string) {
 						currency: displayCurrency(),
 						results: {
 							type: 'array',
-							items: { type: 'object', properties: { rank: { type: 'integer' }, slug: { type: 'string' }, band: { oneOf: [band, { type: 'null' }] }, explanation: { type: 'string' }, notes: { type: 'array', items: { type: 'string' } } } }
+							items: {
+								type: 'object',
+								properties: {
+									rank: { type: 'integer' },
+									slug: { type: 'string' },
+									band: { oneOf: [band, { type: 'null' }] },
+									explanation: { type: 'string' },
+									notes: { type: 'array', items: { type: 'string' } }
+								}
+							}
 						}
 					}
 				},
@@ -208,8 +286,16 @@ export function openApiDocument(origin: string) {
 						createdAt: dateTime
 					}
 				},
-				WatchList: { type: 'object', required: ['watches'], properties: { watches: { type: 'array', items: { $ref: '#/components/schemas/Watch' } } } },
-				WatchCreated: { type: 'object', required: ['watch'], properties: { watch: { $ref: '#/components/schemas/Watch' } } },
+				WatchList: {
+					type: 'object',
+					required: ['watches'],
+					properties: { watches: { type: 'array', items: { $ref: '#/components/schemas/Watch' } } }
+				},
+				WatchCreated: {
+					type: 'object',
+					required: ['watch'],
+					properties: { watch: { $ref: '#/components/schemas/Watch' } }
+				},
 				WindowFigures: {
 					type: 'object',
 					properties: {
@@ -258,14 +344,23 @@ export function openApiDocument(origin: string) {
 							type: 'array',
 							items: {
 								type: 'object',
-								properties: { at: dateTime, priceMinor: { type: ['integer', 'null'] }, currency: { type: ['string', 'null'] }, stock, carried: { type: 'boolean' } }
+								properties: {
+									at: dateTime,
+									priceMinor: { type: ['integer', 'null'] },
+									currency: { type: ['string', 'null'] },
+									stock,
+									carried: { type: 'boolean' }
+								}
 							}
 						},
 						totalPoints: { type: 'integer' },
 						downsampled: { type: 'boolean' },
 						figures: {
 							type: 'object',
-							properties: { d30: { $ref: '#/components/schemas/WindowFigures' }, d90: { $ref: '#/components/schemas/WindowFigures' } }
+							properties: {
+								d30: { $ref: '#/components/schemas/WindowFigures' },
+								d90: { $ref: '#/components/schemas/WindowFigures' }
+							}
 						}
 					}
 				},
@@ -280,8 +375,20 @@ export function openApiDocument(origin: string) {
 							items: {
 								type: 'object',
 								properties: {
-									shop: { type: 'object', properties: { id: { type: 'integer' }, slug: { type: 'string' }, name: { type: 'string' }, active: { type: 'boolean' } } },
-									counts: { type: 'object', additionalProperties: { type: 'integer' }, description: 'Polls per outcome' },
+									shop: {
+										type: 'object',
+										properties: {
+											id: { type: 'integer' },
+											slug: { type: 'string' },
+											name: { type: 'string' },
+											active: { type: 'boolean' }
+										}
+									},
+									counts: {
+										type: 'object',
+										additionalProperties: { type: 'integer' },
+										description: 'Polls per outcome'
+									},
 									polls: { type: 'integer' },
 									failures: { type: 'integer' },
 									failureShare: { type: ['number', 'null'] },

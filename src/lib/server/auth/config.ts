@@ -23,7 +23,11 @@ const origin = configuredOrigin(env);
 export const authOrigin = origin;
 if (origin) (env as Record<string, string>).AUTH_URL = origin.origin;
 
-export const { handle: authHandle, signIn, signOut } = SvelteKitAuth({
+export const {
+	handle: authHandle,
+	signIn,
+	signOut
+} = SvelteKitAuth({
 	adapter: DrizzleAdapter(db, {
 		usersTable: users,
 		accountsTable: accounts,

@@ -34,7 +34,10 @@ export async function readTraceAction(db: Database, storage: Storage, actor: Act
 	if (!res.ok) {
 		const msg = (res.failure.data.form.message as { text?: string } | undefined)?.text;
 		const fieldErr = Object.values(res.failure.data.form.errors ?? {}).flat()[0];
-		return fail(res.failure.status, { form: res.failure.data.form, traceError: msg ?? fieldErr ?? 'The trace could not be read.' });
+		return fail(res.failure.status, {
+			form: res.failure.data.form,
+			traceError: msg ?? fieldErr ?? 'The trace could not be read.'
+		});
 	}
 	const preview = res.value;
 	Object.assign(form.data, formFromReadings(preview.steps), { traceFileId: preview.fileIds[0] ?? '' });
@@ -46,7 +49,9 @@ export async function saveRunAction(db: Database, actor: Actor, data: FormData, 
 	if (revisionId !== undefined) data.set('revisionId', String(revisionId));
 	const form = await validate(data, benchRunSchema);
 	if (!form.valid) return { ok: false as const, failure: fail(400, { form }) };
-	const extraIds = data.getAll('traceFileIds').filter((x): x is string => typeof x === 'string' && /^[0-9a-f-]{36}$/.test(x));
+	const extraIds = data
+		.getAll('traceFileIds')
+		.filter((x): x is string => typeof x === 'string' && /^[0-9a-f-]{36}$/.test(x));
 	const res = await attempt(form, () => saveBenchRun(db, actor, form.data, { traceFileIds: extraIds }));
 	if (!res.ok) return { ok: false as const, failure: res.failure };
 	return { ok: true as const, id: res.value.id, status: res.value.status, form };

@@ -83,7 +83,9 @@ function thin(samples: TraceImport['samples']): TracePreview['samples'] {
 	const pick = (xs: number[]) => xs.filter((_, i) => i % stride === 0).map((x) => Math.round(x * 1e9) / 1e9);
 	return {
 		time: pick(samples.time),
-		mv: Object.fromEntries(Object.entries(samples.mv).map(([k, v]) => [k, pick(v!).map((x) => Math.round(x * 10) / 10)]))
+		mv: Object.fromEntries(
+			Object.entries(samples.mv).map(([k, v]) => [k, pick(v!).map((x) => Math.round(x * 10) / 10)])
+		)
 	};
 }
 
@@ -113,7 +115,10 @@ export function readTraces(uploads: TraceUpload[], fullScaleMv = 700): Omit<Trac
 		});
 		for (const p of parts) {
 			if (p.imp.channels.length !== 1)
-				throw new FieldError(`trace_${p.slot}`, `${uploads.find((u) => u.slot === p.slot)!.name} has ${p.imp.channels.length} voltage columns; a per-channel file has one.`);
+				throw new FieldError(
+					`trace_${p.slot}`,
+					`${uploads.find((u) => u.slot === p.slot)!.name} has ${p.imp.channels.length} voltage columns; a per-channel file has one.`
+				);
 		}
 		merged = {
 			steps: ALL_STEPS_IRE.map((ire, i) => {
@@ -168,11 +173,26 @@ export async function readAndStoreTraces(
 ): Promise<TracePreview> {
 	const preview = readTraces(uploads, fullScaleMv);
 	const fileIds: string[] = [];
-	for (const u of uploads) fileIds.push(await storeTrace(db, storage, actor, u.name, new TextDecoder().decode(u.bytes)));
+	for (const u of uploads)
+		fileIds.push(await storeTrace(db, storage, actor, u.name, new TextDecoder().decode(u.bytes)));
 	return { ...preview, fileIds };
 }
 
-const RUN_FIELDS = ['revisionId', 'status', 'measuredBy', 'measuredOn', 'testSource', 'pattern', 'instrument', 'termination', 'fullScaleMv', 'notes', 'traceFileId', 'band', 'score'] as const;
+const RUN_FIELDS = [
+	'revisionId',
+	'status',
+	'measuredBy',
+	'measuredOn',
+	'testSource',
+	'pattern',
+	'instrument',
+	'termination',
+	'fullScaleMv',
+	'notes',
+	'traceFileId',
+	'band',
+	'score'
+] as const;
 
 /**
  * Save a bench run. Curators' runs count at once (accepted) and regrade the revision;
@@ -191,7 +211,10 @@ export async function saveBenchRun(
 	const curator = hasRole(actor.role, 'curator');
 	const traceIds = [...new Set([form.traceFileId, ...(opts.traceFileIds ?? [])].filter((x): x is string => !!x))];
 	return db.transaction(async (tx) => {
-		const [rev] = await tx.select({ id: t.revisions.id, converterId: t.revisions.converterId, retiredAt: t.revisions.retiredAt }).from(t.revisions).where(eq(t.revisions.id, form.revisionId));
+		const [rev] = await tx
+			.select({ id: t.revisions.id, converterId: t.revisions.converterId, retiredAt: t.revisions.retiredAt })
+			.from(t.revisions)
+			.where(eq(t.revisions.id, form.revisionId));
 		if (!rev) throw new FieldError('revisionId', 'That revision does not exist.');
 		for (const id of traceIds) await ownFile(tx, actor, id, 'trace');
 		const status = curator ? 'accepted' : 'pending';
@@ -211,10 +234,7 @@ export async function saveBenchRun(
 			readings
 		});
 		if (curator) {
-			await tx
-				.update(t.benchRuns)
-				.set({ reviewedById: actor.id, reviewedAt: now })
-				.where(eq(t.benchRuns.id, id));
+			await tx.update(t.benchRuns).set({ reviewedById: actor.id, reviewedAt: now }).where(eq(t.benchRuns.id, id));
 			await setFilesStatus(tx, traceIds, 'public');
 			await regradeRevision(tx, rev.id, now);
 			await tx.update(t.converters).set({ lastReviewedAt: now }).where(eq(t.converters.id, rev.converterId));
@@ -251,7 +271,10 @@ export async function supersedeBenchRun(
 		if (before.status === 'superseded') throw new FieldError(null, 'This run is already superseded.', 409);
 		if (input.supersededById !== undefined) {
 			if (input.supersededById === input.id) throw new FieldError('supersededById', 'A run cannot supersede itself.');
-			const [by] = await tx.select({ revisionId: t.benchRuns.revisionId }).from(t.benchRuns).where(eq(t.benchRuns.id, input.supersededById));
+			const [by] = await tx
+				.select({ revisionId: t.benchRuns.revisionId })
+				.from(t.benchRuns)
+				.where(eq(t.benchRuns.id, input.supersededById));
 			if (!by || by.revisionId !== before.revisionId)
 				throw new FieldError('supersededById', 'The newer run must be a run of the same revision.');
 		}
@@ -301,7 +324,10 @@ export async function reviewBenchRun(
 		await setFilesStatus(tx, [before.traceFileId], status === 'accepted' ? 'public' : 'rejected');
 		if (status === 'accepted') {
 			await regradeRevision(tx, before.revisionId, now);
-			const [rev] = await tx.select({ converterId: t.revisions.converterId }).from(t.revisions).where(eq(t.revisions.id, before.revisionId));
+			const [rev] = await tx
+				.select({ converterId: t.revisions.converterId })
+				.from(t.revisions)
+				.where(eq(t.revisions.id, before.revisionId));
 			await tx.update(t.converters).set({ lastReviewedAt: now }).where(eq(t.converters.id, rev.converterId));
 		} else {
 			await refreshRevisionChecks(tx, before.revisionId, now);
@@ -345,7 +371,15 @@ export async function runsOfRevision(db: Database, revisionId: number) {
 		.where(eq(t.benchRuns.revisionId, revisionId))
 		.orderBy(desc(t.benchRuns.measuredOn), desc(t.benchRuns.id));
 	const readings = runs.length
-		? await db.select().from(t.benchReadings).where(inArray(t.benchReadings.benchRunId, runs.map((r) => r.id)))
+		? await db
+				.select()
+				.from(t.benchReadings)
+				.where(
+					inArray(
+						t.benchReadings.benchRunId,
+						runs.map((r) => r.id)
+					)
+				)
 		: [];
 	return runs.map((r) => ({
 		...r,

@@ -17,7 +17,16 @@ type RevisionInput = z.infer<typeof revisionSchema>;
 
 const CHIP_FIELDS = ['slug', 'name', 'maker', 'notes', 'retiredAt'] as const;
 const CONVERTER_FIELDS = ['slug', 'brand', 'model', 'summary', 'hasAudioOut', 'power', 'outputs', 'retiredAt'] as const;
-const REVISION_FIELDS = ['converterId', 'code', 'chipId', 'boardMarking', 'seenFrom', 'seenTo', 'notes', 'retiredAt'] as const;
+const REVISION_FIELDS = [
+	'converterId',
+	'code',
+	'chipId',
+	'boardMarking',
+	'seenFrom',
+	'seenTo',
+	'notes',
+	'retiredAt'
+] as const;
 
 function chosenSlug(typed: string, from: string, field = 'slug') {
 	const slug = typed || slugify(from);
@@ -46,7 +55,10 @@ async function setRetired(
 ) {
 	// One code path for three tables: Drizzle cannot type a union of tables, so use the chip
 	// table's shape (all three share id, retiredAt and updatedAt).
-	const { table, fields } = RETIRABLE[entity] as unknown as { table: typeof t.chips; fields: readonly (keyof typeof t.chips.$inferSelect)[] };
+	const { table, fields } = RETIRABLE[entity] as unknown as {
+		table: typeof t.chips;
+		fields: readonly (keyof typeof t.chips.$inferSelect)[];
+	};
 	const now = new Date();
 	return auditedUpdate(db, actor, {
 		table,
@@ -74,7 +86,13 @@ export async function createChip(db: Database, actor: Actor, input: ChipInput) {
 				.insert(t.chips)
 				.values({ slug, name: input.name, maker: input.maker, notes: input.notes })
 				.returning();
-			await audit(tx, { actorId: actor.id, action: 'created', entity: 'chip', entityId: row.id, after: pick(row, CHIP_FIELDS) });
+			await audit(tx, {
+				actorId: actor.id,
+				action: 'created',
+				entity: 'chip',
+				entityId: row.id,
+				after: pick(row, CHIP_FIELDS)
+			});
 			return row;
 		});
 	} catch (err) {
@@ -231,9 +249,15 @@ export async function getRevision(db: Database, id: number) {
 }
 
 async function assertRevisionRefs(db: Database, input: RevisionInput) {
-	const [conv] = await db.select({ id: t.converters.id }).from(t.converters).where(eq(t.converters.id, input.converterId));
+	const [conv] = await db
+		.select({ id: t.converters.id })
+		.from(t.converters)
+		.where(eq(t.converters.id, input.converterId));
 	if (!conv) throw new FieldError('converterId', 'That converter does not exist.');
-	const [chip] = await db.select({ id: t.chips.id, retiredAt: t.chips.retiredAt }).from(t.chips).where(eq(t.chips.id, input.chipId));
+	const [chip] = await db
+		.select({ id: t.chips.id, retiredAt: t.chips.retiredAt })
+		.from(t.chips)
+		.where(eq(t.chips.id, input.chipId));
 	if (!chip) throw new FieldError('chipId', 'That chip does not exist.');
 }
 
@@ -257,12 +281,19 @@ export async function createRevision(db: Database, actor: Actor, input: Revision
 				.insert(t.revisions)
 				.values({ converterId: input.converterId, ...revisionValues(input) })
 				.returning();
-			await audit(tx, { actorId: actor.id, action: 'created', entity: 'revision', entityId: row.id, after: pick(row, REVISION_FIELDS) });
+			await audit(tx, {
+				actorId: actor.id,
+				action: 'created',
+				entity: 'revision',
+				entityId: row.id,
+				after: pick(row, REVISION_FIELDS)
+			});
 			await refreshExpectedForChips(tx, [row.chipId]);
 			return row;
 		});
 	} catch (err) {
-		if (isUniqueViolation(err)) throw new FieldError('code', 'This converter already has a revision with that code.', 409);
+		if (isUniqueViolation(err))
+			throw new FieldError('code', 'This converter already has a revision with that code.', 409);
 		throw err;
 	}
 }
@@ -286,13 +317,21 @@ export async function updateRevision(db: Database, actor: Actor, id: number, inp
 		await refreshExpectedForChips(db, [chipBefore ?? row.chipId, row.chipId]);
 		return row;
 	} catch (err) {
-		if (isUniqueViolation(err)) throw new FieldError('code', 'This converter already has a revision with that code.', 409);
+		if (isUniqueViolation(err))
+			throw new FieldError('code', 'This converter already has a revision with that code.', 409);
 		throw err;
 	}
 }
 
 export async function setRevisionRetired(db: Database, actor: Actor, id: number, retired: boolean, reason?: string) {
-	const row = (await setRetired(db, actor, 'revision', id, retired, reason)) as unknown as typeof t.revisions.$inferSelect;
+	const row = (await setRetired(
+		db,
+		actor,
+		'revision',
+		id,
+		retired,
+		reason
+	)) as unknown as typeof t.revisions.$inferSelect;
 	await refreshExpectedForChips(db, [row.chipId]);
 	return row;
 }
@@ -324,4 +363,3 @@ export async function catalogueOptions(db: Database) {
 	]);
 	return { converters: convs, chips: chipRows, revisions: revs };
 }
-

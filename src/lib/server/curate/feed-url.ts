@@ -27,7 +27,10 @@ export type FeedUrlCheck = { ok: true; url: URL; addresses: string[] } | { ok: f
 const defaultLookup: LookupFn = (host) => dnsLookup(host, { all: true, verbatim: true });
 
 function hostOf(u: URL) {
-	return u.hostname.toLowerCase().replace(/^\[|\]$/g, '').replace(/\.$/, '');
+	return u.hostname
+		.toLowerCase()
+		.replace(/^\[|\]$/g, '')
+		.replace(/\.$/, '');
 }
 
 /**
@@ -35,7 +38,11 @@ function hostOf(u: URL) {
  * Host match is exact (port included when either names one): `shop.example` does not
  * admit `evil.shop.example.attacker.test` nor another port on the same machine.
  */
-export async function checkFeedUrl(raw: string, shopBaseUrl: string, options: FeedUrlOptions = {}): Promise<FeedUrlCheck> {
+export async function checkFeedUrl(
+	raw: string,
+	shopBaseUrl: string,
+	options: FeedUrlOptions = {}
+): Promise<FeedUrlCheck> {
 	let url: URL;
 	try {
 		url = new URL(raw);
@@ -44,7 +51,8 @@ export async function checkFeedUrl(raw: string, shopBaseUrl: string, options: Fe
 	}
 	if (url.protocol !== 'http:' && url.protocol !== 'https:')
 		return { ok: false, reason: `Only http and https addresses can be read, not ${url.protocol.replace(':', '')}.` };
-	if (url.username || url.password) return { ok: false, reason: 'Addresses with a user name or password are not allowed.' };
+	if (url.username || url.password)
+		return { ok: false, reason: 'Addresses with a user name or password are not allowed.' };
 	let base: URL;
 	try {
 		base = new URL(shopBaseUrl);
@@ -61,7 +69,10 @@ export async function checkFeedUrl(raw: string, shopBaseUrl: string, options: Fe
 		try {
 			addresses = (await (options.lookup ?? defaultLookup)(host)).map((a) => a.address);
 		} catch (err) {
-			return { ok: false, reason: `The shop's host ${host} could not be found (${(err as { code?: string }).code ?? 'DNS error'}).` };
+			return {
+				ok: false,
+				reason: `The shop's host ${host} could not be found (${(err as { code?: string }).code ?? 'DNS error'}).`
+			};
 		}
 		if (addresses.length === 0) return { ok: false, reason: `The shop's host ${host} has no addresses.` };
 	}
@@ -69,7 +80,10 @@ export async function checkFeedUrl(raw: string, shopBaseUrl: string, options: Fe
 		for (const a of addresses) {
 			const problem = addressProblem(a);
 			if (problem)
-				return { ok: false, reason: `${host} points to ${a}, ${problem}; only public addresses can be read from the server.` };
+				return {
+					ok: false,
+					reason: `${host} points to ${a}, ${problem}; only public addresses can be read from the server.`
+				};
 		}
 	}
 	return { ok: true, url, addresses };

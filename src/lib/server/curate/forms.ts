@@ -49,7 +49,9 @@ export async function validate<S extends AnySchema>(data: FormData | URLSearchPa
 /** An empty form for a load function, optionally pre-filled. */
 export async function emptyForm<S extends AnySchema>(schema: S, initial?: Partial<z.infer<S>>, id?: string) {
 	// eslint-disable-next-line @typescript-eslint/no-explicit-any -- superforms' zod adapter generics cannot be spelled for any schema
-	return superValidate(initial as any, zod4(schema as any), { errors: false, id }) as Promise<SuperValidated<z.infer<S>, any, any>>;
+	return superValidate(initial as any, zod4(schema as any), { errors: false, id }) as Promise<
+		SuperValidated<z.infer<S>, any, any>
+	>;
 }
 
 /**
@@ -65,9 +67,12 @@ export async function attempt<F extends AnyForm, R>(
 		return { ok: true, value: await work() };
 	} catch (err) {
 		if (err instanceof FieldError) {
-			const failure = err.field && err.field in (form.data as object)
-				? (setError(form, err.field as never, err.message, { status: err.status }) as unknown as ActionFailure<{ form: F }>)
-				: fail(err.status, { form: withMessage(form, err.message), ...extra });
+			const failure =
+				err.field && err.field in (form.data as object)
+					? (setError(form, err.field as never, err.message, { status: err.status }) as unknown as ActionFailure<{
+							form: F;
+						}>)
+					: fail(err.status, { form: withMessage(form, err.message), ...extra });
 			if (extra && Object.keys(extra).length) Object.assign(failure.data, extra);
 			return { ok: false, failure: failure as ActionFailure<Record<string, unknown> & { form: F }> };
 		}

@@ -56,9 +56,21 @@ export async function createGuide(db: Database, actor: Actor, input: z.infer<typ
 		return await db.transaction(async (tx) => {
 			const [row] = await tx
 				.insert(t.guides)
-				.values({ slug, title: input.title, summary: input.summary, bodyMarkdown: input.bodyMarkdown, authorId: actor.id })
+				.values({
+					slug,
+					title: input.title,
+					summary: input.summary,
+					bodyMarkdown: input.bodyMarkdown,
+					authorId: actor.id
+				})
 				.returning();
-			await audit(tx, { actorId: actor.id, action: 'created', entity: 'guide', entityId: row.id, after: pick(row, GUIDE_FIELDS) });
+			await audit(tx, {
+				actorId: actor.id,
+				action: 'created',
+				entity: 'guide',
+				entityId: row.id,
+				after: pick(row, GUIDE_FIELDS)
+			});
 			return row;
 		});
 	} catch (err) {
@@ -90,7 +102,12 @@ export async function updateGuide(db: Database, actor: Actor, id: number, input:
 }
 
 /** Publish, unpublish (back to draft) or retire a guide. */
-export async function setGuideStatus(db: Database, actor: Actor, id: number, status: 'draft' | 'published' | 'retired') {
+export async function setGuideStatus(
+	db: Database,
+	actor: Actor,
+	id: number,
+	status: 'draft' | 'published' | 'retired'
+) {
 	const now = new Date();
 	return auditedUpdate(db, actor, {
 		table: t.guides,
@@ -100,7 +117,11 @@ export async function setGuideStatus(db: Database, actor: Actor, id: number, sta
 		set: (before) => {
 			if (status === 'published' && before.bodyMarkdown.trim().length === 0)
 				throw new FieldError('bodyMarkdown', 'Write the guide before publishing it.');
-			return { status, publishedAt: status === 'published' ? (before.publishedAt ?? now) : before.publishedAt, updatedAt: now };
+			return {
+				status,
+				publishedAt: status === 'published' ? (before.publishedAt ?? now) : before.publishedAt,
+				updatedAt: now
+			};
 		},
 		action: status === 'published' ? 'published' : status === 'retired' ? 'retired' : 'unpublished'
 	});
@@ -111,26 +132,47 @@ export async function savePick(db: Database, actor: Actor, guideId: number, inpu
 	return db.transaction(async (tx) => {
 		const [guide] = await tx.select({ id: t.guides.id }).from(t.guides).where(eq(t.guides.id, guideId));
 		if (!guide) throw new FieldError(null, 'That guide does not exist.', 404);
-		const [conv] = await tx.select({ id: t.converters.id }).from(t.converters).where(eq(t.converters.id, input.converterId));
+		const [conv] = await tx
+			.select({ id: t.converters.id })
+			.from(t.converters)
+			.where(eq(t.converters.id, input.converterId));
 		if (!conv) throw new FieldError('converterId', 'That converter does not exist.');
 		// Best band among the converter's live revisions (enum order is best first).
 		const [best] = await tx
 			.select({ band: t.revisions.band })
 			.from(t.revisions)
-			.where(sql`${t.revisions.converterId} = ${input.converterId} and ${t.revisions.band} is not null and ${t.revisions.retiredAt} is null`)
+			.where(
+				sql`${t.revisions.converterId} = ${input.converterId} and ${t.revisions.band} is not null and ${t.revisions.retiredAt} is null`
+			)
 			.orderBy(asc(t.revisions.band))
 			.limit(1);
 		const [before] = await tx
 			.select()
 			.from(t.guidePicks)
 			.where(sql`${t.guidePicks.guideId} = ${guideId} and ${t.guidePicks.converterId} = ${input.converterId}`);
-		const values = { guideId, converterId: input.converterId, position: input.position, note: input.note, bandAtPick: best?.band ?? null };
+		const values = {
+			guideId,
+			converterId: input.converterId,
+			position: input.position,
+			note: input.note,
+			bandAtPick: best?.band ?? null
+		};
 		const [row] = await tx
 			.insert(t.guidePicks)
 			.values(values)
-			.onConflictDoUpdate({ target: [t.guidePicks.guideId, t.guidePicks.converterId], set: { position: values.position, note: values.note, bandAtPick: values.bandAtPick } })
+			.onConflictDoUpdate({
+				target: [t.guidePicks.guideId, t.guidePicks.converterId],
+				set: { position: values.position, note: values.note, bandAtPick: values.bandAtPick }
+			})
 			.returning();
-		await audit(tx, { actorId: actor.id, action: before ? 'pick-updated' : 'pick-added', entity: 'guide', entityId: guideId, before: before ?? undefined, after: row });
+		await audit(tx, {
+			actorId: actor.id,
+			action: before ? 'pick-updated' : 'pick-added',
+			entity: 'guide',
+			entityId: guideId,
+			before: before ?? undefined,
+			after: row
+		});
 		return row;
 	});
 }

@@ -18,7 +18,15 @@ import type { listingSchema } from './schemas';
 
 type ListingInput = z.infer<typeof listingSchema>;
 
-const LISTING_FIELDS = ['shopId', 'converterId', 'url', 'format', 'feedConfig', 'pollIntervalMinutes', 'active'] as const;
+const LISTING_FIELDS = [
+	'shopId',
+	'converterId',
+	'url',
+	'format',
+	'feedConfig',
+	'pollIntervalMinutes',
+	'active'
+] as const;
 const snap = (row: typeof t.listings.$inferSelect) => Object.fromEntries(LISTING_FIELDS.map((k) => [k, row[k]]));
 
 async function shopOf(db: Database, shopId: number) {
@@ -32,7 +40,10 @@ export async function createListing(db: Database, actor: Actor, input: ListingIn
 	const shop = await shopOf(db, input.shopId);
 	const check = await checkFeedUrl(input.url, shop.baseUrl, urlOptions);
 	if (!check.ok) throw new FieldError('url', check.reason);
-	const [conv] = await db.select({ id: t.converters.id }).from(t.converters).where(eq(t.converters.id, input.converterId));
+	const [conv] = await db
+		.select({ id: t.converters.id })
+		.from(t.converters)
+		.where(eq(t.converters.id, input.converterId));
 	if (!conv) throw new FieldError('converterId', 'That converter does not exist.');
 	try {
 		return await db.transaction(async (tx) => {
@@ -137,7 +148,9 @@ async function readCapped(res: Response, cap: number) {
 
 /** Selectors or API mapping for a listing: its own feed_config over the shop's. */
 export function feedConfigFor(listing: { feedConfig: unknown }, shop: { feedConfig: unknown }) {
-	const cfg = ((listing.feedConfig && Object.keys(listing.feedConfig as object).length ? listing.feedConfig : shop.feedConfig) ?? {}) as {
+	const cfg = ((listing.feedConfig && Object.keys(listing.feedConfig as object).length
+		? listing.feedConfig
+		: shop.feedConfig) ?? {}) as {
 		selectors?: OfferSelectors;
 		apiMapping?: ApiMapping;
 	};
@@ -160,7 +173,16 @@ export async function testRead(
 		.where(eq(t.listings.id, listingId));
 	if (!row) throw new FieldError(null, 'That listing does not exist.', 404);
 	const started = Date.now();
-	const result: TestReadResult = { url: row.listing.url, status: null, contentType: null, bytes: 0, ms: 0, truncated: false, offer: null, error: null };
+	const result: TestReadResult = {
+		url: row.listing.url,
+		status: null,
+		contentType: null,
+		bytes: 0,
+		ms: 0,
+		truncated: false,
+		offer: null,
+		error: null
+	};
 	// The connection is pinned to the address its own lookup checked (security/address.ts).
 	const doFetch = opts.fetchImpl ?? sharedGuardedFetch(opts.allowPrivate ?? false);
 	let url = row.listing.url;
@@ -174,7 +196,10 @@ export async function testRead(
 			const res = await doFetch(check.url, {
 				redirect: 'manual',
 				signal: AbortSignal.timeout(TEST_READ_TIMEOUT_MS),
-				headers: { 'user-agent': 'ScopegradeBot/0.1 (curator test read)', accept: 'text/html,application/json;q=0.9,*/*;q=0.5' }
+				headers: {
+					'user-agent': 'ScopegradeBot/0.1 (curator test read)',
+					accept: 'text/html,application/json;q=0.9,*/*;q=0.5'
+				}
 			});
 			result.url = check.url.toString();
 			result.status = res.status;
@@ -207,7 +232,10 @@ export async function testRead(
 		}
 	} catch (err) {
 		const e = err as Error;
-		result.error = e.name === 'TimeoutError' ? `No answer within ${TEST_READ_TIMEOUT_MS / 1000} s.` : `Could not fetch the page: ${e.message}`;
+		result.error =
+			e.name === 'TimeoutError'
+				? `No answer within ${TEST_READ_TIMEOUT_MS / 1000} s.`
+				: `Could not fetch the page: ${e.message}`;
 	}
 	result.ms = Date.now() - started;
 	return result;

@@ -17,11 +17,21 @@ const STATE: Record<z.infer<typeof flagDecisionSchema>['decision'], t.CheckState
 	remeasure: 'remeasure'
 };
 
-export async function decideFlag(db: Database, actor: Actor, input: z.infer<typeof flagDecisionSchema>, now = new Date()) {
+export async function decideFlag(
+	db: Database,
+	actor: Actor,
+	input: z.infer<typeof flagDecisionSchema>,
+	now = new Date()
+) {
 	return db.transaction(async (tx) => {
 		const [before] = await tx.select().from(t.runChecks).where(eq(t.runChecks.benchRunId, input.id)).for('update');
 		if (!before) throw new FieldError(null, 'That run has no tester check.', 404);
-		if (before.state !== 'open') throw new FieldError(null, before.state ? `This flag was already decided (${before.state}).` : 'This run is not flagged.', 409);
+		if (before.state !== 'open')
+			throw new FieldError(
+				null,
+				before.state ? `This flag was already decided (${before.state}).` : 'This run is not flagged.',
+				409
+			);
 		const state = STATE[input.decision];
 		// the state goes first: superseding recomputes the checks, and a decided flag is kept
 		const [row] = await tx
@@ -30,7 +40,12 @@ export async function decideFlag(db: Database, actor: Actor, input: z.infer<type
 			.where(eq(t.runChecks.benchRunId, input.id))
 			.returning();
 		if (input.decision === 'supersede')
-			await supersedeBenchRun(tx as unknown as Database, actor, { id: input.id, reason: `Tester check: ${input.note}` }, now);
+			await supersedeBenchRun(
+				tx as unknown as Database,
+				actor,
+				{ id: input.id, reason: `Tester check: ${input.note}` },
+				now
+			);
 		await audit(tx, {
 			actorId: actor.id,
 			action: `flag-${input.decision}`,

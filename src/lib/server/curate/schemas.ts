@@ -21,7 +21,12 @@ const slugField = z
 	.refine((s) => s === '' || SLUG_RE.test(s), 'Lower-case letters, digits and single hyphens, like "beam-bridge-2".')
 	.default('');
 // Ids fit PostgreSQL's integer (larger ones would fail in the database, not here).
-const id = (label: string) => z.number({ message: `Choose ${label}.` }).int().positive(`Choose ${label}.`).max(PG_INT_MAX, `Choose ${label}.`);
+const id = (label: string) =>
+	z
+		.number({ message: `Choose ${label}.` })
+		.int()
+		.positive(`Choose ${label}.`)
+		.max(PG_INT_MAX, `Choose ${label}.`);
 const optId = z.number().int().positive().max(PG_INT_MAX).optional();
 const rowId = () => z.number().int().positive().max(PG_INT_MAX);
 
@@ -91,7 +96,11 @@ export const benchRunSchema = z.object({
 	pattern: text('Pattern', 200).default('11-step grey ramp, 0-100 IRE'),
 	instrument: text('Instrument', 200),
 	termination: z.enum(TERMINATIONS).default('75-ohm'),
-	fullScaleMv: z.number({ message: 'Full scale in mV, usually 700.' }).min(100, 'At least 100 mV.').max(2000, 'At most 2000 mV.').default(700),
+	fullScaleMv: z
+		.number({ message: 'Full scale in mV, usually 700.' })
+		.min(100, 'At least 100 mV.')
+		.max(2000, 'At most 2000 mV.')
+		.default(700),
 	notes: optText(),
 	traceFileId: z.uuid().or(z.literal('')).default(''),
 	...readingShape
@@ -102,7 +111,11 @@ export type BenchRunForm = z.infer<typeof benchRunSchema> & Partial<Record<Readi
 export const reviewSchema = z.object({
 	id: rowId(),
 	decision: z.enum(['accept', 'reject']),
-	reason: z.string().trim().min(3, 'Give a short reason (it is kept in the audit log and shown to the submitter).').max(500)
+	reason: z
+		.string()
+		.trim()
+		.min(3, 'Give a short reason (it is kept in the audit log and shown to the submitter).')
+		.max(500)
 });
 
 export const supersedeSchema = z.object({
@@ -168,7 +181,12 @@ export const listingSchema = z.object({
 	converterId: id('the converter'),
 	url: z.url({ message: 'A full page address, starting with http:// or https://.', protocol: /^https?$/ }),
 	format: z.enum(FEED_FORMATS),
-	pollIntervalMinutes: z.number().int().min(1, 'At least 1 minute.').max(10080, 'At most a week (10080 minutes).').default(60),
+	pollIntervalMinutes: z
+		.number()
+		.int()
+		.min(1, 'At least 1 minute.')
+		.max(10080, 'At most a week (10080 minutes).')
+		.default(60),
 	feedConfig: jsonText
 });
 
@@ -176,7 +194,11 @@ export const shopSchema = z.object({
 	name: text('Shop name', 120),
 	slug: slugField,
 	region: z.enum(REGIONS),
-	currency: z.string().trim().toUpperCase().regex(/^[A-Z]{3}$/, 'A three-letter ISO 4217 code, like EUR.'),
+	currency: z
+		.string()
+		.trim()
+		.toUpperCase()
+		.regex(/^[A-Z]{3}$/, 'A three-letter ISO 4217 code, like EUR.'),
 	baseUrl: z.url({ message: 'The shop address, like https://shop.example/.', protocol: /^https?$/ }),
 	defaultFormat: z.enum(FEED_FORMATS),
 	maxConcurrency: z.number().int().min(1, 'At least 1.').max(16, 'At most 16.').default(2),
@@ -190,8 +212,16 @@ export const shopSchema = z.object({
 
 export const rateSchema = z
 	.object({
-		base: z.string().trim().toUpperCase().regex(/^[A-Z]{3}$/, 'A three-letter code, like EUR.'),
-		quote: z.string().trim().toUpperCase().regex(/^[A-Z]{3}$/, 'A three-letter code, like JPY.'),
+		base: z
+			.string()
+			.trim()
+			.toUpperCase()
+			.regex(/^[A-Z]{3}$/, 'A three-letter code, like EUR.'),
+		quote: z
+			.string()
+			.trim()
+			.toUpperCase()
+			.regex(/^[A-Z]{3}$/, 'A three-letter code, like JPY.'),
 		day: isoDate('Day'),
 		rate: z.number({ message: 'A positive number.' }).positive('A positive number.').max(1e9)
 	})

@@ -17,10 +17,16 @@ type TeardownInput = z.infer<typeof teardownSchema>;
 /** Store a member's report as pending. The photo (if any) must be their own upload. */
 export async function submitTeardown(db: Database, actor: Actor, input: TeardownInput) {
 	return db.transaction(async (tx) => {
-		const [conv] = await tx.select({ id: t.converters.id }).from(t.converters).where(eq(t.converters.id, input.converterId));
+		const [conv] = await tx
+			.select({ id: t.converters.id })
+			.from(t.converters)
+			.where(eq(t.converters.id, input.converterId));
 		if (!conv) throw new FieldError('converterId', 'That converter does not exist.');
 		if (input.revisionId !== undefined) {
-			const [rev] = await tx.select({ converterId: t.revisions.converterId }).from(t.revisions).where(eq(t.revisions.id, input.revisionId));
+			const [rev] = await tx
+				.select({ converterId: t.revisions.converterId })
+				.from(t.revisions)
+				.where(eq(t.revisions.id, input.revisionId));
 			if (!rev || rev.converterId !== input.converterId)
 				throw new FieldError('revisionId', 'That revision belongs to another converter.');
 		}
@@ -41,7 +47,13 @@ export async function submitTeardown(db: Database, actor: Actor, input: Teardown
 				submittedById: actor.id
 			})
 			.returning();
-		await audit(tx, { actorId: actor.id, action: 'submitted', entity: 'teardown_report', entityId: row.id, after: row });
+		await audit(tx, {
+			actorId: actor.id,
+			action: 'submitted',
+			entity: 'teardown_report',
+			entityId: row.id,
+			after: row
+		});
 		return row;
 	});
 }
@@ -139,7 +151,10 @@ export function teardownsBy(db: Database, userId: string) {
  * Verified reports, optionally for one converter, revision or shop, newest purchase first:
  * the one source of the teardowns a converter page lists and of its revision odds.
  */
-export function verifiedTeardowns(db: Database, filter: { converterId?: number; revisionId?: number; shopId?: number } = {}) {
+export function verifiedTeardowns(
+	db: Database,
+	filter: { converterId?: number; revisionId?: number; shopId?: number } = {}
+) {
 	const conds: SQL[] = [eq(t.teardownReports.status, 'verified')];
 	if (filter.converterId !== undefined) conds.push(eq(t.teardownReports.converterId, filter.converterId));
 	if (filter.revisionId !== undefined) conds.push(eq(t.teardownReports.revisionId, filter.revisionId));

@@ -69,14 +69,22 @@ const kb = (n: number) => `${Math.round(n / 1024)} KB`;
 const mb = (n: number) => `${(n / 1024 / 1024).toFixed(n >= 10 * 1024 * 1024 ? 0 : 1)} MB`;
 
 function describe(type: SniffedType) {
-	return type === 'text/csv' ? 'text (CSV)' : type === 'unknown' ? 'not a format we take' : type.replace('image/', '').toUpperCase() + ' image';
+	return type === 'text/csv'
+		? 'text (CSV)'
+		: type === 'unknown'
+			? 'not a format we take'
+			: type.replace('image/', '').toUpperCase() + ' image';
 }
 
 /** Refuse a photo that is too big or not really a JPEG, PNG or WebP. Returns the sniffed type. */
 export function checkPhoto(name: string, bytes: Uint8Array): SniffedType {
 	if (bytes.byteLength === 0) throw new FieldError('photo', `"${name}" is empty.`);
 	if (bytes.byteLength > PHOTO_MAX_BYTES)
-		throw new FieldError('photo', `"${name}" is ${mb(bytes.byteLength)}; photos can be at most ${mb(PHOTO_MAX_BYTES)}.`, 413);
+		throw new FieldError(
+			'photo',
+			`"${name}" is ${mb(bytes.byteLength)}; photos can be at most ${mb(PHOTO_MAX_BYTES)}.`,
+			413
+		);
 	const type = sniffType(bytes);
 	if (!PHOTO_TYPES.has(type))
 		throw new FieldError(
@@ -91,7 +99,11 @@ export function checkPhoto(name: string, bytes: Uint8Array): SniffedType {
 export function checkTrace(name: string, bytes: Uint8Array, field = 'trace'): string {
 	if (bytes.byteLength === 0) throw new FieldError(field, `"${name}" is empty.`);
 	if (bytes.byteLength > TRACE_MAX_BYTES)
-		throw new FieldError(field, `"${name}" is ${mb(bytes.byteLength)}; traces can be at most ${mb(TRACE_MAX_BYTES)}.`, 413);
+		throw new FieldError(
+			field,
+			`"${name}" is ${mb(bytes.byteLength)}; traces can be at most ${mb(TRACE_MAX_BYTES)}.`,
+			413
+		);
 	const type = sniffType(bytes);
 	if (type !== 'text/csv')
 		throw new FieldError(field, `"${name}" is ${describe(type)}, not a CSV text export from a scope.`, 415);
@@ -140,12 +152,18 @@ export async function storePhoto(
 			sharp(file.bytes, { limitInputPixels: MAX_INPUT_PIXELS, failOn: 'error' })
 				// Apply the camera's orientation tag before it is dropped with the rest of the metadata.
 				.rotate();
-		const encoded = base().resize({ width: PHOTO_MAX_SIDE, height: PHOTO_MAX_SIDE, fit: 'inside', withoutEnlargement: true });
-		main = await (type === 'image/png'
-			? encoded.png({ compressionLevel: 9 })
-			: type === 'image/webp'
-				? encoded.webp({ quality: 85 })
-				: encoded.jpeg({ quality: 85, mozjpeg: true })
+		const encoded = base().resize({
+			width: PHOTO_MAX_SIDE,
+			height: PHOTO_MAX_SIDE,
+			fit: 'inside',
+			withoutEnlargement: true
+		});
+		main = await (
+			type === 'image/png'
+				? encoded.png({ compressionLevel: 9 })
+				: type === 'image/webp'
+					? encoded.webp({ quality: 85 })
+					: encoded.jpeg({ quality: 85, mozjpeg: true })
 		).toBuffer({ resolveWithObject: true });
 		thumb = await base()
 			.resize({ width: THUMB_SIDE, height: THUMB_SIDE, fit: 'inside', withoutEnlargement: true })
@@ -201,9 +219,16 @@ export async function storePhoto(
 }
 
 /** Store an already-checked trace (CSV text). Returns the file id. */
-export async function storeTrace(db: Database, storage: Storage, owner: Actor, name: string, csv: string): Promise<string> {
+export async function storeTrace(
+	db: Database,
+	storage: Storage,
+	owner: Actor,
+	name: string,
+	csv: string
+): Promise<string> {
 	const bytes = new TextEncoder().encode(csv);
-	if (bytes.byteLength > TRACE_MAX_BYTES) throw new FieldError('trace', `The trace is larger than ${kb(TRACE_MAX_BYTES)}.`, 413);
+	if (bytes.byteLength > TRACE_MAX_BYTES)
+		throw new FieldError('trace', `The trace is larger than ${kb(TRACE_MAX_BYTES)}.`, 413);
 	try {
 		await assertUploadQuota(db, owner, bytes.byteLength);
 	} catch (err) {
@@ -237,17 +262,32 @@ export async function storeTrace(db: Database, storage: Storage, owner: Actor, n
  */
 export async function ownFile(db: DbOrTx, actor: Actor, id: string, kind: 'photo' | 'trace') {
 	const [row] = await db.select().from(t.files).where(eq(t.files.id, id));
-	if (!row || row.kind !== kind) throw new FieldError(kind === 'photo' ? 'photoFileId' : 'traceFileId', `That ${kind} upload was not found; upload it again.`);
+	if (!row || row.kind !== kind)
+		throw new FieldError(
+			kind === 'photo' ? 'photoFileId' : 'traceFileId',
+			`That ${kind} upload was not found; upload it again.`
+		);
 	if (row.ownerId !== actor.id && !hasRole(actor.role, 'curator'))
-		throw new FieldError(kind === 'photo' ? 'photoFileId' : 'traceFileId', `That ${kind} belongs to someone else.`, 403);
+		throw new FieldError(
+			kind === 'photo' ? 'photoFileId' : 'traceFileId',
+			`That ${kind} belongs to someone else.`,
+			403
+		);
 	return row;
 }
 
 /** Make files (and their thumbnails) public or rejected when their submission is reviewed. */
-export async function setFilesStatus(db: DbOrTx, ids: Array<string | null | undefined>, status: 'public' | 'rejected' | 'pending') {
+export async function setFilesStatus(
+	db: DbOrTx,
+	ids: Array<string | null | undefined>,
+	status: 'public' | 'rejected' | 'pending'
+) {
 	const list = ids.filter((x): x is string => !!x);
 	if (!list.length) return;
-	const rows = await db.select({ id: t.files.id, thumb: t.files.thumbnailId }).from(t.files).where(inArray(t.files.id, list));
+	const rows = await db
+		.select({ id: t.files.id, thumb: t.files.thumbnailId })
+		.from(t.files)
+		.where(inArray(t.files.id, list));
 	const all = [...new Set([...rows.map((r) => r.id), ...rows.map((r) => r.thumb).filter((x): x is string => !!x)])];
 	if (all.length) await db.update(t.files).set({ status }).where(inArray(t.files.id, all));
 }
@@ -289,7 +329,10 @@ export const PENDING_UPLOAD_TTL_MS = 24 * 3600_000;
 export async function assertUploadQuota(db: Database, owner: Actor, incomingBytes: number) {
 	if (hasRole(owner.role, 'curator')) return;
 	const [row] = await db
-		.select({ bytes: sql<number>`coalesce(sum(${t.files.byteSize}), 0)::bigint`, count: sql<number>`count(*) filter (where ${t.files.kind} <> 'thumbnail')::int` })
+		.select({
+			bytes: sql<number>`coalesce(sum(${t.files.byteSize}), 0)::bigint`,
+			count: sql<number>`count(*) filter (where ${t.files.kind} <> 'thumbnail')::int`
+		})
 		.from(t.files)
 		.where(and(eq(t.files.ownerId, owner.id), eq(t.files.status, 'pending')));
 	const bytes = Number(row?.bytes ?? 0);
@@ -320,7 +363,10 @@ export async function removeUnattachedUploads(db: Database, storage: Storage, no
 	let removed = 0;
 	for (const row of stale) {
 		await storage.remove(row.storage_key).catch(() => {});
-		const gone = await db.delete(t.files).where(and(eq(t.files.id, row.id), eq(t.files.status, 'pending'))).returning({ id: t.files.id });
+		const gone = await db
+			.delete(t.files)
+			.where(and(eq(t.files.id, row.id), eq(t.files.status, 'pending')))
+			.returning({ id: t.files.id });
 		removed += gone.length;
 	}
 	return removed;

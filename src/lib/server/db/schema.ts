@@ -142,7 +142,10 @@ export const memberPrefs = pgTable(
 		updatedAt: updatedAt()
 	},
 	(t) => [
-		check('member_pref_quiet_hours', sql`(${t.quietFrom} is null or ${t.quietFrom} between 0 and 23) and (${t.quietTo} is null or ${t.quietTo} between 0 and 23)`),
+		check(
+			'member_pref_quiet_hours',
+			sql`(${t.quietFrom} is null or ${t.quietFrom} between 0 and 23) and (${t.quietTo} is null or ${t.quietTo} between 0 and 23)`
+		),
 		check('member_pref_digest_hour', sql`${t.digestHour} between 0 and 23`)
 	]
 );
@@ -170,7 +173,10 @@ export const converters = pgTable(
 		summary: text('summary').notNull().default(''),
 		hasAudioOut: boolean('has_audio_out').notNull().default(false),
 		power: powerKindEnum('power').notNull().default('usb-bus'),
-		outputs: text('outputs').array().notNull().default(sql`'{vga}'::text[]`),
+		outputs: text('outputs')
+			.array()
+			.notNull()
+			.default(sql`'{vga}'::text[]`),
 		retiredAt: timestamp('retired_at', { withTimezone: true }),
 		lastReviewedAt: timestamp('last_reviewed_at', { withTimezone: true }),
 		createdAt: createdAt(),
@@ -252,10 +258,7 @@ export const files = pgTable(
 		thumbnailId: uuid('thumbnail_id').references((): AnyPgColumn => files.id, { onDelete: 'set null' }),
 		createdAt: createdAt()
 	},
-	(t) => [
-		index('file_owner_idx').on(t.ownerId),
-		check('file_size_positive', sql`${t.byteSize} > 0`)
-	]
+	(t) => [index('file_owner_idx').on(t.ownerId), check('file_size_positive', sql`${t.byteSize} > 0`)]
 );
 
 // ---------------------------------------------------------------- bench runs
@@ -333,11 +336,16 @@ export const shops = pgTable(
 		name: text('name').notNull(),
 		region: regionEnum('region').notNull(),
 		currency: char('currency', { length: 3 }).notNull(),
-		shipsTo: regionEnum('ships_to').array().notNull().default(sql`'{}'::region[]`),
+		shipsTo: regionEnum('ships_to')
+			.array()
+			.notNull()
+			.default(sql`'{}'::region[]`),
 		baseUrl: text('base_url').notNull(),
 		defaultFormat: feedFormatEnum('default_format').notNull(),
 		/** Curator-set CSS selectors or JSON mapping shared by the shop's listings. */
-		feedConfig: jsonb('feed_config').notNull().default(sql`'{}'::jsonb`),
+		feedConfig: jsonb('feed_config')
+			.notNull()
+			.default(sql`'{}'::jsonb`),
 		maxConcurrency: smallint('max_concurrency').notNull().default(2),
 		minSpacingMs: integer('min_spacing_ms').notNull().default(1000),
 		active: boolean('active').notNull().default(true),
@@ -412,7 +420,9 @@ export const listingStates = pgTable(
 	},
 	(t) => [
 		index('listing_state_due_idx').on(t.nextPollAt),
-		index('listing_state_requested_idx').on(t.pollRequestedAt).where(sql`${t.pollRequestedAt} is not null`)
+		index('listing_state_requested_idx')
+			.on(t.pollRequestedAt)
+			.where(sql`${t.pollRequestedAt} is not null`)
 	]
 );
 
@@ -501,10 +511,7 @@ export const exchangeRates = pgTable(
 		source: text('source').notNull().default('manual'),
 		createdAt: createdAt()
 	},
-	(t) => [
-		primaryKey({ columns: [t.base, t.quote, t.day] }),
-		check('exchange_rate_positive', sql`${t.rate} > 0`)
-	]
+	(t) => [primaryKey({ columns: [t.base, t.quote, t.day] }), check('exchange_rate_positive', sql`${t.rate} > 0`)]
 );
 
 // ---------------------------------------------------------------- teardown reports

@@ -141,10 +141,7 @@ export async function seedDemo(db: Database, opts: SeedOptions): Promise<SeedSum
 				.returning({ id: t.converters.id });
 			summary.converters += created.length;
 			if (created.length) newConverters.add(c.slug);
-			const [conv] = await tx
-				.select({ id: t.converters.id })
-				.from(t.converters)
-				.where(eq(t.converters.slug, c.slug));
+			const [conv] = await tx.select({ id: t.converters.id }).from(t.converters).where(eq(t.converters.slug, c.slug));
 			converterIds.set(c.slug, conv.id);
 
 			for (const rev of c.revisions) {
@@ -204,7 +201,7 @@ export async function seedDemo(db: Database, opts: SeedOptions): Promise<SeedSum
 							instrument: tester.instrument,
 							termination: '75-ohm',
 							fullScaleMv: 700,
-							notes: 'Demo bench run by an invented tester (readings include the tester\'s scope calibration).',
+							notes: "Demo bench run by an invented tester (readings include the tester's scope calibration).",
 							readings: demoReadings(chip, 10 + ti * 7 + TESTER_REVISIONS.indexOf(key)).map((s) => ({
 								ire: s.ire,
 								r: Math.round(s.r * tester.scopeGain * 10) / 10,
@@ -358,13 +355,21 @@ export async function seedDemo(db: Database, opts: SeedOptions): Promise<SeedSum
 			let photoFileId: string | null = null;
 			if (opts.storage && reporter) {
 				const bytes = await demoBoardPhoto(chip.name, rev.boardMarking, i + 1);
-				const photo = await storePhoto(tx as unknown as Database, opts.storage, { id: reporter.id, role: 'member' }, {
-					name: `${d.converter}-${d.month}.png`,
-					bytes
-				});
+				const photo = await storePhoto(
+					tx as unknown as Database,
+					opts.storage,
+					{ id: reporter.id, role: 'member' },
+					{
+						name: `${d.converter}-${d.month}.png`,
+						bytes
+					}
+				);
 				photoFileId = photo.id;
 				if (verified) {
-					await tx.update(t.files).set({ status: 'public' }).where(inArray(t.files.id, [photo.id, photo.thumbnailId]));
+					await tx
+						.update(t.files)
+						.set({ status: 'public' })
+						.where(inArray(t.files.id, [photo.id, photo.thumbnailId]));
 				}
 			}
 			const reviewedAt = new Date(Date.parse(`${d.month}-01`) + 40 * 86_400_000);
@@ -387,7 +392,13 @@ export async function seedDemo(db: Database, opts: SeedOptions): Promise<SeedSum
 					reviewedAt: verified ? (reviewedAt < now ? reviewedAt : now) : null
 				})
 				.returning();
-			await audit(tx, { actorId: reporter?.id ?? null, action: 'submitted', entity: 'teardown_report', entityId: row.id, after: row });
+			await audit(tx, {
+				actorId: reporter?.id ?? null,
+				action: 'submitted',
+				entity: 'teardown_report',
+				entityId: row.id,
+				after: row
+			});
 			if (verified) {
 				await audit(tx, {
 					actorId: curator?.id ?? null,
@@ -423,18 +434,37 @@ export async function seedDemo(db: Database, opts: SeedOptions): Promise<SeedSum
 			summary.guides += 1;
 			const picks = DEMO_GUIDE.picks
 				.filter((p) => converterIds.has(p.converter))
-				.map((p, position) => ({ guideId: guide.id, converterId: converterIds.get(p.converter)!, position, note: p.note, bandAtPick: p.bandAtPick }));
+				.map((p, position) => ({
+					guideId: guide.id,
+					converterId: converterIds.get(p.converter)!,
+					position,
+					note: p.note,
+					bandAtPick: p.bandAtPick
+				}));
 			if (picks.length) await tx.insert(t.guidePicks).values(picks);
-			await audit(tx, { actorId: curator?.id ?? null, action: 'published', entity: 'guide', entityId: guide.id, after: { ...guide, picks } });
+			await audit(tx, {
+				actorId: curator?.id ?? null,
+				action: 'published',
+				entity: 'guide',
+				entityId: guide.id,
+				after: { ...guide, picks }
+			});
 		}
 
 		// The demo member's watch, with an alert queued for the latest restock of the watched
 		// converter (the jobs' sender delivers it to the local inbox). Needs seeded history.
 		const watched = converterIds.get(DEMO_WATCH.converter);
 		if (member && watched && (opts.historyDays ?? 90) > 0) {
-			const [has] = await tx.select({ id: t.watches.id }).from(t.watches).where(eq(t.watches.userId, member.id)).limit(1);
+			const [has] = await tx
+				.select({ id: t.watches.id })
+				.from(t.watches)
+				.where(eq(t.watches.userId, member.id))
+				.limit(1);
 			if (!has) {
-				const [watch] = await tx.insert(t.watches).values({ userId: member.id, converterId: watched }).returning({ id: t.watches.id });
+				const [watch] = await tx
+					.insert(t.watches)
+					.values({ userId: member.id, converterId: watched })
+					.returning({ id: t.watches.id });
 				summary.watches += 1;
 				// the latest restock of a listing still in stock (a sell-out since would skip the alert)
 				const [restock] = await tx
@@ -443,7 +473,11 @@ export async function seedDemo(db: Database, opts: SeedOptions): Promise<SeedSum
 					.innerJoin(t.listings, eq(t.listings.id, t.stockEvents.listingId))
 					.innerJoin(t.listingStates, eq(t.listingStates.listingId, t.listings.id))
 					.where(
-						and(eq(t.listings.converterId, watched), eq(t.stockEvents.kind, 'restock'), eq(t.listingStates.currentStock, 'in_stock'))
+						and(
+							eq(t.listings.converterId, watched),
+							eq(t.stockEvents.kind, 'restock'),
+							eq(t.listingStates.currentStock, 'in_stock')
+						)
 					)
 					.orderBy(desc(t.stockEvents.at))
 					.limit(1);
@@ -466,7 +500,6 @@ export async function seedDemo(db: Database, opts: SeedOptions): Promise<SeedSum
 
 	return summary;
 }
-
 
 /**
  * Deterministic synthetic history for one listing: a few sell-outs, restocks and price moves
@@ -495,7 +528,11 @@ export function demoHistory(l: DemoListing, days: number, now: Date) {
 	const last = points[points.length - 1];
 	if (last.stock !== l.stock || last.priceMinor !== l.priceMinor) {
 		// the change to today's state lands a few hours to two days ago, not at one shared instant
-		points.push({ at: new Date(Math.max(last.at.getTime() + 3_600_000, now.getTime() - (3 + Math.floor(rand() * 45)) * 3_600_000)), priceMinor: l.priceMinor, stock: l.stock });
+		points.push({
+			at: new Date(Math.max(last.at.getTime() + 3_600_000, now.getTime() - (3 + Math.floor(rand() * 45)) * 3_600_000)),
+			priceMinor: l.priceMinor,
+			stock: l.stock
+		});
 	}
 	return points;
 }
@@ -512,7 +549,9 @@ function spellHistory(l: DemoListing, days: number, now: Date) {
 	const spells = l.spells ?? 0;
 	const seg = span / spells;
 	let price = Math.round(l.priceMinor * (1.03 + rand() * 0.06));
-	const points: { at: Date; priceMinor: number; stock: t.StockState }[] = [{ at: new Date(start), priceMinor: price, stock: 'in_stock' }];
+	const points: { at: Date; priceMinor: number; stock: t.StockState }[] = [
+		{ at: new Date(start), priceMinor: price, stock: 'in_stock' }
+	];
 	for (let i = 0; i < spells; i++) {
 		const segStart = start + i * seg;
 		// in stock for 35-65 % of the segment, with a price move half the time
@@ -529,7 +568,11 @@ function spellHistory(l: DemoListing, days: number, now: Date) {
 	const last = points[points.length - 1];
 	if (last.stock !== l.stock || last.priceMinor !== l.priceMinor) {
 		// the change to today's state lands a few hours to two days ago, not at one shared instant
-		points.push({ at: new Date(Math.max(last.at.getTime() + 3_600_000, now.getTime() - (3 + Math.floor(rand() * 45)) * 3_600_000)), priceMinor: l.priceMinor, stock: l.stock });
+		points.push({
+			at: new Date(Math.max(last.at.getTime() + 3_600_000, now.getTime() - (3 + Math.floor(rand() * 45)) * 3_600_000)),
+			priceMinor: l.priceMinor,
+			stock: l.stock
+		});
 	}
 	return points;
 }
@@ -557,4 +600,3 @@ export async function countRows(db: Database) {
 	`);
 	return row;
 }
-

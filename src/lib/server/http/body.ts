@@ -20,7 +20,8 @@ function mediaType(request: Request) {
 
 /** The posted form, or a BodyError. */
 export async function readForm(request: Request): Promise<FormData> {
-	if (!FORM_TYPES.includes(mediaType(request))) throw new BodyError('Send this as a form (application/x-www-form-urlencoded or multipart/form-data).');
+	if (!FORM_TYPES.includes(mediaType(request)))
+		throw new BodyError('Send this as a form (application/x-www-form-urlencoded or multipart/form-data).');
 	try {
 		return await request.formData();
 	} catch {
@@ -31,7 +32,8 @@ export async function readForm(request: Request): Promise<FormData> {
 /** The posted JSON value, or a BodyError. */
 export async function readJson(request: Request): Promise<unknown> {
 	const type = mediaType(request);
-	if (type !== 'application/json' && !type.endsWith('+json')) throw new BodyError('Send a JSON body with Content-Type: application/json.');
+	if (type !== 'application/json' && !type.endsWith('+json'))
+		throw new BodyError('Send a JSON body with Content-Type: application/json.');
 	try {
 		return await request.json();
 	} catch {

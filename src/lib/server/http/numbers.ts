@@ -53,9 +53,15 @@ export function numberFields(schema: unknown): Array<{ key: string; integer: boo
 }
 
 /** Query or path values meant as whole numbers that are not plain digits, as `{ name: message }`, or null. */
-export function looseWholeNumbers(values: URLSearchParams | Record<string, string>, keys: string[]): Record<string, string> | null {
-	const get = (k: string) => (values instanceof URLSearchParams ? values.getAll(k) : values[k] !== undefined ? [values[k]] : []);
+export function looseWholeNumbers(
+	values: URLSearchParams | Record<string, string>,
+	keys: string[]
+): Record<string, string> | null {
+	const get = (k: string) =>
+		values instanceof URLSearchParams ? values.getAll(k) : values[k] !== undefined ? [values[k]] : [];
 	const errors: Record<string, string> = {};
-	for (const key of keys) for (const raw of get(key)) if (raw !== '' && !WHOLE_NUMBER_TEXT.test(raw)) errors[key] = `${key} is a whole number in plain digits.`;
+	for (const key of keys)
+		for (const raw of get(key))
+			if (raw !== '' && !WHOLE_NUMBER_TEXT.test(raw)) errors[key] = `${key} is a whole number in plain digits.`;
 	return Object.keys(errors).length ? errors : null;
 }

@@ -163,8 +163,12 @@ export async function claimDue(db: Database, o: ClaimOptions): Promise<ClaimedLi
  * The listing's feed config overrides the shop's: { selectors } or { apiMapping }, key by key
  * (a listing may set only its own selectors and keep the shop's API mapping, or the reverse).
  */
-export function mergeFeedConfig(shopConfig: unknown, listingConfig: unknown): { selectors?: OfferSelectors; apiMapping?: ApiMapping } {
-	const pick = (c: unknown) => (c && typeof c === 'object' ? (c as { selectors?: OfferSelectors; apiMapping?: ApiMapping }) : {});
+export function mergeFeedConfig(
+	shopConfig: unknown,
+	listingConfig: unknown
+): { selectors?: OfferSelectors; apiMapping?: ApiMapping } {
+	const pick = (c: unknown) =>
+		c && typeof c === 'object' ? (c as { selectors?: OfferSelectors; apiMapping?: ApiMapping }) : {};
 	const s = pick(shopConfig);
 	const l = pick(listingConfig);
 	const out: { selectors?: OfferSelectors; apiMapping?: ApiMapping } = {};
@@ -180,7 +184,12 @@ export async function releaseLeases(db: Database, owner: string, listingIds?: nu
 	const rows = await db
 		.update(listingStates)
 		.set({ leaseOwner: null, leaseUntil: null })
-		.where(and(eq(listingStates.leaseOwner, owner), listingIds ? inArray(listingStates.listingId, listingIds.length ? listingIds : [-1]) : undefined))
+		.where(
+			and(
+				eq(listingStates.leaseOwner, owner),
+				listingIds ? inArray(listingStates.listingId, listingIds.length ? listingIds : [-1]) : undefined
+			)
+		)
 		.returning({ id: listingStates.listingId });
 	return rows.length;
 }

@@ -51,13 +51,21 @@ export async function fetchPage(url: string, opts: FetchPageOptions): Promise<Fe
 				await res.body?.cancel().catch(() => {});
 				const location = res.headers.get('location');
 				if (!location) return { kind: 'network', reason: `HTTP ${res.status} redirect without a Location header` };
-				if (hop >= opts.maxRedirects) return { kind: 'redirects', reason: `more than ${opts.maxRedirects} redirects (last to ${location})` };
+				if (hop >= opts.maxRedirects)
+					return { kind: 'redirects', reason: `more than ${opts.maxRedirects} redirects (last to ${location})` };
 				current = new URL(location, current);
 				continue;
 			}
 			if (res.status < 200 || res.status >= 300) {
 				await res.body?.cancel().catch(() => {});
-				return { kind: 'response', status: res.status, headers: res.headers, body: '', url: current.toString(), redirects: hop };
+				return {
+					kind: 'response',
+					status: res.status,
+					headers: res.headers,
+					body: '',
+					url: current.toString(),
+					redirects: hop
+				};
 			}
 			const declared = Number(res.headers.get('content-length') ?? NaN);
 			if (Number.isFinite(declared) && declared > opts.maxBytes) {
@@ -66,7 +74,14 @@ export async function fetchPage(url: string, opts: FetchPageOptions): Promise<Fe
 			}
 			const read = await readCapped(res, opts.maxBytes);
 			if (read === null) return { kind: 'too_large', reason: `body exceeds the ${opts.maxBytes}-byte cap` };
-			return { kind: 'response', status: res.status, headers: res.headers, body: read, url: current.toString(), redirects: hop };
+			return {
+				kind: 'response',
+				status: res.status,
+				headers: res.headers,
+				body: read,
+				url: current.toString(),
+				redirects: hop
+			};
 		}
 	} catch (err) {
 		if (timedOut) return { kind: 'timeout', reason: `no complete answer within ${opts.timeoutMs} ms` };
@@ -105,7 +120,11 @@ async function readCapped(res: Response, maxBytes: number): Promise<string | nul
 function describeError(err: unknown): string {
 	if (err instanceof Error) {
 		const cause = (err as Error & { cause?: { code?: string; message?: string } }).cause;
-		return cause?.code ? `${err.message} (${cause.code})` : cause?.message ? `${err.message}: ${cause.message}` : err.message;
+		return cause?.code
+			? `${err.message} (${cause.code})`
+			: cause?.message
+				? `${err.message}: ${cause.message}`
+				: err.message;
 	}
 	return String(err);
 }

@@ -4,7 +4,16 @@
  */
 export { createPoller, type Poller, type PollerOptions, type RunSummary } from './poller';
 export { claimDue, mergeFeedConfig, releaseLeases, type ClaimedListing } from './claim';
-export { recordPoll, recordPolls, type PendingPoll, type PollResult, type PollVerdict, type PollerTx, type StockEventRecord, type StockEventsHook } from './record';
+export {
+	recordPoll,
+	recordPolls,
+	type PendingPoll,
+	type PollResult,
+	type PollVerdict,
+	type PollerTx,
+	type StockEventRecord,
+	type StockEventsHook
+} from './record';
 export { createWriteQueue, type WriteQueue } from './write-queue';
 export { RobotsCache } from './robots';
 export { ShopGate } from './gate';

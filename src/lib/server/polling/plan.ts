@@ -14,8 +14,18 @@ export const PLAN_REFRESH_MS = 10 * 60_000;
 /** History the outlook reads for planning. */
 const HISTORY_DAYS = 365;
 
-export async function loadPlanInputs(db: Database, now: Date): Promise<{ inputs: PlanInput[]; current: Map<number, boolean | null> }> {
-	const rows = await db.execute<{ id: number; shop_id: number; interval: number; watched: boolean; good_band: boolean; current_stock: StockState | null }>(sql`
+export async function loadPlanInputs(
+	db: Database,
+	now: Date
+): Promise<{ inputs: PlanInput[]; current: Map<number, boolean | null> }> {
+	const rows = await db.execute<{
+		id: number;
+		shop_id: number;
+		interval: number;
+		watched: boolean;
+		good_band: boolean;
+		current_stock: StockState | null;
+	}>(sql`
 		select l.id, l.shop_id, l.poll_interval_minutes as interval, ls.current_stock,
 			exists (
 				select 1 from watch w
@@ -45,7 +55,14 @@ export async function loadPlanInputs(db: Database, now: Date): Promise<{ inputs:
 	const current = new Map<number, boolean | null>();
 	for (const r of rows) {
 		const id = Number(r.id);
-		inputs.push({ listingId: id, shopId: Number(r.shop_id), intervalMinutes: Number(r.interval), watched: !!r.watched, goodBand: !!r.good_band, points: byListing.get(id) ?? [] });
+		inputs.push({
+			listingId: id,
+			shopId: Number(r.shop_id),
+			intervalMinutes: Number(r.interval),
+			watched: !!r.watched,
+			goodBand: !!r.good_band,
+			points: byListing.get(id) ?? []
+		});
 		current.set(id, !r.current_stock || r.current_stock === 'unknown' ? null : isBuyable(r.current_stock));
 	}
 	return { inputs, current };
@@ -58,7 +75,12 @@ export interface Planner {
 	intervalFor(listingId: number, stock: StockState): number | null;
 }
 
-export function createPlanner(db: Database, clock: () => Date, log: (line: string) => void = () => {}, refreshMs = PLAN_REFRESH_MS): Planner {
+export function createPlanner(
+	db: Database,
+	clock: () => Date,
+	log: (line: string) => void = () => {},
+	refreshMs = PLAN_REFRESH_MS
+): Planner {
 	let plan = new Map<number, PlannedInterval>();
 	let madeAt = -Infinity;
 	let pending: Promise<void> | null = null;

@@ -15,7 +15,16 @@ import type { PollOutcome } from '../db/schema';
 import { extractOffer } from '../../feeds';
 import { formatMinor } from '../../feeds';
 import { claimDue, releaseLeases, type ClaimedListing } from './claim';
-import { CLAIM_DEPTH, CLAIM_LIMIT, WRITE_BATCH, DEFAULT_RATE_LIMIT_PAUSE_MS, MAX_BODY_BYTES, MAX_REDIRECTS, REQUEST_TIMEOUT_MS, userAgent } from './config';
+import {
+	CLAIM_DEPTH,
+	CLAIM_LIMIT,
+	WRITE_BATCH,
+	DEFAULT_RATE_LIMIT_PAUSE_MS,
+	MAX_BODY_BYTES,
+	MAX_REDIRECTS,
+	REQUEST_TIMEOUT_MS,
+	userAgent
+} from './config';
 import { ShopGate } from './gate';
 import { fetchPage, type HopBlock } from './http';
 import { assertFetchable } from './net';
@@ -112,7 +121,9 @@ export function createPoller(db: Database, options: PollerOptions = {}): Poller 
 				random,
 				restockQuietMs: options.restockQuietMs,
 				onStockEvents: options.onStockEvents,
-				intervalFor: planner ? (c, stock) => planner.intervalFor(c.listingId, stock) ?? c.pollIntervalMinutes : undefined
+				intervalFor: planner
+					? (c, stock) => planner.intervalFor(c.listingId, stock) ?? c.pollIntervalMinutes
+					: undefined
 			}),
 		options.writeBatch ?? WRITE_BATCH
 	);
@@ -142,7 +153,9 @@ export function createPoller(db: Database, options: PollerOptions = {}): Poller 
 
 	const robotsBlock = async (url: URL): Promise<HopBlock | null> => {
 		const verdict = await robots.check(url);
-		return verdict.allowed ? null : { outcome: 'robots_disallowed', reason: `robots.txt of ${url.origin}: ${verdict.reason}` };
+		return verdict.allowed
+			? null
+			: { outcome: 'robots_disallowed', reason: `robots.txt of ${url.origin}: ${verdict.reason}` };
 	};
 
 	async function fetchAndRead(c: ClaimedListing, now: Date): Promise<PollVerdict> {
@@ -178,7 +191,11 @@ export function createPoller(db: Database, options: PollerOptions = {}): Poller 
 
 		switch (res.kind) {
 			case 'blocked':
-				return { kind: 'failure', outcome: res.block.outcome, detail: `redirect to ${res.url} refused: ${res.block.reason}` };
+				return {
+					kind: 'failure',
+					outcome: res.block.outcome,
+					detail: `redirect to ${res.url} refused: ${res.block.reason}`
+				};
 			case 'timeout':
 				return { kind: 'failure', outcome: 'timeout', detail: res.reason };
 			case 'too_large':
@@ -221,7 +238,10 @@ export function createPoller(db: Database, options: PollerOptions = {}): Poller 
 			return {
 				kind: 'failure',
 				outcome: 'gone',
-				detail: status === 410 ? 'HTTP 410 Gone: the shop removed the page; listing delisted' : `HTTP 404 Not Found (${c.consecutiveNotFound + 1} in a row)`,
+				detail:
+					status === 410
+						? 'HTTP 410 Gone: the shop removed the page; listing delisted'
+						: `HTTP 404 Not Found (${c.consecutiveNotFound + 1} in a row)`,
 				notFound: status === 404,
 				goneForGood: status === 410
 			};
@@ -233,7 +253,13 @@ export function createPoller(db: Database, options: PollerOptions = {}): Poller 
 				const until = retryAt ?? new Date(now.getTime() + DEFAULT_RATE_LIMIT_PAUSE_MS);
 				return { kind: 'failure', outcome: 'rate_limited', detail, retryAt: until, pauseShopUntil: until };
 			}
-			return { kind: 'failure', outcome: 'http_5xx', detail, retryAt: retryAt ?? undefined, pauseShopUntil: retryAt ?? undefined };
+			return {
+				kind: 'failure',
+				outcome: 'http_5xx',
+				detail,
+				retryAt: retryAt ?? undefined,
+				pauseShopUntil: retryAt ?? undefined
+			};
 		}
 		return { kind: 'failure', outcome: status >= 500 ? 'http_5xx' : 'http_4xx', detail: `HTTP ${status}` };
 	}
@@ -245,10 +271,15 @@ export function createPoller(db: Database, options: PollerOptions = {}): Poller 
 			verdict = await fetchAndRead(c, now);
 		} catch (err) {
 			// A bug of ours must not leave a lease hanging or look like a shop change.
-			verdict = { kind: 'failure', outcome: 'network', detail: `poller error: ${err instanceof Error ? err.message : String(err)}` };
+			verdict = {
+				kind: 'failure',
+				outcome: 'network',
+				detail: `poller error: ${err instanceof Error ? err.message : String(err)}`
+			};
 		}
 		const result = await writer.push({ c, verdict, now });
-		if (result.skipped) log(`poller ${workerId}: listing ${c.listingId} ${result.skipped}${result.error ? `: ${result.error}` : ''}`);
+		if (result.skipped)
+			log(`poller ${workerId}: listing ${c.listingId} ${result.skipped}${result.error ? `: ${result.error}` : ''}`);
 		return result;
 	}
 
@@ -266,7 +297,15 @@ export function createPoller(db: Database, options: PollerOptions = {}): Poller 
 		});
 	};
 
-	const emptySummary = (): RunSummary => ({ claimed: 0, polled: 0, changed: 0, events: 0, byOutcome: {}, skipped: 0, ms: 0 });
+	const emptySummary = (): RunSummary => ({
+		claimed: 0,
+		polled: 0,
+		changed: 0,
+		events: 0,
+		byOutcome: {},
+		skipped: 0,
+		ms: 0
+	});
 	const add = (s: RunSummary, r: PollResult) => {
 		s.polled++;
 		if (r.skipped) s.skipped++;

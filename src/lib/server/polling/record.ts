@@ -55,7 +55,15 @@ export interface StockEventRecord {
 export type StockEventsHook = (tx: PollerTx, events: StockEventRecord[]) => Promise<void>;
 
 export type PollVerdict =
-	| { kind: 'ok'; priceMinor: number; currency: string; stock: StockState; etag: string | null; lastModified: string | null; detail: string }
+	| {
+			kind: 'ok';
+			priceMinor: number;
+			currency: string;
+			stock: StockState;
+			etag: string | null;
+			lastModified: string | null;
+			detail: string;
+	  }
 	| { kind: 'not_modified'; detail: string }
 	| {
 			kind: 'failure';
@@ -111,7 +119,12 @@ export interface PendingPoll {
 const clip = (s: string, n = 500) => (s.length > n ? `${s.slice(0, n - 1)}…` : s);
 
 /** Store the verdict of one poll of a claimed listing (a batch of one). */
-export async function recordPoll(db: Database, c: ClaimedListing, verdict: PollVerdict, o: RecordOptions): Promise<PollResult> {
+export async function recordPoll(
+	db: Database,
+	c: ClaimedListing,
+	verdict: PollVerdict,
+	o: RecordOptions
+): Promise<PollResult> {
 	const [r] = await recordPolls(db, [{ c, verdict, now: o.now }], o);
 	return r;
 }
@@ -121,7 +134,11 @@ export async function recordPoll(db: Database, c: ClaimedListing, verdict: PollV
  * Never throws: a batch that cannot be stored is retried poll by poll, and a poll that cannot be
  * stored on its own frees its listing for a retry soon ('write_failed').
  */
-export async function recordPolls(db: Database, batch: PendingPoll[], o: Omit<RecordOptions, 'now'>): Promise<PollResult[]> {
+export async function recordPolls(
+	db: Database,
+	batch: PendingPoll[],
+	o: Omit<RecordOptions, 'now'>
+): Promise<PollResult[]> {
 	if (!batch.length) return [];
 	const ids = new Set(batch.map((p) => p.c.listingId));
 	if (ids.size !== batch.length) throw new Error('recordPolls: a batch holds each listing once');
@@ -140,7 +157,13 @@ export async function recordPolls(db: Database, batch: PendingPoll[], o: Omit<Re
 		const retry = new Date(now.getTime() + Math.min(c.pollIntervalMinutes, 5) * 60_000);
 		await db
 			.update(listingStates)
-			.set({ leaseOwner: null, leaseUntil: null, lastErrorAt: now, lastError: clip(`internal: could not store the poll: ${message}`), nextPollAt: retry })
+			.set({
+				leaseOwner: null,
+				leaseUntil: null,
+				lastErrorAt: now,
+				lastError: clip(`internal: could not store the poll: ${message}`),
+				nextPollAt: retry
+			})
 			.where(and(eq(listingStates.listingId, c.listingId), eq(listingStates.leaseOwner, c.leaseOwner)))
 			.catch(() => {});
 		return [{ ...baseResult(batch[0]), skipped: 'write_failed', error: message }];
@@ -149,7 +172,15 @@ export async function recordPolls(db: Database, batch: PendingPoll[], o: Omit<Re
 
 function baseResult({ c, verdict, now }: PendingPoll): PollResult {
 	const outcome: PollOutcome = verdict.kind === 'failure' ? verdict.outcome : verdict.kind;
-	return { listingId: c.listingId, shopId: c.shopId, outcome, at: now, detail: clip(verdict.detail), changed: false, events: [] };
+	return {
+		listingId: c.listingId,
+		shopId: c.shopId,
+		outcome,
+		at: now,
+		detail: clip(verdict.detail),
+		changed: false,
+		events: []
+	};
 }
 
 /** One listing_state row's new values, as the bulk update reads them (see STATE_COLUMNS). */
@@ -183,7 +214,12 @@ interface Change {
 async function writeBatch(tx: PollerTx, batch: PendingPoll[], o: Omit<RecordOptions, 'now'>): Promise<PollResult[]> {
 	const ids = batch.map((p) => p.c.listingId);
 	// Locked in listing order, so two workers' batches can never wait on each other in a cycle.
-	const states = await tx.select().from(listingStates).where(inArray(listingStates.listingId, ids)).orderBy(asc(listingStates.listingId)).for('update');
+	const states = await tx
+		.select()
+		.from(listingStates)
+		.where(inArray(listingStates.listingId, ids))
+		.orderBy(asc(listingStates.listingId))
+		.for('update');
 	const stateOf = new Map(states.map((s) => [s.listingId, s]));
 
 	const results: PollResult[] = [];
@@ -237,7 +273,8 @@ async function writeBatch(tx: PollerTx, batch: PendingPoll[], o: Omit<RecordOpti
 				delist.push(item);
 				result.delisted = true;
 			}
-			if (verdict.pauseShopUntil) pauses.push({ shopId: c.shopId, until: verdict.pauseShopUntil, reason: clip(verdict.detail, 200), now });
+			if (verdict.pauseShopUntil)
+				pauses.push({ shopId: c.shopId, until: verdict.pauseShopUntil, reason: clip(verdict.detail, 200), now });
 		} else {
 			const stockAfter = verdict.kind === 'ok' ? verdict.stock : state.currentStock;
 			const interval = o.intervalFor ? o.intervalFor(c, stockAfter) : c.pollIntervalMinutes;
@@ -249,9 +286,16 @@ async function writeBatch(tx: PollerTx, batch: PendingPoll[], o: Omit<RecordOpti
 				row.etag = verdict.etag;
 				row.last_modified = verdict.lastModified;
 				const changed =
-					verdict.priceMinor !== state.currentPriceMinor || verdict.currency !== state.currentCurrency || verdict.stock !== state.currentStock;
+					verdict.priceMinor !== state.currentPriceMinor ||
+					verdict.currency !== state.currentCurrency ||
+					verdict.stock !== state.currentStock;
 				if (changed) {
-					Object.assign(row, { changed: true, price_minor: verdict.priceMinor, currency: verdict.currency, stock: verdict.stock });
+					Object.assign(row, {
+						changed: true,
+						price_minor: verdict.priceMinor,
+						currency: verdict.currency,
+						stock: verdict.stock
+					});
 					changes.push({ item, result, offer: verdict, state });
 				}
 			}
@@ -262,7 +306,15 @@ async function writeBatch(tx: PollerTx, batch: PendingPoll[], o: Omit<RecordOpti
 	if (changes.length) {
 		const obs = await tx
 			.insert(observations)
-			.values(changes.map(({ item: { c, now }, offer }) => ({ listingId: c.listingId, observedAt: now, priceMinor: offer.priceMinor, currency: offer.currency, stock: offer.stock })))
+			.values(
+				changes.map(({ item: { c, now }, offer }) => ({
+					listingId: c.listingId,
+					observedAt: now,
+					priceMinor: offer.priceMinor,
+					currency: offer.currency,
+					stock: offer.stock
+				}))
+			)
 			.returning({ id: observations.id, listingId: observations.listingId });
 		const obsOf = new Map(obs.map((r) => [r.listingId, r.id]));
 		for (const ch of changes) {
@@ -301,7 +353,10 @@ async function writeBatch(tx: PollerTx, batch: PendingPoll[], o: Omit<RecordOpti
 	}
 
 	for (const { c, now } of delist) {
-		await tx.update(listings).set({ delistedAt: now, updatedAt: now }).where(and(eq(listings.id, c.listingId), sql`${listings.delistedAt} is null`));
+		await tx
+			.update(listings)
+			.set({ delistedAt: now, updatedAt: now })
+			.where(and(eq(listings.id, c.listingId), sql`${listings.delistedAt} is null`));
 	}
 	for (const p of pauses.sort((a, b) => a.shopId - b.shopId)) {
 		await tx
@@ -318,12 +373,16 @@ async function writeBatch(tx: PollerTx, batch: PendingPoll[], o: Omit<RecordOpti
 	}
 
 	// One outcome count per shop, day and outcome for the whole batch, in key order (no lock cycles).
-	const counts = new Map<string, { shopId: number; day: string; outcome: PollOutcome; count: number; lastAt: Date; lastDetail: string }>();
+	const counts = new Map<
+		string,
+		{ shopId: number; day: string; outcome: PollOutcome; count: number; lastAt: Date; lastDetail: string }
+	>();
 	for (const r of written) {
 		const day = r.at.toISOString().slice(0, 10);
 		const key = `${r.shopId}|${day}|${r.outcome}`;
 		const k = counts.get(key);
-		if (!k) counts.set(key, { shopId: r.shopId, day, outcome: r.outcome, count: 1, lastAt: r.at, lastDetail: r.detail });
+		if (!k)
+			counts.set(key, { shopId: r.shopId, day, outcome: r.outcome, count: 1, lastAt: r.at, lastDetail: r.detail });
 		else {
 			k.count++;
 			if (r.at >= k.lastAt) Object.assign(k, { lastAt: r.at, lastDetail: r.detail });
@@ -369,7 +428,8 @@ async function writeStockEvents(tx: PollerTx, changes: Change[], quietMs: number
 	const planned: Array<Omit<StockEventRecord, 'id'> & { ch: Change }> = [];
 	for (const ch of changes) {
 		const { offer, state } = ch;
-		const previous: StockState | null = state.currentStock === 'unknown' ? (lastKnown.get(ch.item.c.listingId) ?? null) : state.currentStock;
+		const previous: StockState | null =
+			state.currentStock === 'unknown' ? (lastKnown.get(ch.item.c.listingId) ?? null) : state.currentStock;
 		const kinds: StockEventRecord['kind'][] = [];
 		if (previous && offer.stock !== 'unknown') {
 			if (!isBuyable(previous) && isBuyable(offer.stock)) kinds.push('restock');
@@ -387,7 +447,17 @@ async function writeStockEvents(tx: PollerTx, changes: Change[], quietMs: number
 		}
 		for (const kind of kinds) {
 			const { c, now } = ch.item;
-			planned.push({ ch, listingId: c.listingId, observationId: ch.result.observationId!, kind, at: now, priceMinor: offer.priceMinor, currency: offer.currency, previousStock: previous, quiet: false });
+			planned.push({
+				ch,
+				listingId: c.listingId,
+				observationId: ch.result.observationId!,
+				kind,
+				at: now,
+				priceMinor: offer.priceMinor,
+				currency: offer.currency,
+				previousStock: previous,
+				quiet: false
+			});
 		}
 	}
 	if (!planned.length) return [];

@@ -3,7 +3,13 @@
  * section 2.4: never longer than 24 hours). Parsing and the fetch-outcome rules are the shared
  * ones in $lib/feeds (robotsFromFetch: 4xx allows all, 5xx or network error disallows all).
  */
-import { explainAllowed, robotsCacheExpired, robotsFromFetch, ROBOTS_MAX_REDIRECTS, type RobotsRules } from '../../feeds';
+import {
+	explainAllowed,
+	robotsCacheExpired,
+	robotsFromFetch,
+	ROBOTS_MAX_REDIRECTS,
+	type RobotsRules
+} from '../../feeds';
 import { ROBOTS_ERROR_RETRY_MS } from './config';
 import { fetchPage, type HopBlock } from './http';
 

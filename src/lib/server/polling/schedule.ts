@@ -32,7 +32,12 @@ export function backoffDelayMs(intervalMinutes: number, failures: number, random
  * An HTTP-date is measured against the response's own Date header when there is one, so a shop
  * whose clock runs off (or a test's injected clock) still gets the wait it asked for.
  */
-export function parseRetryAfter(value: string | null | undefined, now: Date, serverDate?: string | null, realNow: number = Date.now()): Date | null {
+export function parseRetryAfter(
+	value: string | null | undefined,
+	now: Date,
+	serverDate?: string | null,
+	realNow: number = Date.now()
+): Date | null {
 	if (!value) return null;
 	const v = value.trim();
 	let waitMs: number;

@@ -14,7 +14,11 @@ export interface WriteQueue {
 	idle(): Promise<void>;
 }
 
-export function createWriteQueue(write: (batch: PendingPoll[]) => Promise<PollResult[]>, maxBatch = 100, writers = 2): WriteQueue {
+export function createWriteQueue(
+	write: (batch: PendingPoll[]) => Promise<PollResult[]>,
+	maxBatch = 100,
+	writers = 2
+): WriteQueue {
 	let queue: Array<{ item: PendingPoll; done: (r: PollResult) => void; fail: (e: unknown) => void }> = [];
 	const writing = new Set<Promise<void>>();
 	/** Listings in a batch being written: a second verdict for one waits until that batch is done. */

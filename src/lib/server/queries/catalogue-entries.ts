@@ -7,7 +7,14 @@ import { asc, eq, inArray } from 'drizzle-orm';
 import type { PgDatabase, PgQueryResultHKT } from 'drizzle-orm/pg-core';
 import * as schema from '../db/schema';
 import { chips, converters, revisions } from '../db/schema';
-import { leadExpected, leadGrade, type CatalogueEntry, type CatalogueOffer, type CatalogueRevision, type PowerKind } from '../../finder';
+import {
+	leadExpected,
+	leadGrade,
+	type CatalogueEntry,
+	type CatalogueOffer,
+	type CatalogueRevision,
+	type PowerKind
+} from '../../finder';
 import {
 	bestOfferByConverter,
 	convertMinor,
@@ -114,25 +121,24 @@ export function buildEntries(
 	const revsBy = groupBy(revs, (r) => r.converterId);
 	const offersBy = groupBy(offers, (o) => o.converterId);
 	return rows.map((c) => {
-		const revisionsOf: CatalogueRevision[] = (revsBy.get(c.id) ?? [])
-			.map((r) => ({
-				id: r.id,
-				code: r.code,
-				chip: r.chip,
-				chipSlug: r.chipSlug,
-				boardMarking: r.boardMarking,
-				band: r.band,
-				score: r.score,
-				deviationIre: r.deviationIre,
-				bandReason: r.bandReason,
-				expected: r.expected,
-				expectedBasis: r.expectedBasis,
-				expectedDeviationIre: r.expectedDeviationIre,
-				runs: r.runs,
-				retired: r.retiredAt !== null,
-				seenFrom: r.seenFrom,
-				seenTo: r.seenTo
-			}));
+		const revisionsOf: CatalogueRevision[] = (revsBy.get(c.id) ?? []).map((r) => ({
+			id: r.id,
+			code: r.code,
+			chip: r.chip,
+			chipSlug: r.chipSlug,
+			boardMarking: r.boardMarking,
+			band: r.band,
+			score: r.score,
+			deviationIre: r.deviationIre,
+			bandReason: r.bandReason,
+			expected: r.expected,
+			expectedBasis: r.expectedBasis,
+			expectedDeviationIre: r.expectedDeviationIre,
+			runs: r.runs,
+			retired: r.retiredAt !== null,
+			seenFrom: r.seenFrom,
+			seenTo: r.seenTo
+		}));
 		const lead = leadGrade(revisionsOf);
 		const inRegion = (offersBy.get(c.id) ?? []).filter((o) => servesRegion(o, view.region));
 		const bestOffer = best.get(c.id);

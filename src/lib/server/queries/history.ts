@@ -18,7 +18,14 @@
 import { asc, eq, inArray } from 'drizzle-orm';
 import type { Database } from '../db/client';
 import { listingStates, listings, observations, shops, type PollOutcome, type StockState } from '../db/schema';
-import { bestOfferByConverter, isBuyable, REGION_CODES, REGION_CURRENCY, type PricedOffer, type Region } from '../../pricing';
+import {
+	bestOfferByConverter,
+	isBuyable,
+	REGION_CODES,
+	REGION_CURRENCY,
+	type PricedOffer,
+	type Region
+} from '../../pricing';
 import { currentOffers, loadRates } from './offers';
 
 const DAY = 86_400_000;
@@ -178,7 +185,14 @@ export type HistoryRange = (typeof HISTORY_RANGES)[number];
 const RANGE_DAYS: Record<Exclude<HistoryRange, 'all'>, number> = { '30d': 30, '90d': 90, '1y': 365 };
 
 export interface ListingHistory {
-	listing: { id: number; converterId: number; url: string; currency: string; delistedAt: Date | null; shop: { slug: string; name: string; region: Region } };
+	listing: {
+		id: number;
+		converterId: number;
+		url: string;
+		currency: string;
+		delistedAt: Date | null;
+		shop: { slug: string; name: string; region: Region };
+	};
 	current: {
 		priceMinor: number | null;
 		currency: string | null;
@@ -202,7 +216,13 @@ export interface ListingHistory {
 async function loadPoints(db: Database, listingIds: number[]): Promise<Map<number, ChangePoint[]>> {
 	const rows = listingIds.length
 		? await db
-				.select({ listingId: observations.listingId, at: observations.observedAt, priceMinor: observations.priceMinor, currency: observations.currency, stock: observations.stock })
+				.select({
+					listingId: observations.listingId,
+					at: observations.observedAt,
+					priceMinor: observations.priceMinor,
+					currency: observations.currency,
+					stock: observations.stock
+				})
 				.from(observations)
 				.where(inArray(observations.listingId, listingIds))
 				.orderBy(asc(observations.listingId), asc(observations.observedAt), asc(observations.id))
@@ -224,7 +244,11 @@ export async function listingHistory(
 	const now = opts.now ?? new Date();
 	const range = opts.range ?? '90d';
 	const [row] = await db
-		.select({ listing: listings, shop: { slug: shops.slug, name: shops.name, region: shops.region, currency: shops.currency }, state: listingStates })
+		.select({
+			listing: listings,
+			shop: { slug: shops.slug, name: shops.name, region: shops.region, currency: shops.currency },
+			state: listingStates
+		})
 		.from(listings)
 		.innerJoin(shops, eq(shops.id, listings.shopId))
 		.leftJoin(listingStates, eq(listingStates.listingId, listings.id))
@@ -237,7 +261,9 @@ export async function listingHistory(
 	const upto = all.filter((p) => p.at <= to);
 	const inRange = upto.filter((p) => p.at >= from);
 	const before = upto.filter((p) => p.at < from).pop();
-	const chart: Array<ChangePoint & { carried?: boolean }> = before ? [{ ...before, at: from, carried: true }, ...inRange] : inRange;
+	const chart: Array<ChangePoint & { carried?: boolean }> = before
+		? [{ ...before, at: from, carried: true }, ...inRange]
+		: inRange;
 	const maxPoints = Math.min(Math.max(opts.points ?? 300, 10), 1000);
 	const sampled = downsampleSteps(chart, from, to, maxPoints);
 	const st = row.state;
@@ -272,16 +298,26 @@ export async function listingHistory(
 }
 
 /** 30- and 90-day figures for many listings at once (converter and guide pages). */
-export async function listingFigures(db: Database, listingIds: number[], now = new Date()): Promise<Map<number, { d30: WindowFigures; d90: WindowFigures }>> {
+export async function listingFigures(
+	db: Database,
+	listingIds: number[],
+	now = new Date()
+): Promise<Map<number, { d30: WindowFigures; d90: WindowFigures }>> {
 	const points = await loadPoints(db, listingIds);
 	const delisted = listingIds.length
-		? await db.select({ id: listings.id, delistedAt: listings.delistedAt }).from(listings).where(inArray(listings.id, listingIds))
+		? await db
+				.select({ id: listings.id, delistedAt: listings.delistedAt })
+				.from(listings)
+				.where(inArray(listings.id, listingIds))
 		: [];
 	const ends = new Map(delisted.map((d) => [d.id, d.delistedAt && d.delistedAt < now ? d.delistedAt : now]));
 	const out = new Map<number, { d30: WindowFigures; d90: WindowFigures }>();
 	for (const [id, pts] of points) {
 		const to = ends.get(id) ?? now;
-		out.set(id, { d30: windowFigures(pts, new Date(to.getTime() - 30 * DAY), to), d90: windowFigures(pts, new Date(to.getTime() - 90 * DAY), to) });
+		out.set(id, {
+			d30: windowFigures(pts, new Date(to.getTime() - 30 * DAY), to),
+			d90: windowFigures(pts, new Date(to.getTime() - 90 * DAY), to)
+		});
 	}
 	return out;
 }
@@ -290,8 +326,15 @@ export async function listingFigures(db: Database, listingIds: number[], now = n
  * Per converter, the best buyable offer in every region, priced in the region's currency through the
  * latest exchange rates (bestOfferByConverter over currentOffers). A region without one maps to null.
  */
-export async function bestOffersByRegion(db: Database, converterIds?: number[], now = new Date()): Promise<Map<number, Record<Region, PricedOffer | null>>> {
-	const [offers, rates] = await Promise.all([currentOffers(db, converterIds), loadRates(db, now.toISOString().slice(0, 10))]);
+export async function bestOffersByRegion(
+	db: Database,
+	converterIds?: number[],
+	now = new Date()
+): Promise<Map<number, Record<Region, PricedOffer | null>>> {
+	const [offers, rates] = await Promise.all([
+		currentOffers(db, converterIds),
+		loadRates(db, now.toISOString().slice(0, 10))
+	]);
 	const ids = converterIds ?? [...new Set(offers.map((o) => o.converterId))];
 	const out = new Map<number, Record<Region, PricedOffer | null>>(
 		ids.map((id) => [id, Object.fromEntries(REGION_CODES.map((r) => [r, null])) as Record<Region, PricedOffer | null>])

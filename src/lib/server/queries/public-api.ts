@@ -15,8 +15,14 @@ function apiOffer(o: CatalogueOffer | null) {
 	};
 }
 
-function apiExpected(r: { expected: CatalogueEntry['bestBand']; expectedBasis: string | null; expectedDeviationIre?: number | null }) {
-	return r.expected ? { band: r.expected, basis: r.expectedBasis ?? '', deviationIre: r.expectedDeviationIre ?? null } : null;
+function apiExpected(r: {
+	expected: CatalogueEntry['bestBand'];
+	expectedBasis: string | null;
+	expectedDeviationIre?: number | null;
+}) {
+	return r.expected
+		? { band: r.expected, basis: r.expectedBasis ?? '', deviationIre: r.expectedDeviationIre ?? null }
+		: null;
 }
 
 export function apiConverter(e: CatalogueEntry) {

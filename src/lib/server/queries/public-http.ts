@@ -13,7 +13,8 @@ export const DATA_LICENCE = {
 	name: 'CC BY 4.0',
 	url: 'https://creativecommons.org/licenses/by/4.0/',
 	attribution: 'Scopegrade bench data',
-	notice: 'Scopegrade bench data, licensed CC BY 4.0 (https://creativecommons.org/licenses/by/4.0/). Grades use Scopegrade\'s own rubric, not a published standard.'
+	notice:
+		"Scopegrade bench data, licensed CC BY 4.0 (https://creativecommons.org/licenses/by/4.0/). Grades use Scopegrade's own rubric, not a published standard."
 } as const;
 
 /** Shared caches may keep public answers briefly; browsers revalidate (ETag, 304) every time. */

@@ -76,7 +76,8 @@ export function viewpoint(
 ): Viewpoint {
 	const cookieRegion = regionSchema.safeParse(cookies?.get(REGION_COOKIE));
 	const cookieCurrency = currencySchema.safeParse(cookies?.get(CURRENCY_COOKIE));
-	const region: Region = input.region ?? (cookieRegion.success ? cookieRegion.data : regionFromAcceptLanguage(acceptLanguage));
+	const region: Region =
+		input.region ?? (cookieRegion.success ? cookieRegion.data : regionFromAcceptLanguage(acceptLanguage));
 	let currency: string;
 	if (input.currency) currency = input.currency;
 	else if (input.region) currency = REGION_CURRENCY[input.region];

@@ -107,7 +107,12 @@ async function runsFor(db: Database, revisionIds: number[]) {
 		? await db
 				.select()
 				.from(benchReadings)
-				.where(inArray(benchReadings.benchRunId, runs.map((r) => r.id)))
+				.where(
+					inArray(
+						benchReadings.benchRunId,
+						runs.map((r) => r.id)
+					)
+				)
 				.orderBy(asc(benchReadings.benchRunId), asc(benchReadings.ire))
 		: [];
 	const out = new Map<number, PublicBenchRun[]>();
@@ -184,8 +189,15 @@ function publicRevision(
 }
 
 /** One converter with everything its page shows, or null when there is no such live converter. */
-export async function loadConverterDetail(db: Database, slug: string, view: Viewpoint): Promise<ConverterDetail | null> {
-	const [row] = await db.select().from(converters).where(and(eq(converters.slug, slug), isNull(converters.retiredAt)));
+export async function loadConverterDetail(
+	db: Database,
+	slug: string,
+	view: Viewpoint
+): Promise<ConverterDetail | null> {
+	const [row] = await db
+		.select()
+		.from(converters)
+		.where(and(eq(converters.slug, slug), isNull(converters.retiredAt)));
 	if (!row) return null;
 	const [revs, offers, rates, [entry]] = await Promise.all([
 		revisionsFor(db, [row.id]),
@@ -194,9 +206,18 @@ export async function loadConverterDetail(db: Database, slug: string, view: View
 		loadEntries(db, view, [row.id])
 	]);
 	if (!entry) return null;
-	const runs = await runsFor(db, revs.map((r) => r.id));
+	const runs = await runsFor(
+		db,
+		revs.map((r) => r.id)
+	);
 	const teardownRows = await verifiedTeardowns(db, { converterId: row.id });
-	const history = groupBy(await gradeHistoryOf(db, revs.map((r) => r.id)), (h) => h.revisionId);
+	const history = groupBy(
+		await gradeHistoryOf(
+			db,
+			revs.map((r) => r.id)
+		),
+		(h) => h.revisionId
+	);
 	const teardowns: TeardownRow[] = teardownRows.map((t) => ({
 		id: t.id,
 		revisionCode: t.revision,
@@ -249,14 +270,22 @@ export async function loadCompare(db: Database, slugs: string[], view: Viewpoint
 /** One revision with its converter slug and accepted runs (for /api/v1/revisions/[id]). */
 export async function loadRevision(db: Database, id: number) {
 	const [r] = await db
-		.select({ converterId: revisions.converterId, slug: converters.slug, brand: converters.brand, model: converters.model })
+		.select({
+			converterId: revisions.converterId,
+			slug: converters.slug,
+			brand: converters.brand,
+			model: converters.model
+		})
 		.from(revisions)
 		.innerJoin(converters, eq(converters.id, revisions.converterId))
 		.where(and(eq(revisions.id, id), isNull(converters.retiredAt)));
 	if (!r) return null;
 	const revs = (await revisionsFor(db, [r.converterId])).filter((x) => x.id === id);
 	const runs = await runsFor(db, [id]);
-	return { converter: { slug: r.slug, brand: r.brand, model: r.model }, revision: publicRevision(revs[0], runs.get(id) ?? []) };
+	return {
+		converter: { slug: r.slug, brand: r.brand, model: r.model },
+		revision: publicRevision(revs[0], runs.get(id) ?? [])
+	};
 }
 
 /** Current listings of one converter, every region (for /api/v1/listings). */
@@ -310,9 +339,7 @@ export async function loadRestocks(db: Database, limit = 50): Promise<RestockRow
 	const revs = await revisionsFor(db, [...new Set(rows.map((r) => r.converterId))]);
 	return rows.map((r) => {
 		const lead = leadGrade(
-			revs
-				.filter((x) => x.converterId === r.converterId)
-				.map((x) => ({ ...x, retired: x.retiredAt !== null }))
+			revs.filter((x) => x.converterId === r.converterId).map((x) => ({ ...x, retired: x.retiredAt !== null }))
 		);
 		return {
 			id: r.id,
@@ -434,12 +461,11 @@ export interface CatalogueExportRow {
 
 /** One row per revision of every live converter. */
 export async function exportCatalogue(db: Database): Promise<CatalogueExportRow[]> {
-	const rows = await db
-		.select()
-		.from(converters)
-		.where(isNull(converters.retiredAt))
-		.orderBy(asc(converters.slug));
-	const revs = await revisionsFor(db, rows.map((r) => r.id));
+	const rows = await db.select().from(converters).where(isNull(converters.retiredAt)).orderBy(asc(converters.slug));
+	const revs = await revisionsFor(
+		db,
+		rows.map((r) => r.id)
+	);
 	return revs
 		.map((r) => {
 			const c = rows.find((x) => x.id === r.converterId)!;

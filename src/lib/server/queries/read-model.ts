@@ -19,7 +19,15 @@ import { currentOffers, loadRates } from './offers';
 import { bandRank } from '../../components/bands';
 import { minorDigits } from '../../feeds/currency';
 import { convertMinor, REGION_CODES, REGION_CURRENCY, type RatesPerEur } from '../../pricing';
-import { rankFinder, type CatalogueEntry, type CatalogueFilter, type CatalogueOffer, type CatalogueSort, type FinderInput, type FinderResult } from '../../finder';
+import {
+	rankFinder,
+	type CatalogueEntry,
+	type CatalogueFilter,
+	type CatalogueOffer,
+	type CatalogueSort,
+	type FinderInput,
+	type FinderResult
+} from '../../finder';
 
 const BATCH = 400;
 
@@ -80,9 +88,20 @@ export async function rebuildCards(db: Db, ids: number[] | 'all'): Promise<numbe
 			.onConflictDoUpdate({
 				target: [converterCards.region, converterCards.converterId],
 				set: Object.fromEntries(
-					['slug', 'brand', 'model', 'has_audio_out', 'power', 'band_rank', 'score', 'best_eur', 'buyable', 'in_stock_shops', 'entry', 'refreshed_at'].map(
-						(c) => [c.replace(/_(\w)/g, (_, x: string) => x.toUpperCase()), sql.raw(`excluded.${c}`)]
-					)
+					[
+						'slug',
+						'brand',
+						'model',
+						'has_audio_out',
+						'power',
+						'band_rank',
+						'score',
+						'best_eur',
+						'buyable',
+						'in_stock_shops',
+						'entry',
+						'refreshed_at'
+					].map((c) => [c.replace(/_(\w)/g, (_, x: string) => x.toUpperCase()), sql.raw(`excluded.${c}`)])
 				)
 			});
 	}
@@ -96,7 +115,13 @@ export async function rebuildCards(db: Db, ids: number[] | 'all'): Promise<numbe
  */
 export async function refreshCards(tx: Db, ids: number[] | 'all'): Promise<void> {
 	if (ids === 'all') await tx.delete(cardDirty);
-	else if (ids.length) await tx.delete(cardDirty).where(inArray(cardDirty.converterId, [...new Set(ids)].sort((a, b) => a - b)));
+	else if (ids.length)
+		await tx.delete(cardDirty).where(
+			inArray(
+				cardDirty.converterId,
+				[...new Set(ids)].sort((a, b) => a - b)
+			)
+		);
 	await rebuildCards(tx, ids === 'all' ? 'all' : [...new Set(ids)]);
 }
 
@@ -104,7 +129,10 @@ export async function refreshCards(tx: Db, ids: number[] | 'all'): Promise<void>
 export async function refreshListingCards(tx: Db, listingIds: number[]): Promise<void> {
 	if (!listingIds.length) return;
 	const rows = await tx.select({ id: listings.converterId }).from(listings).where(inArray(listings.id, listingIds));
-	await refreshCards(tx, rows.map((r) => r.id));
+	await refreshCards(
+		tx,
+		rows.map((r) => r.id)
+	);
 }
 
 /**
@@ -125,10 +153,20 @@ export async function refreshDirtyCards(db: Db): Promise<number> {
 }
 
 /** An entry as stored (priced in its region's currency) re-priced for the visitor's currency. */
-function inCurrency(e: CatalogueEntry, currency: string, rates: RatesPerEur, checked: Map<number, string | null>): CatalogueEntry {
+function inCurrency(
+	e: CatalogueEntry,
+	currency: string,
+	rates: RatesPerEur,
+	checked: Map<number, string | null>
+): CatalogueEntry {
 	const price = (o: CatalogueOffer): CatalogueOffer => ({
 		...o,
-		displayMinor: o.displayCurrency === currency ? o.displayMinor : o.priceMinor != null && o.currency ? convertMinor(o.priceMinor, o.currency, currency, rates) : null,
+		displayMinor:
+			o.displayCurrency === currency
+				? o.displayMinor
+				: o.priceMinor != null && o.currency
+					? convertMinor(o.priceMinor, o.currency, currency, rates)
+					: null,
 		displayCurrency: currency,
 		lastCheckedAt: checked.has(o.listingId) ? checked.get(o.listingId)! : o.lastCheckedAt
 	});
@@ -137,7 +175,9 @@ function inCurrency(e: CatalogueEntry, currency: string, rates: RatesPerEur, che
 
 /** "Last checked" moves on every poll without changing a card: read it fresh for the page's offers. */
 async function lastChecked(db: Db, entries: CatalogueEntry[]): Promise<Map<number, string | null>> {
-	const ids = [...new Set(entries.flatMap((e) => e.offers.map((o) => o.listingId).concat(e.best ? [e.best.listingId] : [])))];
+	const ids = [
+		...new Set(entries.flatMap((e) => e.offers.map((o) => o.listingId).concat(e.best ? [e.best.listingId] : [])))
+	];
 	if (!ids.length) return new Map();
 	const rows = await db
 		.select({ id: listingStates.listingId, at: listingStates.lastCheckedAt })
@@ -178,7 +218,14 @@ function orderFor(sort: CardOrder, includeExpected?: boolean): SQL[] {
 		case 'price':
 			return [priceNullsLast, ...band, ...byName];
 		case 'finder':
-			return [...(includeExpected ? [asc(rankWith(true))] : []), asc(converterCards.bandRank), asc(converterCards.buyable), desc(converterCards.score), priceNullsLast, ...byName];
+			return [
+				...(includeExpected ? [asc(rankWith(true))] : []),
+				asc(converterCards.bandRank),
+				asc(converterCards.buyable),
+				desc(converterCards.score),
+				priceNullsLast,
+				...byName
+			];
 		default:
 			return [...band, priceNullsLast, ...byName];
 	}
@@ -246,7 +293,12 @@ export async function loadCataloguePage(
 				.offset((page - 1) * opts.pageSize)
 		: [];
 	return {
-		entries: await hydrate(db, rows.map((r) => r.entry), view, rates),
+		entries: await hydrate(
+			db,
+			rows.map((r) => r.entry),
+			view,
+			rates
+		),
 		total: counts.total,
 		matching: counts.matching,
 		page,
@@ -267,7 +319,12 @@ export async function loadEntries(db: Db, view: Viewpoint, ids: number[]): Promi
 		loadRates(db)
 	]);
 	const byId = new Map(rows.map((r) => [r.id, r.entry]));
-	return hydrate(db, ids.filter((id) => byId.has(id)).map((id) => byId.get(id)), view, rates);
+	return hydrate(
+		db,
+		ids.filter((id) => byId.has(id)).map((id) => byId.get(id)),
+		view,
+		rates
+	);
 }
 
 /** Finder results shown at most: the best matches of a catalogue of thousands, ranked. */
@@ -281,17 +338,31 @@ export async function loadFinder(db: Db, view: Viewpoint, input: FinderInput): P
 	const { entries } = await loadCataloguePage(
 		db,
 		view,
-		{ order: 'finder', minBand: input.minBand, audio: input.needsAudio, inStock: input.inStockNow, priceMax: input.budgetMinor, includeExpected: input.includeExpected },
+		{
+			order: 'finder',
+			minBand: input.minBand,
+			audio: input.needsAudio,
+			inStock: input.inStockNow,
+			priceMax: input.budgetMinor,
+			includeExpected: input.includeExpected
+		},
 		{ pageSize: FINDER_LIMIT }
 	);
 	return rankFinder(entries, input);
 }
 
 /** Slug and name of every live converter (pickers), from the cards of one region. */
-export async function listConverterNames(db: Db): Promise<Array<{ id: number; slug: string; brand: string; model: string }>> {
+export async function listConverterNames(
+	db: Db
+): Promise<Array<{ id: number; slug: string; brand: string; model: string }>> {
 	await refreshDirtyCards(db);
 	return db
-		.select({ id: converterCards.converterId, slug: converterCards.slug, brand: converterCards.brand, model: converterCards.model })
+		.select({
+			id: converterCards.converterId,
+			slug: converterCards.slug,
+			brand: converterCards.brand,
+			model: converterCards.model
+		})
 		.from(converterCards)
 		.where(eq(converterCards.region, REGION_CODES[0]))
 		.orderBy(...byName);

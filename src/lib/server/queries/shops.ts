@@ -11,15 +11,43 @@
  */
 import { and, asc, desc, eq, gte, inArray, isNull, lte, sql } from 'drizzle-orm';
 import type { Database } from '../db/client';
-import { listingStates, listings, observations, pollCounts, shopPollStates, shops, type PollOutcome, type StockState } from '../db/schema';
+import {
+	listingStates,
+	listings,
+	observations,
+	pollCounts,
+	shopPollStates,
+	shops,
+	type PollOutcome,
+	type StockState
+} from '../db/schema';
 import { isBuyable, type Region } from '../../pricing';
-import { kaplanMeier, MIN_OUTLOOK_SPELLS, listingSpells, restockOutlook, type RestockOutlook, type Spell, type StockPoint } from '../../restock';
+import {
+	kaplanMeier,
+	MIN_OUTLOOK_SPELLS,
+	listingSpells,
+	restockOutlook,
+	type RestockOutlook,
+	type Spell,
+	type StockPoint
+} from '../../restock';
 import { shopRecordLine } from '../../shop-record';
 
 const DAY = 86_400_000;
 
 /** Outcomes that count as a failed poll (ok and not_modified are the successes). */
-export const FAILURE_OUTCOMES = new Set<PollOutcome>(['timeout', 'network', 'http_4xx', 'http_5xx', 'rate_limited', 'robots_disallowed', 'gone', 'unreadable', 'wrong_currency', 'too_large']);
+export const FAILURE_OUTCOMES = new Set<PollOutcome>([
+	'timeout',
+	'network',
+	'http_4xx',
+	'http_5xx',
+	'rate_limited',
+	'robots_disallowed',
+	'gone',
+	'unreadable',
+	'wrong_currency',
+	'too_large'
+]);
 
 export interface ShopHealth {
 	shop: { id: number; slug: string; name: string; active: boolean };
@@ -49,18 +77,34 @@ export interface ShopHealth {
 
 /** The UTC days [from, to] of a window of `days` days ending today. */
 export function healthWindow(now: Date, days: number): { from: string; to: string } {
-	return { to: now.toISOString().slice(0, 10), from: new Date(now.getTime() - (days - 1) * DAY).toISOString().slice(0, 10) };
+	return {
+		to: now.toISOString().slice(0, 10),
+		from: new Date(now.getTime() - (days - 1) * DAY).toISOString().slice(0, 10)
+	};
 }
 
 /** The poller's health per shop over the last `days` UTC days (today included). */
-export async function shopHealth(db: Database, opts: { now?: Date; days?: number; shopIds?: number[] } = {}): Promise<{ from: string; to: string; shops: ShopHealth[] }> {
+export async function shopHealth(
+	db: Database,
+	opts: { now?: Date; days?: number; shopIds?: number[] } = {}
+): Promise<{ from: string; to: string; shops: ShopHealth[] }> {
 	const now = opts.now ?? new Date();
 	const { from, to } = healthWindow(now, opts.days ?? 7);
 	const onlyShops = opts.shopIds ? inArray(shops.id, opts.shopIds.length ? opts.shopIds : [-1]) : undefined;
 	const [shopRows, counts, failing, pauses, active] = await Promise.all([
-		db.select({ id: shops.id, slug: shops.slug, name: shops.name, active: shops.active }).from(shops).where(onlyShops).orderBy(asc(shops.name)),
 		db
-			.select({ shopId: pollCounts.shopId, outcome: pollCounts.outcome, count: pollCounts.count, lastAt: pollCounts.lastAt, lastDetail: pollCounts.lastDetail })
+			.select({ id: shops.id, slug: shops.slug, name: shops.name, active: shops.active })
+			.from(shops)
+			.where(onlyShops)
+			.orderBy(asc(shops.name)),
+		db
+			.select({
+				shopId: pollCounts.shopId,
+				outcome: pollCounts.outcome,
+				count: pollCounts.count,
+				lastAt: pollCounts.lastAt,
+				lastDetail: pollCounts.lastDetail
+			})
 			.from(pollCounts)
 			.where(and(gte(pollCounts.day, from), lte(pollCounts.day, to))),
 		db
@@ -105,7 +149,9 @@ export async function shopHealth(db: Database, opts: { now?: Date; days?: number
 				failures,
 				failureShare: polls ? failures / polls : null,
 				lastPollAt: mine.length ? new Date(Math.max(...mine.map((c) => +c.lastAt))) : null,
-				lastError: lastFailure ? { outcome: lastFailure.outcome, at: lastFailure.lastAt, detail: lastFailure.lastDetail } : null,
+				lastError: lastFailure
+					? { outcome: lastFailure.outcome, at: lastFailure.lastAt, detail: lastFailure.lastDetail }
+					: null,
 				pausedUntil: paused ? pause!.pausedUntil : null,
 				pauseReason: paused ? pause!.pauseReason : null,
 				activeListings: Number(active.find((a) => a.shopId === shop.id)?.n ?? 0),
@@ -148,11 +194,22 @@ interface ListingRow {
 	delistedAt: Date | null;
 }
 
-async function loadStockPoints(db: Database, listingIds: number[]): Promise<Map<number, Array<StockPoint & { priceMinor: number | null; currency: string | null }>>> {
-	const out = new Map<number, Array<StockPoint & { priceMinor: number | null; currency: string | null }>>(listingIds.map((id) => [id, []]));
+async function loadStockPoints(
+	db: Database,
+	listingIds: number[]
+): Promise<Map<number, Array<StockPoint & { priceMinor: number | null; currency: string | null }>>> {
+	const out = new Map<number, Array<StockPoint & { priceMinor: number | null; currency: string | null }>>(
+		listingIds.map((id) => [id, []])
+	);
 	if (!listingIds.length) return out;
 	const rows = await db
-		.select({ listingId: observations.listingId, at: observations.observedAt, stock: observations.stock, priceMinor: observations.priceMinor, currency: observations.currency })
+		.select({
+			listingId: observations.listingId,
+			at: observations.observedAt,
+			stock: observations.stock,
+			priceMinor: observations.priceMinor,
+			currency: observations.currency
+		})
 		.from(observations)
 		.where(inArray(observations.listingId, listingIds))
 		.orderBy(asc(observations.listingId), asc(observations.observedAt), asc(observations.id));
@@ -161,24 +218,41 @@ async function loadStockPoints(db: Database, listingIds: number[]): Promise<Map<
 }
 
 /** Restock outlooks of listings; a delisted listing's history ends at its delisting. */
-export async function listingOutlooks(db: Database, listingIds: number[], now = new Date()): Promise<Map<number, RestockOutlook>> {
+export async function listingOutlooks(
+	db: Database,
+	listingIds: number[],
+	now = new Date()
+): Promise<Map<number, RestockOutlook>> {
 	if (!listingIds.length) return new Map();
 	const [points, rows] = await Promise.all([
 		loadStockPoints(db, listingIds),
-		db.select({ id: listings.id, delistedAt: listings.delistedAt }).from(listings).where(inArray(listings.id, listingIds))
+		db
+			.select({ id: listings.id, delistedAt: listings.delistedAt })
+			.from(listings)
+			.where(inArray(listings.id, listingIds))
 	]);
 	const end = new Map(rows.map((r) => [r.id, r.delistedAt && r.delistedAt < now ? r.delistedAt : now]));
 	return new Map(listingIds.map((id) => [id, restockOutlook(points.get(id) ?? [], end.get(id) ?? now)]));
 }
 
 /** Shop records for the given shops (all shops when omitted), keyed by shop id. */
-export async function shopRecords(db: Database, opts: { shopIds?: number[]; now?: Date } = {}): Promise<Map<number, ShopRecord>> {
+export async function shopRecords(
+	db: Database,
+	opts: { shopIds?: number[]; now?: Date } = {}
+): Promise<Map<number, ShopRecord>> {
 	const now = opts.now ?? new Date();
 	const to = now.getTime();
 	const from = to - RECORD_DAYS * DAY;
 	const only = opts.shopIds ? inArray(shops.id, opts.shopIds.length ? opts.shopIds : [-1]) : undefined;
 	const shopRows = await db
-		.select({ id: shops.id, slug: shops.slug, name: shops.name, region: shops.region, currency: shops.currency, baseUrl: shops.baseUrl })
+		.select({
+			id: shops.id,
+			slug: shops.slug,
+			name: shops.name,
+			region: shops.region,
+			currency: shops.currency,
+			baseUrl: shops.baseUrl
+		})
 		.from(shops)
 		.where(only);
 	const ids = shopRows.map((s) => s.id);
@@ -186,12 +260,20 @@ export async function shopRecords(db: Database, opts: { shopIds?: number[]; now?
 		shopHealth(db, { now, days: RECORD_DAYS, shopIds: ids }),
 		ids.length
 			? db
-					.select({ id: listings.id, shopId: listings.shopId, createdAt: listings.createdAt, delistedAt: listings.delistedAt })
+					.select({
+						id: listings.id,
+						shopId: listings.shopId,
+						createdAt: listings.createdAt,
+						delistedAt: listings.delistedAt
+					})
 					.from(listings)
 					.where(and(inArray(listings.shopId, ids), eq(listings.active, true)))
 			: Promise.resolve([] as ListingRow[])
 	]);
-	const points = await loadStockPoints(db, listingRows.map((l) => l.id));
+	const points = await loadStockPoints(
+		db,
+		listingRows.map((l) => l.id)
+	);
 	const out = new Map<number, ShopRecord>();
 	for (const shop of shopRows) {
 		const mine = listingRows.filter((l) => l.shopId === shop.id);
@@ -212,7 +294,15 @@ export async function shopRecords(db: Database, opts: { shopIds?: number[]; now?
 			}
 			for (let i = 0; i < pts.length; i++) {
 				const t = pts[i].at.getTime();
-				if (i > 0 && t >= from && t <= end && pts[i].priceMinor != null && pts[i - 1].priceMinor != null && (pts[i].priceMinor !== pts[i - 1].priceMinor || pts[i].currency !== pts[i - 1].currency)) priceChanges++;
+				if (
+					i > 0 &&
+					t >= from &&
+					t <= end &&
+					pts[i].priceMinor != null &&
+					pts[i - 1].priceMinor != null &&
+					(pts[i].priceMinor !== pts[i - 1].priceMinor || pts[i].currency !== pts[i - 1].currency)
+				)
+					priceChanges++;
 				const segStart = Math.max(t, from);
 				const segEnd = Math.min(i + 1 < pts.length ? pts[i + 1].at.getTime() : end, end);
 				if (segEnd > segStart && pts[i].stock !== 'unknown') {
@@ -224,7 +314,9 @@ export async function shopRecords(db: Database, opts: { shopIds?: number[]; now?
 			for (const s of listingSpells(pts, new Date(end)).out) if (s.end! >= from) outSpells.push(s);
 		}
 		const km = kaplanMeier(outSpells);
-		const delistings = mine.filter((l) => l.delistedAt && l.delistedAt.getTime() >= from && l.delistedAt.getTime() <= to).length;
+		const delistings = mine.filter(
+			(l) => l.delistedAt && l.delistedAt.getTime() >= from && l.delistedAt.getTime() <= to
+		).length;
 		const record: ShopRecord = {
 			shop,
 			from: new Date(from),
@@ -252,9 +344,25 @@ export interface ListingNote {
 }
 
 /** What a listing row shows beside price and stock: its restock outlook and its shop's record line. */
-export async function listingNotes(db: Database, listingIds: number[], now = new Date()): Promise<Map<number, ListingNote>> {
+export async function listingNotes(
+	db: Database,
+	listingIds: number[],
+	now = new Date()
+): Promise<Map<number, ListingNote>> {
 	if (!listingIds.length) return new Map();
-	const rows = await db.select({ id: listings.id, shopId: listings.shopId, shopSlug: shops.slug }).from(listings).innerJoin(shops, eq(shops.id, listings.shopId)).where(inArray(listings.id, listingIds));
-	const [outlooks, records] = await Promise.all([listingOutlooks(db, listingIds, now), shopRecords(db, { shopIds: [...new Set(rows.map((r) => r.shopId))], now })]);
-	return new Map(rows.map((r) => [r.id, { outlook: outlooks.get(r.id)!, shop: { slug: r.shopSlug, line: records.get(r.shopId)?.line ?? null } }]));
+	const rows = await db
+		.select({ id: listings.id, shopId: listings.shopId, shopSlug: shops.slug })
+		.from(listings)
+		.innerJoin(shops, eq(shops.id, listings.shopId))
+		.where(inArray(listings.id, listingIds));
+	const [outlooks, records] = await Promise.all([
+		listingOutlooks(db, listingIds, now),
+		shopRecords(db, { shopIds: [...new Set(rows.map((r) => r.shopId))], now })
+	]);
+	return new Map(
+		rows.map((r) => [
+			r.id,
+			{ outlook: outlooks.get(r.id)!, shop: { slug: r.shopSlug, line: records.get(r.shopId)?.line ?? null } }
+		])
+	);
 }

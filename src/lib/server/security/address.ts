@@ -80,13 +80,18 @@ export class AddressRefused extends Error {
 /** Refuse with a message naming the host and the address, or pass. */
 export function assertPublicAddress(host: string, address: string): void {
 	const problem = addressProblem(address);
-	if (problem) throw new AddressRefused(`refusing ${host}: it resolves to ${address}, ${problem} (only public addresses are fetched)`);
+	if (problem)
+		throw new AddressRefused(
+			`refusing ${host}: it resolves to ${address}, ${problem} (only public addresses are fetched)`
+		);
 }
 
 export type Resolver = (host: string) => Promise<LookupAddress[]>;
 
 const systemResolver: Resolver = (host) =>
-	new Promise((resolve, reject) => dnsLookup(host, { all: true, verbatim: true }, (err, addresses) => (err ? reject(err) : resolve(addresses))));
+	new Promise((resolve, reject) =>
+		dnsLookup(host, { all: true, verbatim: true }, (err, addresses) => (err ? reject(err) : resolve(addresses)))
+	);
 
 type LookupCallback = (err: NodeJS.ErrnoException | null, address: string | LookupAddress[], family?: number) => void;
 
@@ -95,7 +100,11 @@ type LookupCallback = (err: NodeJS.ErrnoException | null, address: string | Look
  * (unless `allowPrivate`), and hands the connection exactly the addresses it checked.
  */
 export function checkedLookup(allowPrivate: boolean, resolver: Resolver = systemResolver) {
-	return (hostname: string, options: { all?: boolean; family?: number | string } | undefined, callback: LookupCallback) => {
+	return (
+		hostname: string,
+		options: { all?: boolean; family?: number | string } | undefined,
+		callback: LookupCallback
+	) => {
 		resolver(hostname).then(
 			(addresses) => {
 				try {
@@ -105,11 +114,17 @@ export function checkedLookup(allowPrivate: boolean, resolver: Resolver = system
 					callback(err as NodeJS.ErrnoException, '', 0);
 					return;
 				}
-				const family = options?.family === 6 || options?.family === 'IPv6' ? 6 : options?.family === 4 || options?.family === 'IPv4' ? 4 : 0;
+				const family =
+					options?.family === 6 || options?.family === 'IPv6'
+						? 6
+						: options?.family === 4 || options?.family === 'IPv4'
+							? 4
+							: 0;
 				const usable = family ? addresses.filter((a) => a.family === family) : addresses;
 				if (options?.all) callback(null, usable);
 				else if (usable[0]) callback(null, usable[0].address, usable[0].family);
-				else callback(Object.assign(new Error(`${hostname} has no IPv${family} address`), { code: 'ENOTFOUND' }), '', 0);
+				else
+					callback(Object.assign(new Error(`${hostname} has no IPv${family} address`), { code: 'ENOTFOUND' }), '', 0);
 			},
 			(err) => callback(err, '', 0)
 		);
@@ -131,10 +146,13 @@ export function guardedFetch(options: GuardedFetchOptions): typeof fetch {
 	const dispatcher = new Agent({ connect: { lookup: checkedLookup(options.allowPrivate, options.resolver) } });
 	return (async (input: string | URL | Request, init?: RequestInit) => {
 		const url = new URL(input instanceof Request ? input.url : String(input));
-		if (url.protocol !== 'http:' && url.protocol !== 'https:') throw new AddressRefused(`refusing ${url.protocol} URL: only http and https are fetched`);
+		if (url.protocol !== 'http:' && url.protocol !== 'https:')
+			throw new AddressRefused(`refusing ${url.protocol} URL: only http and https are fetched`);
 		const host = url.hostname.replace(/^\[|\]$/g, '');
 		if (!options.allowPrivate && isIP(host)) assertPublicAddress(host, host);
-		return undiciFetch(url, { ...(init as object), dispatcher } as Parameters<typeof undiciFetch>[1]) as unknown as Response;
+		return undiciFetch(url, { ...(init as object), dispatcher } as Parameters<
+			typeof undiciFetch
+		>[1]) as unknown as Response;
 	}) as typeof fetch;
 }
 
@@ -149,8 +167,13 @@ export function sharedGuardedFetch(allowPrivate: boolean): typeof fetch {
  * The URL-level check done before a hop: http(s) only, and (unless allowed) every address
  * the host resolves to is public. The connection itself is checked again by `guardedFetch`.
  */
-export async function assertFetchableUrl(url: URL, allowPrivate: boolean, resolver: Resolver = systemResolver): Promise<string[]> {
-	if (url.protocol !== 'http:' && url.protocol !== 'https:') throw new AddressRefused(`refusing ${url.protocol} URL: only http and https are fetched`);
+export async function assertFetchableUrl(
+	url: URL,
+	allowPrivate: boolean,
+	resolver: Resolver = systemResolver
+): Promise<string[]> {
+	if (url.protocol !== 'http:' && url.protocol !== 'https:')
+		throw new AddressRefused(`refusing ${url.protocol} URL: only http and https are fetched`);
 	const host = url.hostname.replace(/^\[|\]$/g, '').replace(/\.$/, '');
 	const addresses = isIP(host) ? [host] : (await resolver(host)).map((a) => a.address);
 	if (addresses.length === 0) throw new AddressRefused(`${host} has no addresses`);

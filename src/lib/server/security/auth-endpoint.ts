@@ -18,7 +18,9 @@ export const authEndpointLimit: Handle = async ({ event, resolve }) => {
 	if (!email) return resolve(event);
 	const answer = await checkSignInLimits(email, event.getClientAddress());
 	if (!answer.allowed) {
-		return problem(429, tooManySignIns(answer.retryAfterSeconds), { headers: { 'retry-after': String(answer.retryAfterSeconds) } });
+		return problem(429, tooManySignIns(answer.retryAfterSeconds), {
+			headers: { 'retry-after': String(answer.retryAfterSeconds) }
+		});
 	}
 	return resolve(event);
 };

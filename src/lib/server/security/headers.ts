@@ -18,6 +18,7 @@ export function applySecurityHeaders(response: Response, signedIn: boolean): Res
 	headers.set('Referrer-Policy', 'strict-origin-when-cross-origin');
 	headers.set('X-Frame-Options', 'DENY');
 	headers.set('Cross-Origin-Opener-Policy', 'same-origin');
-	if (signedIn && (headers.get('content-type') ?? '').startsWith('text/html')) headers.set('Cache-Control', 'private, no-store');
+	if (signedIn && (headers.get('content-type') ?? '').startsWith('text/html'))
+		headers.set('Cache-Control', 'private, no-store');
 	return response;
 }

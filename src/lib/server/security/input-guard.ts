@@ -18,18 +18,27 @@ export type InputRefusal = { status: 400 | 415; detail: string; field?: string }
 
 export async function inputRefusal(request: Request, url: URL): Promise<InputRefusal | null> {
 	try {
-		if (decodeURIComponent(url.pathname).includes('\0')) return { status: 400, detail: `The address contains a NUL character.` };
+		if (decodeURIComponent(url.pathname).includes('\0'))
+			return { status: 400, detail: `The address contains a NUL character.` };
 	} catch {
 		return { status: 400, detail: 'The address is not valid percent-encoding.' };
 	}
 	for (const [key, value] of url.searchParams) {
-		if (key.includes('\0') || value.includes('\0')) return { status: 400, detail: `${NUL_MESSAGE} (query parameter "${key.replace(/\0/g, '')}")`, field: key.replace(/\0/g, '') };
+		if (key.includes('\0') || value.includes('\0'))
+			return {
+				status: 400,
+				detail: `${NUL_MESSAGE} (query parameter "${key.replace(/\0/g, '')}")`,
+				field: key.replace(/\0/g, '')
+			};
 	}
 	if (!UNSAFE_METHODS.has(request.method) || !request.body) return null;
 	const type = (request.headers.get('content-type') ?? '').split(';')[0].trim().toLowerCase();
 	// Pages take only form posts (their actions); a JSON or text body there is a client mistake.
 	if (request.method === 'POST' && !FORM_TYPES.has(type) && !NON_PAGE_PREFIXES.some((p) => url.pathname.startsWith(p)))
-		return { status: 415, detail: `Forms here take form data (application/x-www-form-urlencoded or multipart/form-data), not ${type || 'an untyped body'}.` };
+		return {
+			status: 415,
+			detail: `Forms here take form data (application/x-www-form-urlencoded or multipart/form-data), not ${type || 'an untyped body'}.`
+		};
 	if (type === 'application/x-www-form-urlencoded' || type === 'multipart/form-data') {
 		let form: FormData;
 		try {

@@ -30,7 +30,8 @@ export function assertLinkOnOrigin(link: string, origin: URL | null): void {
 	} catch {
 		throw new Error('Auth.js built a sign-in link that is not a URL');
 	}
-	if (url.origin !== origin.origin) throw new Error(`refusing to e-mail a sign-in link to ${url.origin}: the public origin is ${origin.origin}`);
+	if (url.origin !== origin.origin)
+		throw new Error(`refusing to e-mail a sign-in link to ${url.origin}: the public origin is ${origin.origin}`);
 }
 
 /**

@@ -73,7 +73,13 @@ export function createStorage(config: StorageConfig): Storage {
 		bucket: Bucket,
 		async put(key, bytes, contentType) {
 			await client.send(
-				new PutObjectCommand({ Bucket, Key: key, Body: bytes, ContentType: contentType, ContentLength: bytes.byteLength })
+				new PutObjectCommand({
+					Bucket,
+					Key: key,
+					Body: bytes,
+					ContentType: contentType,
+					ContentLength: bytes.byteLength
+				})
 			);
 		},
 		async get(key) {
@@ -115,9 +121,7 @@ export function createStorage(config: StorageConfig): Storage {
 			const keys: string[] = [];
 			let token: string | undefined;
 			do {
-				const out = await client.send(
-					new ListObjectsV2Command({ Bucket, Prefix: prefix, ContinuationToken: token })
-				);
+				const out = await client.send(new ListObjectsV2Command({ Bucket, Prefix: prefix, ContinuationToken: token }));
 				for (const o of out.Contents ?? []) if (o.Key) keys.push(o.Key);
 				token = out.IsTruncated ? out.NextContinuationToken : undefined;
 			} while (token);

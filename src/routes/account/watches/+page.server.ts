@@ -38,24 +38,53 @@ export const load: PageServerLoad = async (event) => {
 			.orderBy(asc(converters.brand), asc(converters.model)),
 		db.select({ id: shops.id, name: shops.name, region: shops.region }).from(shops).orderBy(asc(shops.name))
 	]);
-	return { watches, prefs, converters: converterList, shops: shopList, outlooks: await watchedOutlooks(watches.map((w) => w.converterId).filter((id): id is number => id !== null)) };
+	return {
+		watches,
+		prefs,
+		converters: converterList,
+		shops: shopList,
+		outlooks: await watchedOutlooks(watches.map((w) => w.converterId).filter((id): id is number => id !== null))
+	};
 };
 
 /** Per watched converter, its listings' restock outlooks (only those with enough history to say something). */
 async function watchedOutlooks(converterIds: number[]) {
-	if (!converterIds.length) return {} as Record<number, Array<{ listingId: number; shopName: string; shopSlug: string; stock: string; text: string }>>;
+	if (!converterIds.length)
+		return {} as Record<
+			number,
+			Array<{ listingId: number; shopName: string; shopSlug: string; stock: string; text: string }>
+		>;
 	const rows = await db
-		.select({ id: listings.id, converterId: listings.converterId, shopName: shops.name, shopSlug: shops.slug, stock: listingStates.currentStock })
+		.select({
+			id: listings.id,
+			converterId: listings.converterId,
+			shopName: shops.name,
+			shopSlug: shops.slug,
+			stock: listingStates.currentStock
+		})
 		.from(listings)
 		.innerJoin(shops, eq(shops.id, listings.shopId))
 		.leftJoin(listingStates, eq(listingStates.listingId, listings.id))
 		.where(and(inArray(listings.converterId, converterIds), eq(listings.active, true), isNull(listings.delistedAt)))
 		.orderBy(asc(shops.name));
-	const notes = await listingNotes(db, rows.map((r) => r.id));
-	const out: Record<number, Array<{ listingId: number; shopName: string; shopSlug: string; stock: string; text: string }>> = {};
+	const notes = await listingNotes(
+		db,
+		rows.map((r) => r.id)
+	);
+	const out: Record<
+		number,
+		Array<{ listingId: number; shopName: string; shopSlug: string; stock: string; text: string }>
+	> = {};
 	for (const r of rows) {
 		const text = notes.get(r.id)?.outlook.text;
-		if (text) (out[r.converterId] ??= []).push({ listingId: r.id, shopName: r.shopName, shopSlug: r.shopSlug, stock: r.stock ?? 'unknown', text });
+		if (text)
+			(out[r.converterId] ??= []).push({
+				listingId: r.id,
+				shopName: r.shopName,
+				shopSlug: r.shopSlug,
+				stock: r.stock ?? 'unknown',
+				text
+			});
 	}
 	return out;
 }
@@ -77,7 +106,15 @@ function valuesOf(form: FormData) {
 
 function parseWatch(form: FormData) {
 	const values = valuesOf(form);
-	return { values, parsed: watchFormSchema.safeParse({ ...values, needsAudio: form.get('needsAudio'), alsoPriceDrops: form.get('alsoPriceDrops'), includeExpected: form.get('includeExpected') }) };
+	return {
+		values,
+		parsed: watchFormSchema.safeParse({
+			...values,
+			needsAudio: form.get('needsAudio'),
+			alsoPriceDrops: form.get('alsoPriceDrops'),
+			includeExpected: form.get('includeExpected')
+		})
+	};
 }
 
 function watchId(form: FormData): number | null {
@@ -95,7 +132,8 @@ export const actions: Actions = {
 		try {
 			await createWatch(db, user.id, parsed.data);
 		} catch (err) {
-			if (err instanceof WatchInputError) return fail(400, { form: 'create', values, errors: { [err.field]: err.message } });
+			if (err instanceof WatchInputError)
+				return fail(400, { form: 'create', values, errors: { [err.field]: err.message } });
 			throw err;
 		}
 		return { form: 'create', saved: 'Watch added.' };
@@ -105,12 +143,15 @@ export const actions: Actions = {
 		const form = await formOr400(event.request);
 		const id = watchId(form);
 		const { values, parsed } = parseWatch(form);
-		if (id == null) return fail(400, { form: `edit-${form.get('id')}`, values, errors: { form: 'That watch id is not valid.' } });
+		if (id == null)
+			return fail(400, { form: `edit-${form.get('id')}`, values, errors: { form: 'That watch id is not valid.' } });
 		if (!parsed.success) return fail(400, { form: `edit-${id}`, values, errors: fieldErrors(parsed.error) });
 		try {
-			if (!(await updateWatch(db, user.id, id, parsed.data))) return fail(404, { form: `edit-${id}`, values, errors: { form: 'That watch is no longer there.' } });
+			if (!(await updateWatch(db, user.id, id, parsed.data)))
+				return fail(404, { form: `edit-${id}`, values, errors: { form: 'That watch is no longer there.' } });
 		} catch (err) {
-			if (err instanceof WatchInputError) return fail(400, { form: `edit-${id}`, values, errors: { [err.field]: err.message } });
+			if (err instanceof WatchInputError)
+				return fail(400, { form: `edit-${id}`, values, errors: { [err.field]: err.message } });
 			throw err;
 		}
 		return { form: `edit-${id}`, saved: 'Watch saved.' };
@@ -121,7 +162,8 @@ export const actions: Actions = {
 		const id = watchId(form);
 		if (id == null) return fail(400, { form: 'list', errors: { form: 'That watch id is not valid.' } });
 		const paused = form.get('paused') === 'true';
-		if (!(await setPaused(db, user.id, id, paused))) return fail(404, { form: 'list', errors: { form: 'That watch is no longer there.' } });
+		if (!(await setPaused(db, user.id, id, paused)))
+			return fail(404, { form: 'list', errors: { form: 'That watch is no longer there.' } });
 		return { form: 'list', saved: paused ? 'Watch paused.' : 'Watch resumed.' };
 	},
 	delete: async (event) => {
@@ -129,7 +171,8 @@ export const actions: Actions = {
 		const form = await formOr400(event.request);
 		const id = watchId(form);
 		if (id == null) return fail(400, { form: 'list', errors: { form: 'That watch id is not valid.' } });
-		if (!(await deleteWatch(db, user.id, id))) return fail(404, { form: 'list', errors: { form: 'That watch is no longer there.' } });
+		if (!(await deleteWatch(db, user.id, id)))
+			return fail(404, { form: 'list', errors: { form: 'That watch is no longer there.' } });
 		return { form: 'list', saved: 'Watch deleted.' };
 	},
 	prefs: async (event) => {

@@ -8,7 +8,10 @@ import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
 	requireRole(event, 'admin');
-	return { rates: await listRates(db), form: await emptyForm(rateSchema, { base: 'EUR', day: new Date().toISOString().slice(0, 10) }) };
+	return {
+		rates: await listRates(db),
+		form: await emptyForm(rateSchema, { base: 'EUR', day: new Date().toISOString().slice(0, 10) })
+	};
 };
 
 export const actions: Actions = {

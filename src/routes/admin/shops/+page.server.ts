@@ -8,7 +8,10 @@ import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
 	requireRole(event, 'admin');
-	return { shops: await listShops(db), form: await emptyForm(shopSchema, { region: 'eu', defaultFormat: 'jsonld', active: true }) };
+	return {
+		shops: await listShops(db),
+		form: await emptyForm(shopSchema, { region: 'eu', defaultFormat: 'jsonld', active: true })
+	};
 };
 
 export const actions: Actions = {

@@ -13,21 +13,35 @@ export const load: PageServerLoad = async ({ params, url, cookies, request, loca
 	const detail = await loadConverterDetail(db, params.slug, view);
 	if (!detail) error(404, 'No converter by that name in the catalogue.');
 	const [figures, notes, watches] = await Promise.all([
-		listingFigures(db, detail.listings.map((l) => l.listingId)),
-		listingNotes(db, detail.listings.map((l) => l.listingId)),
+		listingFigures(
+			db,
+			detail.listings.map((l) => l.listingId)
+		),
+		listingNotes(
+			db,
+			detail.listings.map((l) => l.listingId)
+		),
 		locals.user ? listWatches(db, locals.user.id) : Promise.resolve([])
 	]);
 	const d90 = Object.fromEntries(
 		[...figures].map(([id, f]) => [
 			id,
-			{ lowestMinor: f.d90.lowestMinor, currency: f.d90.currency, buyableShare: f.d90.buyableShare, restocks: f.d90.restocks, typicalRestockHours: f.d90.typicalRestockHours }
+			{
+				lowestMinor: f.d90.lowestMinor,
+				currency: f.d90.currency,
+				buyableShare: f.d90.buyableShare,
+				restocks: f.d90.restocks,
+				typicalRestockHours: f.d90.typicalRestockHours
+			}
 		])
 	);
 	return {
 		view,
 		detail,
 		figures: d90,
-		notes: Object.fromEntries([...notes].map(([id, n]) => [id, { outlook: n.outlook.text, shopSlug: n.shop.slug, shopLine: n.shop.line }])),
+		notes: Object.fromEntries(
+			[...notes].map(([id, n]) => [id, { outlook: n.outlook.text, shopSlug: n.shop.slug, shopLine: n.shop.line }])
+		),
 		signedIn: locals.user !== null,
 		watchId: watches.find((w) => w.converterSlug === params.slug)?.id ?? null
 	};

@@ -31,7 +31,9 @@ export const actions: Actions = {
 		const user = requireRole(event, 'curator');
 		const form = await validate(event.request, listingSchema);
 		if (!form.valid) return invalid(form);
-		const res = await attempt(form, () => createListing(db, user, form.data, { allowPrivate: env.FEED_ALLOW_PRIVATE === 'true' }));
+		const res = await attempt(form, () =>
+			createListing(db, user, form.data, { allowPrivate: env.FEED_ALLOW_PRIVATE === 'true' })
+		);
 		if (!res.ok) return res.failure;
 		redirect(303, `/curate/listings/${res.value.id}`);
 	}

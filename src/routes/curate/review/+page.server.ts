@@ -12,7 +12,12 @@ import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
 	requireRole(event, 'curator');
-	const [teardowns, runs, options, flags] = await Promise.all([pendingTeardowns(db), pendingRuns(db), catalogueOptions(db), openFlags(db)]);
+	const [teardowns, runs, options, flags] = await Promise.all([
+		pendingTeardowns(db),
+		pendingRuns(db),
+		catalogueOptions(db),
+		openFlags(db)
+	]);
 	return { teardowns, runs, flags, revisions: options.revisions, chips: options.chips };
 };
 
@@ -29,7 +34,13 @@ export const actions: Actions = {
 		const res = await attempt(form, () => reviewTeardown(db, user, form.data));
 		if (!res.ok) {
 			const m = res.failure.data.form.message as { text?: string } | undefined;
-			return itemFailure('teardown', form.data.id, res.failure.status, m?.text ?? 'Could not save the review.', form.data.reason);
+			return itemFailure(
+				'teardown',
+				form.data.id,
+				res.failure.status,
+				m?.text ?? 'Could not save the review.',
+				form.data.reason
+			);
 		}
 		redirect(303, `/curate/review?done=teardown-${form.data.decision}`);
 	},
@@ -41,7 +52,13 @@ export const actions: Actions = {
 		const res = await attempt(form, () => reviewBenchRun(db, user, form.data));
 		if (!res.ok) {
 			const m = res.failure.data.form.message as { text?: string } | undefined;
-			return itemFailure('run', form.data.id, res.failure.status, m?.text ?? 'Could not save the review.', form.data.reason);
+			return itemFailure(
+				'run',
+				form.data.id,
+				res.failure.status,
+				m?.text ?? 'Could not save the review.',
+				form.data.reason
+			);
 		}
 		redirect(303, `/curate/review?done=run-${form.data.decision}`);
 	},
@@ -53,7 +70,13 @@ export const actions: Actions = {
 		const res = await attempt(form, () => decideFlag(db, user, form.data));
 		if (!res.ok) {
 			const m = res.failure.data.form.message as { text?: string } | undefined;
-			return itemFailure('flag', form.data.id, res.failure.status, m?.text ?? 'Could not save the decision.', form.data.note);
+			return itemFailure(
+				'flag',
+				form.data.id,
+				res.failure.status,
+				m?.text ?? 'Could not save the decision.',
+				form.data.note
+			);
 		}
 		redirect(303, `/curate/review?done=flag-${form.data.decision}`);
 	}

@@ -13,7 +13,14 @@ export const load: PageServerLoad = async ({ params, setHeaders }) => {
 	const [records, rows] = await Promise.all([
 		shopRecords(db, { shopIds: [shop.id] }),
 		db
-			.select({ id: listings.id, converterSlug: converters.slug, brand: converters.brand, model: converters.model, stock: listingStates.currentStock, since: listingStates.currentSince })
+			.select({
+				id: listings.id,
+				converterSlug: converters.slug,
+				brand: converters.brand,
+				model: converters.model,
+				stock: listingStates.currentStock,
+				since: listingStates.currentSince
+			})
 			.from(listings)
 			.innerJoin(converters, eq(converters.id, listings.converterId))
 			.leftJoin(listingStates, eq(listingStates.listingId, listings.id))
@@ -21,7 +28,10 @@ export const load: PageServerLoad = async ({ params, setHeaders }) => {
 			.orderBy(asc(converters.brand), asc(converters.model))
 	]);
 	const record = records.get(shop.id)!;
-	const outlooks = await listingOutlooks(db, rows.map((r) => r.id));
+	const outlooks = await listingOutlooks(
+		db,
+		rows.map((r) => r.id)
+	);
 	setHeaders({ 'Cache-Control': 'public, max-age=300' });
 	return {
 		days: RECORD_DAYS,
@@ -31,6 +41,12 @@ export const load: PageServerLoad = async ({ params, setHeaders }) => {
 			to: record.to.toISOString(),
 			medianRestockGap: record.medianRestockGapMs === null ? null : formatSpan(record.medianRestockGapMs)
 		},
-		listings: rows.map((r) => ({ id: r.id, converterSlug: r.converterSlug, name: `${r.brand} ${r.model}`, stock: r.stock ?? 'unknown', outlook: outlooks.get(r.id)?.text ?? null }))
+		listings: rows.map((r) => ({
+			id: r.id,
+			converterSlug: r.converterSlug,
+			name: `${r.brand} ${r.model}`,
+			stock: r.stock ?? 'unknown',
+			outlook: outlooks.get(r.id)?.text ?? null
+		}))
 	};
 };

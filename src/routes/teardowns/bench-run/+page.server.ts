@@ -15,7 +15,10 @@ export const load: PageServerLoad = async (event) => {
 	const { revisions } = await catalogueOptions(db);
 	return {
 		revisions: revisions.map((r) => ({ value: r.id, label: r.label })),
-		form: await emptyForm(benchRunSchema, { measuredBy: user.name ?? '', measuredOn: new Date().toISOString().slice(0, 10) })
+		form: await emptyForm(benchRunSchema, {
+			measuredBy: user.name ?? '',
+			measuredOn: new Date().toISOString().slice(0, 10)
+		})
 	};
 };
 

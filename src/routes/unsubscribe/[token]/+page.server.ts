@@ -22,7 +22,10 @@ export const load: PageServerLoad = async ({ params, setHeaders }) => {
 export const actions: Actions = {
 	default: async ({ params }) => {
 		const outcome = await unsubscribeWithToken(db, env.AUTH_SECRET, params.token);
-		if (!outcome) return fail(400, { error: 'This unsubscribe link is not valid. It may have been cut short: copy the whole link from the e-mail.' });
+		if (!outcome)
+			return fail(400, {
+				error: 'This unsubscribe link is not valid. It may have been cut short: copy the whole link from the e-mail.'
+			});
 		return { done: true, what: outcome.what };
 	}
 };

@@ -11,7 +11,8 @@ export const load: PageServerLoad = async (event) => {
 	const id = idParam(event.params.id);
 	const shop = await shopById(db, id);
 	if (!shop) error(404, 'No such shop.');
-	const cfg = shop.feedConfig && Object.keys(shop.feedConfig as object).length ? JSON.stringify(shop.feedConfig, null, 2) : '';
+	const cfg =
+		shop.feedConfig && Object.keys(shop.feedConfig as object).length ? JSON.stringify(shop.feedConfig, null, 2) : '';
 	return {
 		shop,
 		form: await emptyForm(shopSchema, {

@@ -14,7 +14,12 @@ export const GET: RequestHandler = async ({ url, request }) => {
 	const parsed = params.safeParse(searchObject(url));
 	if (!parsed.success) return badRequest(parsed.error);
 	const view = viewpoint(parsed.data, null, request.headers.get('accept-language'));
-	const found = await loadCataloguePage(db, view, { sort: 'name' }, { page: parsed.data.page, pageSize: parsed.data.limit ?? API_PAGE_SIZE });
+	const found = await loadCataloguePage(
+		db,
+		view,
+		{ sort: 'name' },
+		{ page: parsed.data.page, pageSize: parsed.data.limit ?? API_PAGE_SIZE }
+	);
 	const link = (page: number) => {
 		const u = new URLSearchParams({ region: view.region, currency: view.currency, page: String(page) });
 		if (parsed.data.limit) u.set('limit', String(parsed.data.limit));
@@ -27,7 +32,10 @@ export const GET: RequestHandler = async ({ url, request }) => {
 		total: found.total,
 		page: found.page,
 		pages: found.pages,
-		links: { next: found.page < found.pages ? link(found.page + 1) : null, prev: found.page > 1 ? link(found.page - 1) : null },
+		links: {
+			next: found.page < found.pages ? link(found.page + 1) : null,
+			prev: found.page > 1 ? link(found.page - 1) : null
+		},
 		converters: found.entries.map(apiConverter)
 	});
 };

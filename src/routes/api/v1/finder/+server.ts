@@ -13,5 +13,11 @@ export const GET: RequestHandler = async ({ url, request }) => {
 	const view = viewpoint(parsed.data, null, request.headers.get('accept-language'));
 	const input = toFinderInput(parsed.data, view);
 	const results = (await loadFinder(db, view, input)).map(finderItem);
-	return cachedJson(request, { region: view.region, currency: view.currency, input, results, licence: DATA_LICENCE.name });
+	return cachedJson(request, {
+		region: view.region,
+		currency: view.currency,
+		input,
+		results,
+		licence: DATA_LICENCE.name
+	});
 };

@@ -26,7 +26,10 @@ export const GET: RequestHandler = async ({ url, request }) => {
 	const view = viewpoint(parsed.data, null, request.headers.get('accept-language'));
 	const listings = await loadListings(db, parsed.data.converter, view);
 	if (!listings) return notFound('converter');
-	const notes = await listingNotes(db, listings.map((l) => l.listingId));
+	const notes = await listingNotes(
+		db,
+		listings.map((l) => l.listingId)
+	);
 	return cachedJson(request, {
 		converter: parsed.data.converter,
 		region: view.region,

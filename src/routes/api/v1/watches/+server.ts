@@ -23,7 +23,8 @@ export const POST: RequestHandler = async (event) => {
 	try {
 		body = await readJson(event.request);
 	} catch (err) {
-		if (err instanceof BodyError) return problem(400, `${err.message} For example {"converterSlug": "some-converter", "minBand": "close"}.`);
+		if (err instanceof BodyError)
+			return problem(400, `${err.message} For example {"converterSlug": "some-converter", "minBand": "close"}.`);
 		throw err;
 	}
 	const parsed = apiWatchSchema.safeParse(body);

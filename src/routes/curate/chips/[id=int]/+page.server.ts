@@ -12,7 +12,10 @@ export const load: PageServerLoad = async (event) => {
 	const id = idParam(event.params.id);
 	const [chip] = await db.select().from(t.chips).where(eq(t.chips.id, id));
 	if (!chip) error(404, 'No such chip.');
-	return { chip, form: await emptyForm(chipSchema, { name: chip.name, maker: chip.maker, slug: chip.slug, notes: chip.notes }) };
+	return {
+		chip,
+		form: await emptyForm(chipSchema, { name: chip.name, maker: chip.maker, slug: chip.slug, notes: chip.notes })
+	};
 };
 
 export const actions: Actions = {

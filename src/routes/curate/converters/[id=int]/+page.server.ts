@@ -15,7 +15,9 @@ import { converterSchema, revisionSchema } from '$lib/server/curate/schemas';
 import type { Actions, PageServerLoad } from './$types';
 import { formOr400 } from '$lib/server/http/body';
 
-const retireSchema = z.object({ reason: z.string().trim().max(500, 'A reason is at most 500 characters.').default('') });
+const retireSchema = z.object({
+	reason: z.string().trim().max(500, 'A reason is at most 500 characters.').default('')
+});
 
 export const load: PageServerLoad = async (event) => {
 	requireRole(event, 'curator');
@@ -27,15 +29,19 @@ export const load: PageServerLoad = async (event) => {
 		converter,
 		revisions,
 		chips: chips.filter((c) => !c.retiredAt).map((c) => ({ value: c.id, label: `${c.name} (${c.maker})` })),
-		form: await emptyForm(converterSchema, {
-			brand: converter.brand,
-			model: converter.model,
-			slug: converter.slug,
-			summary: converter.summary,
-			hasAudioOut: converter.hasAudioOut,
-			power: converter.power,
-			outputs: converter.outputs as never
-		}, 'converter'),
+		form: await emptyForm(
+			converterSchema,
+			{
+				brand: converter.brand,
+				model: converter.model,
+				slug: converter.slug,
+				summary: converter.summary,
+				hasAudioOut: converter.hasAudioOut,
+				power: converter.power,
+				outputs: converter.outputs as never
+			},
+			'converter'
+		),
 		revisionForm: await emptyForm(revisionSchema, { converterId: id }, 'revision')
 	};
 };

@@ -4,7 +4,14 @@ import { requireRole } from '$lib/server/auth/guard';
 import { db } from '$lib/server/db';
 import { catalogueOptions } from '$lib/server/curate/catalogue';
 import { attempt, emptyForm, idParam, invalid, validate, orHttpError } from '$lib/server/curate/forms';
-import { getGuide, removePick, renderGuideMarkdown, savePick, setGuideStatus, updateGuide } from '$lib/server/curate/guides';
+import {
+	getGuide,
+	removePick,
+	renderGuideMarkdown,
+	savePick,
+	setGuideStatus,
+	updateGuide
+} from '$lib/server/curate/guides';
 import { guidePickSchema, guideSchema } from '$lib/server/curate/schemas';
 import type { Actions, PageServerLoad } from './$types';
 import { formOr400 } from '$lib/server/http/body';
@@ -20,7 +27,11 @@ export const load: PageServerLoad = async (event) => {
 		...found,
 		preview: renderGuideMarkdown(guide.bodyMarkdown),
 		converters: (await catalogueOptions(db)).converters.map((c) => ({ value: c.id, label: c.label })),
-		form: await emptyForm(guideSchema, { title: guide.title, slug: guide.slug, summary: guide.summary, bodyMarkdown: guide.bodyMarkdown }, 'guide'),
+		form: await emptyForm(
+			guideSchema,
+			{ title: guide.title, slug: guide.slug, summary: guide.summary, bodyMarkdown: guide.bodyMarkdown },
+			'guide'
+		),
 		pickForm: await emptyForm(guidePickSchema, { position: found.picks.length }, 'pick')
 	};
 };
@@ -44,11 +55,18 @@ export const actions: Actions = {
 	status: async (event) => {
 		const user = requireRole(event, 'curator');
 		const id = idParam(event.params.id);
-		const parsed = z.object({ status: z.enum(['draft', 'published', 'retired']) }).safeParse(Object.fromEntries(await formOr400(event.request)));
+		const parsed = z
+			.object({ status: z.enum(['draft', 'published', 'retired']) })
+			.safeParse(Object.fromEntries(await formOr400(event.request)));
 		if (!parsed.success) return fail(400, { statusError: 'Choose publish, unpublish or retire.' });
 		const form = await emptyForm(guideSchema);
 		const res = await attempt(form, () => setGuideStatus(db, user, id, parsed.data.status));
-		if (!res.ok) return fail(res.failure.status, { statusError: (res.failure.data.form.message as { text: string } | undefined)?.text ?? Object.values(res.failure.data.form.errors).flat()[0] });
+		if (!res.ok)
+			return fail(res.failure.status, {
+				statusError:
+					(res.failure.data.form.message as { text: string } | undefined)?.text ??
+					Object.values(res.failure.data.form.errors).flat()[0]
+			});
 		redirect(303, `/curate/guides/${id}`);
 	},
 	addPick: async (event) => {
@@ -63,7 +81,9 @@ export const actions: Actions = {
 	removePick: async (event) => {
 		const user = requireRole(event, 'curator');
 		const id = idParam(event.params.id);
-		const parsed = z.object({ converterId: dbId('No pick chosen.') }).safeParse(Object.fromEntries(await formOr400(event.request)));
+		const parsed = z
+			.object({ converterId: dbId('No pick chosen.') })
+			.safeParse(Object.fromEntries(await formOr400(event.request)));
 		if (!parsed.success) return fail(400, { statusError: 'No pick chosen.' });
 		const { converterId } = parsed.data;
 		await orHttpError(() => removePick(db, user, id, converterId));

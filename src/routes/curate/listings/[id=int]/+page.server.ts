@@ -11,7 +11,9 @@ import { wholeNumber } from '$lib/server/http/numbers';
 
 const settingsSchema = z.object({
 	active: z.enum(['on']).optional(),
-	pollIntervalMinutes: wholeNumber('Minutes, a whole number.').pipe(z.number().min(1, 'At least 1 minute.').max(10080, 'At most a week.'))
+	pollIntervalMinutes: wholeNumber('Minutes, a whole number.').pipe(
+		z.number().min(1, 'At least 1 minute.').max(10080, 'At most a week.')
+	)
 });
 
 export const load: PageServerLoad = async (event) => {
@@ -42,7 +44,10 @@ export const actions: Actions = {
 		const raw = Object.fromEntries(await formOr400(event.request));
 		const parsed = settingsSchema.safeParse(raw);
 		if (!parsed.success) return fail(400, { settings: { error: parsed.error.issues[0].message, values: raw } });
-		await updateListing(db, user, id, { active: parsed.data.active === 'on', pollIntervalMinutes: parsed.data.pollIntervalMinutes });
+		await updateListing(db, user, id, {
+			active: parsed.data.active === 'on',
+			pollIntervalMinutes: parsed.data.pollIntervalMinutes
+		});
 		redirect(303, `/curate/listings/${id}`);
 	}
 };

@@ -16,8 +16,16 @@ export const load: PageServerLoad = async (event) => {
 	const found = await getRevision(db, id);
 	if (!found) error(404, 'No such revision.');
 	const { revision } = found;
-	const [runs, chips, history, grades] = await Promise.all([runsOfRevision(db, id), listChips(db), gradeHistory(db, id), gradeHistoryOf(db, [id])]);
-	const checks = await checksOfRuns(db, runs.map((r) => r.id));
+	const [runs, chips, history, grades] = await Promise.all([
+		runsOfRevision(db, id),
+		listChips(db),
+		gradeHistory(db, id),
+		gradeHistoryOf(db, [id])
+	]);
+	const checks = await checksOfRuns(
+		db,
+		runs.map((r) => r.id)
+	);
 	return {
 		...found,
 		runs: runs.map((r) => ({ ...r, check: checks.get(r.id) ?? null })),
@@ -51,11 +59,14 @@ export const actions: Actions = {
 		const user = requireRole(event, 'curator');
 		const id = idParam(event.params.id);
 		const form = await validate(event.request, supersedeSchema);
-		if (!form.valid) return fail(400, { supersede: { id: form.data.id, error: Object.values(form.errors).flat()[0] as string } });
+		if (!form.valid)
+			return fail(400, { supersede: { id: form.data.id, error: Object.values(form.errors).flat()[0] as string } });
 		const res = await attempt(form, () => supersedeBenchRun(db, user, form.data));
 		if (!res.ok) {
 			const m = res.failure.data.form.message as { text?: string } | undefined;
-			return fail(res.failure.status, { supersede: { id: form.data.id, error: m?.text ?? 'Could not supersede the run.' } });
+			return fail(res.failure.status, {
+				supersede: { id: form.data.id, error: m?.text ?? 'Could not supersede the run.' }
+			});
 		}
 		redirect(303, `/curate/revisions/${id}`);
 	},

@@ -13,5 +13,10 @@ export const GET: RequestHandler = async ({ params: route, url, request }) => {
 	const view = viewpoint(parsed.data, null, request.headers.get('accept-language'));
 	const d = await loadConverterDetail(db, route.slug, view);
 	if (!d) return notFound('converter');
-	return cachedJson(request, { region: view.region, currency: view.currency, licence: DATA_LICENCE.name, ...apiConverterDetail(d) });
+	return cachedJson(request, {
+		region: view.region,
+		currency: view.currency,
+		licence: DATA_LICENCE.name,
+		...apiConverterDetail(d)
+	});
 };

@@ -20,7 +20,11 @@ export const GET: RequestHandler = async ({ params, request }) => {
 		'Content-Disposition': `inline; filename="scopegrade-${what}.${format}"`
 	};
 	if (format === 'json') {
-		const body = JSON.stringify({ licence: { name: DATA_LICENCE.name, url: DATA_LICENCE.url, notice: DATA_LICENCE.notice }, count: rows.length, rows });
+		const body = JSON.stringify({
+			licence: { name: DATA_LICENCE.name, url: DATA_LICENCE.url, notice: DATA_LICENCE.notice },
+			count: rows.length,
+			rows
+		});
 		return cachedResponse(request, body, 'application/json; charset=utf-8', headers);
 	}
 	// The licence travels inside the file too, as a last column, so a copy never loses it.

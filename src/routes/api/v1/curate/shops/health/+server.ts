@@ -11,7 +11,6 @@ import { looseWholeNumbers } from '$lib/server/http/numbers';
 import { shopHealth } from '$lib/server/queries/shops';
 import type { RequestHandler } from './$types';
 
-
 export const GET: RequestHandler = async (event) => {
 	requireApiRole(event, 'curator');
 	const loose = looseWholeNumbers(event.url.searchParams, ['days']);
