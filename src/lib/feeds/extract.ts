@@ -120,11 +120,56 @@ function extractFromHtml(input: ExtractInput): ExtractResult {
 		}
 		failures[via] = { kind: r.kind, reason: r.reason };
 	}
+	// A product page that says "discontinued" often drops the price: that is a reading, not a failure.
+	if (Object.values(failures).every((f) => f.kind === 'no-price')) {
+		const said = discontinuedWithoutPrice($, input.selectors);
+		if (said) return discontinued(said.via, [`no price shown; ${said.where} says the product is discontinued`]);
+	}
 	const main = failures[input.format] ?? failures.jsonld!;
 	const others = (Object.keys(failures) as OfferFormat[])
 		.filter((k) => k !== input.format)
 		.map((k) => `${k}: ${failures[k]!.reason}`);
 	return fail(main.kind, main.reason, others);
+}
+
+function discontinued(via: OfferFormat, notes: string[]): ExtractResult {
+	return { ok: true, priceMinor: null, currency: null, stock: 'discontinued', via, notes };
+}
+
+const saysDiscontinued = (value: unknown) =>
+	value !== undefined && value !== null && mapAvailability(String(value)).stock === 'discontinued';
+
+/**
+ * Where a priceless page states the product is discontinued: a JSON-LD or microdata offer's
+ * availability (schema.org ItemAvailability), or the text of the curator's stock selector.
+ */
+function discontinuedWithoutPrice(
+	$: CheerioRoot,
+	sel: OfferSelectors | undefined
+): { via: OfferFormat; where: string } | undefined {
+	for (const el of $('script[type="application/ld+json"]').toArray()) {
+		let doc: unknown;
+		try {
+			doc = JSON.parse($(el).text());
+		} catch {
+			continue;
+		}
+		for (const node of walk(doc)) {
+			if (!isType(node, 'Offer') && !isType(node, 'AggregateOffer')) continue;
+			if (saysDiscontinued(scalar(node.availability))) return { via: 'jsonld', where: 'the JSON-LD offer' };
+		}
+	}
+	for (const el of $('[itemprop~="availability"]').toArray())
+		if (saysDiscontinued(itemValue($, el))) return { via: 'microdata', where: 'the microdata offer' };
+	if (sel?.stock) {
+		try {
+			const stock = firstText($, sel.stock);
+			if (stock.count && saysDiscontinued(stock.text)) return { via: 'selectors', where: `"${sel.stock}"` };
+		} catch {
+			// An invalid selector is already reported by readSelectors.
+		}
+	}
+	return undefined;
 }
 
 function isType(node: unknown, type: string): boolean {
@@ -385,6 +430,13 @@ export function getPath(doc: unknown, path: string): unknown {
 	return cur;
 }
 
+/** The stock state the curator's value table gives a raw API value (compared case-insensitively). */
+function tabledStock(map: ApiMapping, raw: unknown): StockState | undefined {
+	if (!map.stockValues || raw === undefined || raw === null) return undefined;
+	const key = String(raw).toLowerCase();
+	return Object.entries(map.stockValues).find(([k]) => k.toLowerCase() === key)?.[1];
+}
+
 function extractFromApi(input: ExtractInput): ExtractResult {
 	const map: ApiMapping | undefined = input.apiMapping;
 	if (!map) return fail('parse', 'no API mapping configured for this listing');
@@ -404,6 +456,10 @@ function extractFromApi(input: ExtractInput): ExtractResult {
 	}
 	const rawPrice = getPath(doc, map.price);
 	if (rawPrice === undefined || rawPrice === null || rawPrice === '') {
+		const raw = getPath(doc, map.stock);
+		const mapped = tabledStock(map, raw) ?? (typeof raw === 'string' ? mapAvailability(raw).stock : undefined);
+		if (mapped === 'discontinued')
+			return discontinued('api', [`no price shown; "${map.stock}" says the product is discontinued`]);
 		return fail('no-price', `no price found: path "${map.price}" is missing from the document`);
 	}
 	if (typeof rawPrice !== 'number' && typeof rawPrice !== 'string') {
@@ -438,12 +494,7 @@ function extractFromApi(input: ExtractInput): ExtractResult {
 	}
 
 	const rawStock = getPath(doc, map.stock);
-	let stock: StockState | undefined;
-	if (map.stockValues && rawStock !== undefined && rawStock !== null) {
-		const key = String(rawStock).toLowerCase();
-		const hit = Object.entries(map.stockValues).find(([k]) => k.toLowerCase() === key);
-		if (hit) stock = hit[1];
-	}
+	let stock = tabledStock(map, rawStock);
 	let availability: string | undefined;
 	if (!stock) {
 		if (rawStock === undefined || rawStock === null) {

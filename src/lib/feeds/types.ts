@@ -48,10 +48,13 @@ export type ExtractFailureKind = 'unreadable' | 'no-price' | 'no-currency' | 'wr
 
 export interface ExtractSuccess {
 	ok: true;
-	/** Integer amount in the currency's minor units (ISO 4217 exponent). */
-	priceMinor: number;
-	/** ISO 4217 code. */
-	currency: string;
+	/**
+	 * Integer amount in the currency's minor units (ISO 4217 exponent). Null only when the page
+	 * says the product is discontinued and shows no price: the poller then keeps the last known price.
+	 */
+	priceMinor: number | null;
+	/** ISO 4217 code; null exactly when priceMinor is. */
+	currency: string | null;
 	stock: StockState;
 	title?: string;
 	/** Which reader produced the offer. */

@@ -1,7 +1,9 @@
 /**
  * Extractor fixes, each on a fixture page written for it (invented shops and products):
  * "CA$" is the Canadian dollar (ISO 4217 CAD), a bare amount is read in the listing's configured
- * currency with a note, and a symbol of another currency stays a wrong-currency failure.
+ * currency with a note, a symbol of another currency stays a wrong-currency failure, and a page that
+ * says the product is discontinued but shows no price is read as discontinued (schema.org
+ * ItemAvailability "Discontinued", or the shop's own words), not as a failed read.
  */
 import { readFileSync } from 'node:fs';
 import { resolve } from 'node:path';
@@ -47,5 +49,52 @@ describe('fixture pages', () => {
 		});
 		expect(r).toMatchObject({ ok: false, kind: 'wrong-currency', stock: 'unknown' });
 		if (!r.ok) expect(r.reason).toMatch(/GBP.*EUR/);
+	});
+
+	it('reads a discontinued page without a price as discontinued, from JSON-LD', () => {
+		const r = extractOffer({ body: page('discontinued-no-price.html'), format: 'jsonld', expectedCurrency: 'CAD' });
+		expect(r).toMatchObject({ ok: true, priceMinor: null, currency: null, stock: 'discontinued', via: 'jsonld' });
+		if (r.ok) expect(r.notes.join(' ')).toMatch(/no price shown; the JSON-LD offer says the product is discontinued/);
+	});
+
+	it("reads a discontinued page without a price from the curator's stock selector", () => {
+		const r = extractOffer({ body: page('discontinued-text-only.html'), format: 'selectors', selectors });
+		expect(r).toMatchObject({ ok: true, priceMinor: null, stock: 'discontinued', via: 'selectors' });
+		// Without a stock selector, the page's other text (a related product's price) is never read.
+		expect(
+			extractOffer({
+				body: page('discontinued-text-only.html'),
+				format: 'selectors',
+				selectors: { ...selectors, stock: '.nothing' }
+			})
+		).toMatchObject({ ok: false, kind: 'no-price', stock: 'unknown' });
+	});
+
+	it('keeps a priceless page that does not say discontinued a failed read', () => {
+		const body = page('discontinued-no-price.html')
+			.replace('https://schema.org/Discontinued', 'https://schema.org/InStock')
+			.replace('No longer available - see the Lumen Bridge 3', 'In stock');
+		expect(extractOffer({ body, format: 'jsonld', selectors })).toMatchObject({ ok: false, kind: 'no-price' });
+	});
+
+	it('reads a discontinued API document without a price', () => {
+		const apiMapping = { price: 'price', stock: 'status', fixedCurrency: 'EUR' };
+		const body = JSON.stringify({ sku: 'LB2', status: 'discontinued', price: null });
+		expect(extractOffer({ body, format: 'api', apiMapping })).toMatchObject({
+			ok: true,
+			priceMinor: null,
+			stock: 'discontinued',
+			via: 'api'
+		});
+		// The curator's value table wins over the general wording rules.
+		const tabled = { ...apiMapping, stockValues: { eol: 'discontinued' as const } };
+		expect(extractOffer({ body: JSON.stringify({ status: 'EOL' }), format: 'api', apiMapping: tabled })).toMatchObject({
+			ok: true,
+			stock: 'discontinued'
+		});
+		expect(extractOffer({ body: JSON.stringify({ status: 'in stock' }), format: 'api', apiMapping })).toMatchObject({
+			ok: false,
+			kind: 'no-price'
+		});
 	});
 });

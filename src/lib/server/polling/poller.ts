@@ -231,7 +231,7 @@ export function createPoller(db: Database, options: PollerOptions = {}): Poller 
 				stock: offer.stock,
 				etag: res.headers.get('etag'),
 				lastModified: res.headers.get('last-modified'),
-				detail: `${formatMinor(offer.priceMinor, offer.currency)} ${offer.currency}, ${offer.stock}${via}${offer.notes.length ? `; ${offer.notes.join('; ')}` : ''}`
+				detail: `${offer.priceMinor === null || offer.currency === null ? 'no price' : `${formatMinor(offer.priceMinor, offer.currency)} ${offer.currency}`}, ${offer.stock}${via}${offer.notes.length ? `; ${offer.notes.join('; ')}` : ''}`
 			};
 		}
 		if (status === 404 || status === 410) {

@@ -57,8 +57,9 @@ export type StockEventsHook = (tx: PollerTx, events: StockEventRecord[]) => Prom
 export type PollVerdict =
 	| {
 			kind: 'ok';
-			priceMinor: number;
-			currency: string;
+			/** Null when a discontinued page shows no price: the last known price is kept. */
+			priceMinor: number | null;
+			currency: string | null;
 			stock: StockState;
 			etag: string | null;
 			lastModified: string | null;
@@ -207,7 +208,7 @@ interface StateRow {
 interface Change {
 	item: PendingPoll;
 	result: PollResult;
-	offer: { priceMinor: number; currency: string; stock: StockState };
+	offer: { priceMinor: number | null; currency: string | null; stock: StockState };
 	state: { currentStock: StockState; currentPriceMinor: number | null; currentCurrency: string | null };
 }
 
@@ -285,18 +286,23 @@ async function writeBatch(tx: PollerTx, batch: PendingPoll[], o: Omit<RecordOpti
 				row.set_validators = true;
 				row.etag = verdict.etag;
 				row.last_modified = verdict.lastModified;
+				// A discontinued page without a price keeps the last known price rather than erasing it.
+				const offer =
+					verdict.priceMinor === null
+						? { priceMinor: state.currentPriceMinor, currency: state.currentCurrency, stock: verdict.stock }
+						: verdict;
 				const changed =
-					verdict.priceMinor !== state.currentPriceMinor ||
-					verdict.currency !== state.currentCurrency ||
-					verdict.stock !== state.currentStock;
+					offer.priceMinor !== state.currentPriceMinor ||
+					offer.currency !== state.currentCurrency ||
+					offer.stock !== state.currentStock;
 				if (changed) {
 					Object.assign(row, {
 						changed: true,
-						price_minor: verdict.priceMinor,
-						currency: verdict.currency,
-						stock: verdict.stock
+						price_minor: offer.priceMinor,
+						currency: offer.currency,
+						stock: offer.stock
 					});
-					changes.push({ item, result, offer: verdict, state });
+					changes.push({ item, result, offer, state });
 				}
 			}
 		}
@@ -441,6 +447,7 @@ async function writeStockEvents(tx: PollerTx, changes: Change[], quietMs: number
 			isBuyable(offer.stock) &&
 			state.currentPriceMinor != null &&
 			state.currentCurrency === offer.currency &&
+			offer.priceMinor != null &&
 			offer.priceMinor < state.currentPriceMinor
 		) {
 			kinds.push('price_drop');
