@@ -105,6 +105,40 @@ test('a curator reads good-3ch.csv into a bench run, sees the levels, saves, and
 	await page.context().close();
 });
 
+test('readings typed in volts are refused as volts and converted to mV on request, never graded as mV', async ({
+	browser
+}) => {
+	const sql = postgres(process.env.DATABASE_URL!, { max: 1, onnotice: () => {} });
+	const [{ id }] = await sql`select id from revision order by id limit 1`;
+	await sql.end();
+	const page = await as(browser, 'curator@scopegrade.test');
+	await page.goto(`/curate/revisions/${id}/runs/new`);
+	await page.getByLabel('Test source').fill('Pattern generator, 480p grey ramp');
+	await page.getByLabel('Instrument').fill('Bench scope, 100 MHz, 10x probe');
+	// A perfect staircase in volts: 7 mV per IRE written as 0.007 V per IRE (common practice:
+	// scopes show volts; the rubric's readings are millivolts, 700 mV at 100 IRE).
+	for (let ire = 0; ire <= 100; ire += 10)
+		for (const c of ['R', 'G', 'B'])
+			await page.getByLabel(`${c} at ${ire} IRE, mV`).fill(String((ire * 0.007).toFixed(3)));
+	const hint = page.getByTestId('volts-hint');
+	await expect(hint).toContainText('look like volts');
+
+	// Sent as they are, the server refuses them with the same words and stores nothing.
+	await page.getByRole('button', { name: 'Save bench run' }).click();
+	await expect(page.getByText(/the readings look like volts \(white reads 0\.7\): enter millivolts/)).toBeVisible();
+	await expect(page).toHaveURL(new RegExp(`/curate/revisions/${id}/runs/new`));
+
+	// The offered conversion turns them into millivolts, and the report grades them.
+	await hint.getByRole('button', { name: 'Multiply every reading by 1000' }).click();
+	await expect(page.getByLabel('G at 100 IRE, mV')).toHaveValue('700');
+	await expect(page.getByLabel('B at 50 IRE, mV')).toHaveValue('350');
+	await expect(hint).toHaveCount(0);
+	await expect(
+		page.getByTestId('level-report').getByRole('img', { name: /Level grade: Exact · 0\.0 IRE/ })
+	).toBeVisible();
+	await page.context().close();
+});
+
 test('a member sends a teardown report with a photo and a curator verifies it', async ({ browser }) => {
 	const email = `teardown-${stamp}@example.test`;
 	const member = await as(browser, email);
