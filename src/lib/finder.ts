@@ -168,7 +168,9 @@ export function sortBand(e: Pick<CatalogueEntry, 'bestBand' | 'expected'>, inclu
 }
 
 /** True when the current revisions do not all share one band: a buyer may get either. */
-export function bandsDiffer(entry: Pick<CatalogueEntry, 'revisions'>): boolean {
+export function bandsDiffer(entry: {
+	revisions: Array<Pick<CatalogueRevision, 'band' | 'retired' | 'seenTo'>>;
+}): boolean {
 	return new Set(currentRevisions(entry.revisions).map((r) => r.band ?? 'none')).size > 1;
 }
 

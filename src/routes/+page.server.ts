@@ -23,7 +23,9 @@ export const load: PageServerLoad = async ({ cookies, request }) => {
 				score: r.score,
 				deviationIre: r.deviationIre ?? null,
 				bandReason: r.bandReason ?? null,
-				runs: r.runs
+				runs: r.runs,
+				retired: r.retired,
+				seenTo: r.seenTo
 			}))
 		}))
 	};
