@@ -31,6 +31,15 @@ for (const theme of ['light', 'dark'] as const) {
 						expect(label, `${path}: band mark label`).toMatch(/^(Level grade|\d+ IRE step: worst channel)/);
 						expect(label).not.toMatch(/of 5/);
 					}
+					// Scroll through once, as a reader would, so the sections that load when seen are drawn.
+					await page.evaluate(async () => {
+						for (let y = 0; y < document.body.scrollHeight; y += window.innerHeight / 2) {
+							window.scrollTo(0, y);
+							await new Promise((r) => setTimeout(r, 60));
+						}
+						window.scrollTo(0, 0);
+					});
+					await page.waitForLoadState('networkidle');
 					await page.screenshot({ path: resolve(OUT, `${name}-${width}-${theme}.png`), fullPage: true });
 				}
 			});
