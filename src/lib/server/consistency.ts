@@ -161,7 +161,7 @@ export async function testerOverview(db: Db) {
 				seOffset: a.fit.seIntercept,
 				n: a.fit.n
 			},
-			runs: runsByTester.get(testerKey(a.tester)) ?? []
+			checkedRuns: runsByTester.get(testerKey(a.tester)) ?? []
 		}))
 	};
 }
