@@ -139,6 +139,19 @@ test('readings typed in volts are refused as volts and converted to mV on reques
 	await page.context().close();
 });
 
+test('the testers page flags exactly the demo tester whose scope reads about 5 % high', async ({ browser }) => {
+	const page = await as(browser, 'curator@scopegrade.test');
+	await page.goto('/curate/testers');
+	// The demo scenario gives one of its three invented testers a scope gain of 1.05.
+	const flagged = page.locator('[data-testid=tester][data-flagged=yes]');
+	await expect(flagged).toHaveCount(1);
+	await expect(flagged).toContainText('Juno Probe');
+	await expect(flagged).toContainText(/Reads about 5 % high across \d+ converters/);
+	await expect(flagged).toContainText(/Readings fitted\s*\d+ from \d+ runs/);
+	await expect(page.locator('main')).not.toContainText('[object');
+	await page.context().close();
+});
+
 test('a member sends a teardown report with a photo and a curator verifies it', async ({ browser }) => {
 	const email = `teardown-${stamp}@example.test`;
 	const member = await as(browser, email);
