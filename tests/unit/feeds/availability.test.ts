@@ -3,7 +3,7 @@
  * Source: schema.org 30.0, ItemAvailability enumeration (12 members: BackOrder, Discontinued,
  * InStock, InStoreOnly, LimitedAvailability, MadeToOrder, OnlineOnly, OutOfStock, PreOrder,
  * PreSale, Reserved, SoldOut), written as full URLs such as https://schema.org/InStock
- * (sources.md "Shop pages"). The mapping of each member onto our stock states is our own reading.
+ * (https://schema.org/ItemAvailability). The mapping of each member onto our stock states is our own reading.
  */
 import { describe, expect, it } from 'vitest';
 import {

@@ -1,7 +1,7 @@
 /**
  * Price parsing to integer minor units.
  * Source for the digits: ISO 4217, "minor unit" column of the currency code list (JPY 0, KRW 0,
- * BHD/KWD 3, USD/EUR/GBP/AUD... 2), as named in sources.md "Shop pages".
+ * BHD/KWD 3, USD/EUR/GBP/AUD... 2).
  * Source for the text form of Offer.price: schema.org 30.0, Offer.price (a "." decimal point,
  * the currency in priceCurrency, never a symbol).
  */

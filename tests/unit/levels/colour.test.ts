@@ -99,7 +99,7 @@ describe('RGB to XYZ matrix derived from primaries (SMPTE RP 177 method)', () =>
 		for (let i = 0; i < 3; i++) for (let j = 0; j < 3; j++) expect(Math.abs(m[i][j] - iec[i][j])).toBeLessThan(0.00006);
 	});
 
-	it('RGB (1,1,1) maps to D65 from x 0.3127, y 0.3290 (sources.md, derived D65 variant) for SMPTE RP 145 primaries', () => {
+	it('RGB (1,1,1) maps to D65 from x 0.3127, y 0.3290 (the white point of SMPTE RP 145 and ITU-R BT.709) for SMPTE RP 145 primaries', () => {
 		const m = rgbToXyzMatrix(SMPTE_C_PRIMARIES);
 		const white = m.map((row) => row[0] + row[1] + row[2]);
 		expect(white[0]).toBeCloseTo(D65_XY.x / D65_XY.y, 12); // 0.950456
