@@ -104,15 +104,13 @@ async function main() {
 					Array.from({ length: Math.min(2000, WATCHERS - i) }, (_, k) => ({ email: `bench-${i + k}@example.test` }))
 				)
 				.returning({ id: t.users.id });
-			await db
-				.insert(t.watches)
-				.values(
-					users.map((u, k) => ({
-						userId: u.id,
-						converterId: conv.id,
-						minBand: (k % 3 === 0 ? 'close' : null) as t.Band | null
-					}))
-				);
+			await db.insert(t.watches).values(
+				users.map((u, k) => ({
+					userId: u.id,
+					converterId: conv.id,
+					minBand: (k % 3 === 0 ? 'close' : null) as t.Band | null
+				}))
+			);
 		}
 
 		// The restock: observation + stock event + matching, in one transaction, as the poller does.
