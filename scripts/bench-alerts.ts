@@ -33,7 +33,7 @@ import { drainOutbox } from '../jobs/sender';
 import { loadOutboxContexts } from '../src/lib/server/alerts/view';
 import { transportOptions } from '../src/lib/server/mail/transport';
 import { startFakeShops } from '../fixtures/shops/server';
-import { LISTINGS, SHOPS } from '../src/lib/demo/scenario';
+import { LISTINGS } from '../src/lib/demo/scenario';
 import { createPoller } from '../src/lib/server/polling';
 import { startJobs } from '../jobs/jobs';
 // @ts-expect-error plain ES module without types
