@@ -33,7 +33,7 @@ import { drainOutbox } from '../jobs/sender';
 import { loadOutboxContexts } from '../src/lib/server/alerts/view';
 import { transportOptions } from '../src/lib/server/mail/transport';
 import { startFakeShops } from '../fixtures/shops/server';
-import { LISTINGS, SHOPS } from '../src/lib/demo/scenario';
+import { LISTINGS } from '../src/lib/demo/scenario';
 import { createPoller } from '../src/lib/server/polling';
 import { startJobs } from '../jobs/jobs';
 // @ts-expect-error plain ES module without types
@@ -104,15 +104,13 @@ async function main() {
 					Array.from({ length: Math.min(2000, WATCHERS - i) }, (_, k) => ({ email: `bench-${i + k}@example.test` }))
 				)
 				.returning({ id: t.users.id });
-			await db
-				.insert(t.watches)
-				.values(
-					users.map((u, k) => ({
-						userId: u.id,
-						converterId: conv.id,
-						minBand: (k % 3 === 0 ? 'close' : null) as t.Band | null
-					}))
-				);
+			await db.insert(t.watches).values(
+				users.map((u, k) => ({
+					userId: u.id,
+					converterId: conv.id,
+					minBand: (k % 3 === 0 ? 'close' : null) as t.Band | null
+				}))
+			);
 		}
 
 		// The restock: observation + stock event + matching, in one transaction, as the poller does.

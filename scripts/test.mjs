@@ -17,10 +17,8 @@ import {
 	stopCluster
 } from './lib/bootstrap.mjs';
 
-// The switch for lint in a plain `npm test`: off until the whole tree has been through
-// `npm run format` once (one commit, after the parallel branches have landed); then set it to
-// true so `npm test` runs `npm run lint` first. `npm test -- lint` runs it either way.
-const LINT_IN_FULL_RUN = false;
+// A plain `npm test` runs `npm run lint` (Prettier, then ESLint) first; `npm test -- lint` runs it alone.
+const LINT_IN_FULL_RUN = true;
 
 const PARTS = ['lint', 'check', 'unit', 'e2e'];
 const parts = process.argv.slice(2).filter((a) => PARTS.includes(a));

@@ -101,15 +101,13 @@ describe('public guide queries', () => {
 		const revs = await h.db.select().from(revisions).where(eq(revisions.converterId, conv.id));
 		const [shop] = await h.db.select().from(shops).where(eq(shops.slug, 'kanalhaus'));
 		const b = revs.find((r) => r.code === 'B')!;
-		await h.db
-			.insert(teardownReports)
-			.values({
-				converterId: conv.id,
-				revisionId: b.id,
-				shopId: shop.id,
-				purchaseMonth: '2026-09-01',
-				status: 'pending'
-			});
+		await h.db.insert(teardownReports).values({
+			converterId: conv.id,
+			revisionId: b.id,
+			shopId: shop.id,
+			purchaseMonth: '2026-09-01',
+			status: 'pending'
+		});
 		const d = (await loadConverterDetail(h.db, 'brisling-scanlet', { region: 'eu', currency: 'EUR' }))!;
 		const seeded = TEARDOWNS.filter((t) => t.converter === 'brisling-scanlet');
 		expect(d.teardowns).toHaveLength(seeded.length);

@@ -443,15 +443,13 @@ export function testerReport(input: readonly TesterInputRevision[], sigmaPt = SI
 	const points = new Map<string, TesterPoint[]>([...names.keys()].map((k) => [k, []]));
 	for (const c of cells)
 		for (const o of c.obs)
-			points
-				.get(o.key)!
-				.push({
-					revisionId: c.revisionId,
-					converterId: c.converterId,
-					runId: o.runId,
-					consensus: c.level,
-					reading: o.reading
-				});
+			points.get(o.key)!.push({
+				revisionId: c.revisionId,
+				converterId: c.converterId,
+				runId: o.runId,
+				consensus: c.level,
+				reading: o.reading
+			});
 	const testers = [...points.entries()]
 		.map(([k, pts]) => assessTester(names.get(k)!, pts))
 		.sort((a, b) => Number(b.flagged) - Number(a.flagged) || a.tester.localeCompare(b.tester));

@@ -4,13 +4,10 @@
  * `auditedUpdate` does the whole lock-update-log step for an edit of one row.
  */
 import { eq, type InferInsertModel, type InferSelectModel } from 'drizzle-orm';
-import type { AnyPgColumn, PgDatabase, PgQueryResultHKT, PgTable } from 'drizzle-orm/pg-core';
+import type { AnyPgColumn, PgTable } from 'drizzle-orm/pg-core';
+import type { Db } from './db/client';
 import { FieldError, pick, type Actor, type Database } from './curate/common';
 import { auditLog, type chips } from './db/schema';
-import type * as schema from './db/schema';
-
-// eslint-disable-next-line @typescript-eslint/no-explicit-any -- any pool or transaction handle over this schema (Drizzle's third type argument)
-type Db = PgDatabase<PgQueryResultHKT, typeof schema, any>;
 
 export interface AuditEntry {
 	actorId: string | null;

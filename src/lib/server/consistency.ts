@@ -12,12 +12,9 @@
  * Free of `$lib`/`$env` (grading.ts calls it from the seed and jobs too).
  */
 import { and, asc, eq, inArray, isNotNull, sql } from 'drizzle-orm';
-import type { PgDatabase, PgQueryResultHKT } from 'drizzle-orm/pg-core';
+import type { Db } from './db/client';
 import { revisionConsensus, testerKey, testerReport, type RunLevels, type TesterInputRevision } from '../levels/index';
 import * as t from './db/schema';
-
-// eslint-disable-next-line @typescript-eslint/no-explicit-any
-type Db = PgDatabase<PgQueryResultHKT, typeof t, any>;
 
 /** Runs that take part in the consensus. */
 const COUNTED: t.RunStatus[] = ['accepted', 'pending'];

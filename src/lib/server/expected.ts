@@ -10,12 +10,9 @@
  * stat_snapshot for the learn page. Free of `$lib`/`$env` so jobs and scripts can use it.
  */
 import { and, asc, eq, inArray, isNull, sql } from 'drizzle-orm';
-import type { PgDatabase, PgQueryResultHKT } from 'drizzle-orm/pg-core';
+import type { Db } from './db/client';
 import { RUBRIC_VERSION, backtestExpected, expectedGrade, type BacktestResult, type ChipRun } from '../levels/index';
 import * as t from './db/schema';
-
-// eslint-disable-next-line @typescript-eslint/no-explicit-any
-type Db = PgDatabase<PgQueryResultHKT, typeof t, any>;
 
 export const BACKTEST_SNAPSHOT = 'expected-backtest';
 

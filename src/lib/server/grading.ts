@@ -4,7 +4,7 @@
  * Free of `$lib`/`$env` imports so the seed and jobs can use it under tsx.
  */
 import { and, desc, eq, gt, inArray, isNotNull, isNull, ne, or } from 'drizzle-orm';
-import type { PgDatabase, PgQueryResultHKT } from 'drizzle-orm/pg-core';
+import type { Db } from './db/client';
 import { RUBRIC_VERSION, aggregateRuns, analyzeLevels, type LevelReport } from '../levels/index';
 import { audit } from './audit';
 import * as t from './db/schema';
@@ -14,9 +14,6 @@ import { refreshRevisionChecks } from './consistency';
 import { noteGradeChange, refreshExpectedForChips } from './expected';
 
 // Accepts both the pool-level db and a transaction.
-// eslint-disable-next-line @typescript-eslint/no-explicit-any -- any pool or transaction handle over this schema (Drizzle's third type argument)
-type Db = PgDatabase<PgQueryResultHKT, typeof t, any>;
-
 export interface Reading {
 	ire: number;
 	r: number;

@@ -17,6 +17,9 @@ import { FieldError } from './common';
 type AnyForm = SuperValidated<any, any, any>;
 // eslint-disable-next-line @typescript-eslint/no-explicit-any -- superforms' zod adapter generics cannot be spelled for any schema
 type AnySchema = z.ZodObject<any> | z.ZodType<any, any>;
+/** The validated form of a schema (superforms' message and input types left open). */
+// eslint-disable-next-line @typescript-eslint/no-explicit-any -- superforms' zod adapter generics cannot be spelled for any schema
+type FormOf<S extends AnySchema> = SuperValidated<z.infer<S>, any, any>;
 
 /**
  * Validate posted form data against a schema (superforms, zod 4 adapter). A body that is not
@@ -32,7 +35,7 @@ export async function validate<S extends AnySchema>(data: FormData | URLSearchPa
 		throw err;
 	}
 	// eslint-disable-next-line @typescript-eslint/no-explicit-any -- superforms' zod adapter generics cannot be spelled for any schema
-	const form = (await superValidate(fields as FormData, zod4(schema as any))) as SuperValidated<z.infer<S>, any, any>;
+	const form = (await superValidate(fields as FormData, zod4(schema as any))) as FormOf<S>;
 	for (const { key, integer } of numberFields(schema)) {
 		for (const raw of fields.getAll(key)) {
 			const problem = typeof raw === 'string' ? strictNumberProblem(raw, integer) : 'Expected a number, not a file.';
@@ -49,9 +52,7 @@ export async function validate<S extends AnySchema>(data: FormData | URLSearchPa
 /** An empty form for a load function, optionally pre-filled. */
 export async function emptyForm<S extends AnySchema>(schema: S, initial?: Partial<z.infer<S>>, id?: string) {
 	// eslint-disable-next-line @typescript-eslint/no-explicit-any -- superforms' zod adapter generics cannot be spelled for any schema
-	return superValidate(initial as any, zod4(schema as any), { errors: false, id }) as Promise<
-		SuperValidated<z.infer<S>, any, any>
-	>;
+	return superValidate(initial as any, zod4(schema as any), { errors: false, id }) as Promise<FormOf<S>>;
 }
 
 /**

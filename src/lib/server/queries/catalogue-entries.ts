@@ -4,8 +4,6 @@
  * The read model (read-model.ts) stores what this builds; pages read the stored result.
  */
 import { asc, eq, inArray } from 'drizzle-orm';
-import type { PgDatabase, PgQueryResultHKT } from 'drizzle-orm/pg-core';
-import * as schema from '../db/schema';
 import { chips, converters, revisions } from '../db/schema';
 import {
 	leadExpected,
@@ -27,8 +25,8 @@ import {
 } from '../../pricing';
 
 /** The pool-level client or a transaction: every read here works inside a writer's transaction too. */
-// eslint-disable-next-line @typescript-eslint/no-explicit-any
-export type Db = PgDatabase<PgQueryResultHKT, typeof schema, any>;
+import type { Db } from '../db/client';
+export type { Db };
 
 export const iso = (d: Date | string | null | undefined): string | null =>
 	d == null ? null : d instanceof Date ? d.toISOString() : new Date(d).toISOString();

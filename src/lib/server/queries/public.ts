@@ -8,7 +8,6 @@ import type { Database } from '../db/client';
 import {
 	benchReadings,
 	benchRuns,
-	chips,
 	converters,
 	guidePicks,
 	guides,
