@@ -32,6 +32,7 @@ import { sharedGuardedFetch } from '../security/address';
 import { recordPolls, type PollResult, type PollVerdict, type StockEventsHook } from './record';
 import { createWriteQueue } from './write-queue';
 import { createPlanner } from './plan';
+import { createCardRefresher } from './cards';
 import { RobotsCache } from './robots';
 import { parseRetryAfter } from './schedule';
 
@@ -115,18 +116,17 @@ export function createPoller(db: Database, options: PollerOptions = {}): Poller 
 	const log = options.log ?? (() => {});
 	const gate = new ShopGate();
 	const planner = options.schedule === 'adaptive' ? createPlanner(db, clock, log) : null;
-	const writer = createWriteQueue(
-		(batch) =>
-			recordPolls(db, batch, {
-				random,
-				restockQuietMs: options.restockQuietMs,
-				onStockEvents: options.onStockEvents,
-				intervalFor: planner
-					? (c, stock) => planner.intervalFor(c.listingId, stock) ?? c.pollIntervalMinutes
-					: undefined
-			}),
-		options.writeBatch ?? WRITE_BATCH
-	);
+	const cards = createCardRefresher(db, log);
+	const writer = createWriteQueue(async (batch) => {
+		const results = await recordPolls(db, batch, {
+			random,
+			restockQuietMs: options.restockQuietMs,
+			onStockEvents: options.onStockEvents,
+			intervalFor: planner ? (c, stock) => planner.intervalFor(c.listingId, stock) ?? c.pollIntervalMinutes : undefined
+		});
+		if (results.some((r) => !r.skipped && (r.changed || r.delisted))) cards.request();
+		return results;
+	}, options.writeBatch ?? WRITE_BATCH);
 	/** Which gate lane an origin's requests use: the shop's, once we have seen a listing there. */
 	const lanes = new Map<string, { id: number; maxConcurrency: number; minSpacingMs: number }>();
 
@@ -326,6 +326,7 @@ export function createPoller(db: Database, options: PollerOptions = {}): Poller 
 			const batch = await claim();
 			s.claimed = batch.length;
 			for (const r of await Promise.all(batch.map(pollClaimed))) add(s, r);
+			await cards.flush();
 			s.ms = Math.round(performance.now() - t0);
 			return s;
 		},
@@ -353,12 +354,16 @@ export function createPoller(db: Database, options: PollerOptions = {}): Poller 
 				if (!inflight.size) break;
 				await Promise.race(inflight);
 			}
+			await cards.flush();
 			s.ms = Math.round(performance.now() - t0);
 			return s;
 		},
 		async pollListing(listingId) {
 			const [c] = await claim(1, [listingId]);
-			return c ? pollClaimed(c) : null;
+			if (!c) return null;
+			const result = await pollClaimed(c);
+			await cards.flush();
+			return result;
 		},
 		release: () => releaseLeases(db, workerId)
 	};

@@ -3,7 +3,7 @@
  * transaction with a fixed number of statements, whatever its size: the listings' polling state,
  * the change points (only when price, currency or stock state differ from listing_state.current_*),
  * the stock events those changes imply, the alerts hook with all of them, the shops' daily outcome
- * counts, delistings and shop pauses. Per-listing transactions made the poller wait on the database
+ * counts, delistings and shop pauses (the public cards are rebuilt after the commit, cards.ts). Per-listing transactions made the poller wait on the database
  * (every write of a shop queued on its poll_count row); a batch takes that row once.
  *
  * If a batch fails (most likely the alerts hook), nothing of it is stored and every poll of it is
@@ -18,7 +18,6 @@ import {
 	listingStates,
 	listings,
 	observations,
-	pollCounts,
 	shopPollStates,
 	stockEvents,
 	type PollOutcome,
@@ -28,7 +27,6 @@ import { isBuyable } from '../../pricing';
 import { NOT_FOUND_DELIST_AFTER, RESTOCK_QUIET_PERIOD_MS } from './config';
 import type { ClaimedListing } from './claim';
 import { backoffDelayMs, nextPollAfterSuccess } from './schedule';
-import { refreshListingCards } from '../queries/read-model';
 
 /** The transaction handle the hook receives: use it for every write that must commit with the event. */
 export type PollerTx = Parameters<Parameters<Database['transaction']>[0]>[0];
@@ -331,33 +329,6 @@ async function writeBatch(tx: PollerTx, batch: PendingPoll[], o: Omit<RecordOpti
 		if (events.length && o.onStockEvents) await o.onStockEvents(tx, events);
 	}
 
-	if (rows.length) {
-		await tx.execute(sql`
-			update listing_state ls set
-				last_checked_at = v.now,
-				last_outcome = v.outcome::poll_outcome,
-				lease_owner = null,
-				lease_until = null,
-				poll_requested_at = case when v.requested_before is not null and ls.poll_requested_at < v.requested_before + interval '1 millisecond' then null else ls.poll_requested_at end,
-				next_poll_at = v.next_poll_at,
-				consecutive_failures = v.failures,
-				consecutive_not_found = v.not_found,
-				last_success_at = case when v.success then v.now else ls.last_success_at end,
-				last_error_at = case when v.success then ls.last_error_at else v.now end,
-				last_error = case when v.success then ls.last_error else v.error end,
-				etag = case when v.set_validators then v.etag else ls.etag end,
-				last_modified = case when v.set_validators then v.last_modified else ls.last_modified end,
-				current_price_minor = case when v.changed then v.price_minor else ls.current_price_minor end,
-				current_currency = case when v.changed then v.currency else ls.current_currency end,
-				current_stock = case when v.changed then v.stock::stock_state else ls.current_stock end,
-				current_since = case when v.changed then v.now else ls.current_since end
-			from jsonb_to_recordset(${JSON.stringify(rows)}::jsonb) as v(
-				listing_id int, now timestamptz, outcome text, requested_before timestamptz, next_poll_at timestamptz,
-				failures int, not_found int, success boolean, error text, set_validators boolean, etag text, last_modified text,
-				changed boolean, price_minor bigint, currency text, stock text)
-			where ls.listing_id = v.listing_id`);
-	}
-
 	for (const { c, now } of delist) {
 		await tx
 			.update(listings)
@@ -394,22 +365,61 @@ async function writeBatch(tx: PollerTx, batch: PendingPoll[], o: Omit<RecordOpti
 			if (r.at >= k.lastAt) Object.assign(k, { lastAt: r.at, lastDetail: r.detail });
 		}
 	}
-	if (counts.size) {
-		await tx
-			.insert(pollCounts)
-			.values([...counts.entries()].sort(([a], [b]) => (a < b ? -1 : a > b ? 1 : 0)).map(([, v]) => v))
-			.onConflictDoUpdate({
-				target: [pollCounts.shopId, pollCounts.day, pollCounts.outcome],
-				set: {
-					count: sql`${pollCounts.count} + excluded.count`,
-					lastAt: sql`greatest(${pollCounts.lastAt}, excluded.last_at)`,
-					lastDetail: sql`excluded.last_detail`
-				}
-			});
+	// The listings' new state and the shops' counts in ONE statement, last: these are the rows two
+	// batches share (poll_count per shop and day; card_dirty, marked by listing_state's trigger), so
+	// each batch holds them only from this statement to its commit. Counts are taken in key order and
+	// then the dirty marks in converter order, the same order in every batch (no lock cycles).
+	const countRows = [...counts.entries()]
+		.sort(([a], [b]) => (a < b ? -1 : a > b ? 1 : 0))
+		.map(([, v], i) => ({
+			ord: i,
+			shop_id: v.shopId,
+			day: v.day,
+			outcome: v.outcome,
+			count: v.count,
+			last_at: v.lastAt.toISOString(),
+			last_detail: v.lastDetail
+		}));
+	if (rows.length) {
+		await tx.execute(sql`
+			with state as (
+				update listing_state ls set
+					last_checked_at = v.now,
+					last_outcome = v.outcome::poll_outcome,
+					lease_owner = null,
+					lease_until = null,
+					poll_requested_at = case when v.requested_before is not null and ls.poll_requested_at < v.requested_before + interval '1 millisecond' then null else ls.poll_requested_at end,
+					next_poll_at = v.next_poll_at,
+					consecutive_failures = v.failures,
+					consecutive_not_found = v.not_found,
+					last_success_at = case when v.success then v.now else ls.last_success_at end,
+					last_error_at = case when v.success then ls.last_error_at else v.now end,
+					last_error = case when v.success then ls.last_error else v.error end,
+					etag = case when v.set_validators then v.etag else ls.etag end,
+					last_modified = case when v.set_validators then v.last_modified else ls.last_modified end,
+					current_price_minor = case when v.changed then v.price_minor else ls.current_price_minor end,
+					current_currency = case when v.changed then v.currency else ls.current_currency end,
+					current_stock = case when v.changed then v.stock::stock_state else ls.current_stock end,
+					current_since = case when v.changed then v.now else ls.current_since end
+				from jsonb_to_recordset(${JSON.stringify(rows)}::jsonb) as v(
+					listing_id int, now timestamptz, outcome text, requested_before timestamptz, next_poll_at timestamptz,
+					failures int, not_found int, success boolean, error text, set_validators boolean, etag text, last_modified text,
+					changed boolean, price_minor bigint, currency text, stock text)
+				where ls.listing_id = v.listing_id
+				returning 1
+			)
+			insert into poll_count (shop_id, day, outcome, count, last_at, last_detail)
+			select c.shop_id, c.day, c.outcome::poll_outcome, c.count, c.last_at, c.last_detail
+			from jsonb_to_recordset(${JSON.stringify(countRows)}::jsonb) as c(
+				ord int, shop_id int, day date, outcome text, count int, last_at timestamptz, last_detail text)
+			order by c.ord
+			on conflict (shop_id, day, outcome) do update set
+				count = poll_count.count + excluded.count,
+				last_at = greatest(poll_count.last_at, excluded.last_at),
+				last_detail = excluded.last_detail`);
 	}
-	// The public cards (read model) commit with the changes they show.
-	const touched = results.filter((r) => !r.skipped && (r.changed || r.delisted)).map((r) => r.listingId);
-	if (touched.length) await refreshListingCards(tx, touched);
+	// The public cards are marked dirty by trigger in this transaction; the poller rebuilds them after
+	// the commit (cards.ts), so a batch never waits on another's rebuild.
 	return results;
 }
 
