@@ -35,8 +35,11 @@ export function convertMinor(amountMinor: number, from: string, to: string, rate
 
 /** In stock and preorder can be bought now; the rest cannot. */
 export function isBuyable(stock: StockState): boolean {
-	return stock === 'in_stock' || stock === 'preorder';
+	return (BUYABLE_STOCK as readonly StockState[]).includes(stock);
 }
+
+/** The stock states a buyer can order in (isBuyable), for queries that judge it in SQL. */
+export const BUYABLE_STOCK = ['in_stock', 'preorder'] as const satisfies readonly StockState[];
 
 /** One listing's current state, as the offers query returns it. */
 export interface CurrentOffer {

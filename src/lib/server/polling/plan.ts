@@ -6,13 +6,52 @@
 import { sql } from 'drizzle-orm';
 import type { Database } from '../db/client';
 import type { StockState } from '../db/schema';
-import { isBuyable } from '../../pricing';
+import { BUYABLE_STOCK, isBuyable } from '../../pricing';
+import type { StockPoint } from '../../restock';
 import { planIntervals, type PlanInput, type PlannedInterval } from '../../poll-plan';
 
 /** Re-plan this often: watches and histories change slowly. */
 export const PLAN_REFRESH_MS = 10 * 60_000;
 /** History the outlook reads for planning. */
-const HISTORY_DAYS = 365;
+export const HISTORY_DAYS = 365;
+
+/**
+ * What the plan needs of each active listing's stock history in the last HISTORY_DAYS, computed in
+ * SQL so the planner gets a few rows per listing instead of every change point: the first known
+ * reading, every reading whose buyable-or-not differs from the known one before it (the spell
+ * boundaries listingSpells reads; 'unknown' readings and price changes do not end a spell), and the
+ * latest change point of any kind (the plan's "last change"). listingSpells gives the same spells
+ * from these as from the whole history, since every reading left out repeats the state before it.
+ */
+export async function loadStockTurns(db: Database, now: Date): Promise<Map<number, StockPoint[]>> {
+	const since = new Date(now.getTime() - HISTORY_DAYS * 86_400_000).toISOString();
+	const points = await db.execute<{ listing_id: number; observed_at: string | Date; stock: StockState }>(sql`
+		with recent as (
+			select o.id, o.listing_id, o.observed_at, o.stock from observation o
+			join listing l on l.id = o.listing_id
+			where l.active and l.delisted_at is null and o.observed_at >= ${since}::timestamptz
+		),
+		known as (
+			select id, listing_id, observed_at, stock, stock in ${BUYABLE_STOCK} as buyable,
+				lag(stock in ${BUYABLE_STOCK}) over (partition by listing_id order by observed_at, id) as buyable_before
+			from recent where stock <> 'unknown'
+		),
+		latest as (
+			select distinct on (listing_id) id, listing_id, observed_at, stock from recent
+			order by listing_id, observed_at desc, id desc
+		)
+		select id, listing_id, observed_at, stock from known where buyable_before is distinct from buyable
+		union
+		select id, listing_id, observed_at, stock from latest
+		order by listing_id, observed_at, id`);
+	const byListing = new Map<number, StockPoint[]>();
+	for (const p of points) {
+		const id = Number(p.listing_id);
+		if (!byListing.has(id)) byListing.set(id, []);
+		byListing.get(id)!.push({ at: new Date(p.observed_at), stock: p.stock });
+	}
+	return byListing;
+}
 
 export async function loadPlanInputs(
 	db: Database,
@@ -39,18 +78,7 @@ export async function loadPlanInputs(
 		from listing l
 		left join listing_state ls on ls.listing_id = l.id
 		where l.active and l.delisted_at is null`);
-	const since = new Date(now.getTime() - HISTORY_DAYS * 86_400_000).toISOString();
-	const points = await db.execute<{ listing_id: number; observed_at: string | Date; stock: StockState }>(sql`
-		select o.listing_id, o.observed_at, o.stock from observation o
-		join listing l on l.id = o.listing_id
-		where l.active and l.delisted_at is null and o.observed_at >= ${since}::timestamptz
-		order by o.listing_id, o.observed_at, o.id`);
-	const byListing = new Map<number, Array<{ at: Date; stock: StockState }>>();
-	for (const p of points) {
-		const id = Number(p.listing_id);
-		if (!byListing.has(id)) byListing.set(id, []);
-		byListing.get(id)!.push({ at: new Date(p.observed_at), stock: p.stock });
-	}
+	const byListing = await loadStockTurns(db, now);
 	const inputs: PlanInput[] = [];
 	const current = new Map<number, boolean | null>();
 	for (const r of rows) {
