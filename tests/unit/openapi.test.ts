@@ -10,6 +10,8 @@ import { Validator } from '@seriousme/openapi-schema-validator';
 import { describe, expect, it } from 'vitest';
 import { API_OPERATIONS, listingHistoryQuery, listingsQuery } from '../../src/lib/server/api/contract';
 import { openApiDocument } from '../../src/lib/server/api/openapi';
+import { listingRowJson, outlookJson } from '../../src/lib/server/api/listing-json';
+import { restockOutlook, type StockPoint } from '../../src/lib/restock';
 
 type Spec = Parameters<Validator['validate']>[0];
 const API_DIR = join(__dirname, '../../src/routes/api/v1');
@@ -128,5 +130,47 @@ describe('the OpenAPI description', () => {
 			{ content: Record<string, unknown> }
 		>;
 		for (const r of Object.values(responses)) expect(Object.keys(r.content)).toEqual(['application/problem+json']);
+	});
+
+	it('describes the listings with their restock outlook and shop record, from the zod schemas the route builds it to', () => {
+		type Obj = { properties: Record<string, Obj>; required?: string[]; type?: unknown; items?: Obj; enum?: unknown[] };
+		const schemas = openApiDocument('https://scopegrade.test').components.schemas as unknown as Record<string, Obj>;
+		const row = schemas.ListingList.properties.listings.items!;
+		expect(row.required).toEqual(expect.arrayContaining(['outlook', 'shopRecord', 'stock', 'price']));
+		const outlook = row.properties.outlook as unknown as { anyOf: Obj[] };
+		const described = outlook.anyOf.find((s) => s.type === 'object')!;
+		expect(Object.keys(described.properties).sort()).toEqual([
+			'currentForHours',
+			'restock',
+			'sellout',
+			'state',
+			'text'
+		]);
+		expect(Object.keys(described.properties.restock.properties).sort()).toEqual(['medianHours', 'spells']);
+		expect(outlook.anyOf.some((s) => s.type === 'null')).toBe(true);
+		expect(Object.keys(row.properties.shopRecord.properties).sort()).toEqual(['line', 'page']);
+
+		// What the route puts there fits the schema: an outlook from a history of 3 restocks after
+		// 2, 4 and 6 days (Kaplan-Meier median of 4 days with no censoring: the middle of three).
+		const DAY = 86_400_000;
+		const t0 = Date.UTC(2026, 0, 1);
+		const points: StockPoint[] = [];
+		let t = t0;
+		points.push({ at: new Date(t), stock: 'in_stock' });
+		for (const outDays of [2, 4, 6]) {
+			t += 3 * DAY;
+			points.push({ at: new Date(t), stock: 'out_of_stock' });
+			t += outDays * DAY;
+			points.push({ at: new Date(t), stock: 'in_stock' });
+		}
+		const json = outlookJson(restockOutlook(points, new Date(t + DAY)))!;
+		expect(json.restock).toEqual({ medianHours: 96, spells: 3 });
+		expect(json.state).toBe('in');
+		const parsed = listingRowJson.shape.outlook.safeParse(json);
+		expect(parsed.success).toBe(true);
+		// ...and the schema is not a blank cheque: a median in words is refused.
+		expect(
+			listingRowJson.shape.outlook.safeParse({ ...json, restock: { medianHours: '4 days', spells: 3 } }).success
+		).toBe(false);
 	});
 });

@@ -3,7 +3,8 @@
  * parameters and request bodies are zod 4's JSON Schema output (`z.toJSONSchema`) of the same
  * schemas the handlers parse with; every error answer is RFC 9457 problem details
  * (`application/problem+json`, field messages in `errors`), as src/lib/server/http/problem.ts
- * builds them. Response bodies are described by hand below, their enums from src/lib/enums.ts.
+ * builds them. Response bodies are described by hand below, their enums from src/lib/enums.ts, except
+ * where the route builds its answer to a zod schema (the listings, ./listing-json.ts).
  */
 import { z } from 'zod';
 import { BANDS, REGIONS, STOCK_STATES } from '../../enums';
@@ -11,6 +12,7 @@ import { BAND_REASONS } from '../../components/bands';
 import { POWER_KINDS } from '../../finder';
 import { currencySchema } from '../queries/public-params';
 import { API_OPERATIONS, type ApiOperation } from './contract';
+import { listingListJson } from './listing-json';
 
 type Json = Record<string, unknown>;
 
@@ -244,10 +246,8 @@ export function openApiDocument(origin: string) {
 						odds: { type: 'array' }
 					}
 				},
-				ListingList: {
-					type: 'object',
-					properties: { converter: { type: 'string' }, listings: { type: 'array', items: { type: 'object' } } }
-				},
+				// From the zod schemas the route builds its answer to (./listing-json.ts).
+				ListingList: jsonSchema(listingListJson),
 				FinderAnswer: {
 					type: 'object',
 					properties: {

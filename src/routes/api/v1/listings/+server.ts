@@ -1,23 +1,11 @@
 import { listingsQuery as params } from '$lib/server/api/contract';
+import { outlookJson, type ListingRowJson } from '$lib/server/api/listing-json';
 import { db } from '$lib/server/db';
 import { loadListings } from '$lib/server/queries/public';
 import { listingNotes } from '$lib/server/queries/shops';
 import { searchObject, viewpoint } from '$lib/server/queries/public-params';
 import { badRequest, cachedJson, notFound } from '$lib/server/queries/public-http';
-import type { RestockOutlook } from '$lib/restock';
 import type { RequestHandler } from './$types';
-
-const hours = (ms: number | null) => (ms === null ? null : Math.round((ms / 3_600_000) * 10) / 10);
-function outlookJson(o: RestockOutlook | undefined) {
-	if (!o) return null;
-	return {
-		state: o.state,
-		currentForHours: hours(o.currentForMs),
-		restock: { medianHours: hours(o.restock.medianMs), spells: o.restock.spells },
-		sellout: { medianHours: hours(o.sellout.medianMs), spells: o.sellout.spells },
-		text: o.text
-	};
-}
 
 /** Current state of every listing of one converter (all regions). */
 export const GET: RequestHandler = async ({ url, request }) => {
@@ -34,7 +22,7 @@ export const GET: RequestHandler = async ({ url, request }) => {
 		converter: parsed.data.converter,
 		region: view.region,
 		currency: view.currency,
-		listings: listings.map((l) => ({
+		listings: listings.map((l): ListingRowJson => ({
 			id: l.listingId,
 			shop: { slug: l.shopSlug, name: l.shopName, region: l.shopRegion, shipsTo: l.shipsTo },
 			url: l.url,
