@@ -4,8 +4,9 @@
  * than a committed change (every read rebuilds dirty cards first). Rebuilding them inside the batch
  * made every batch rebuild the cards of nearly every converter and held the dirty rows' locks while
  * doing it, so the next batch waited: the poller spent most of its first reads there. Instead the
- * poller rebuilds what is dirty after its batches commit, at most once per `minGapMs`, one rebuild at
- * a time, so readers rarely find anything to rebuild.
+ * poller rebuilds what is dirty after its batches commit: `minGapMs` after the first change since the
+ * last rebuild, one rebuild at a time, and at the end of each drain (`flush`), so readers rarely find
+ * anything to rebuild. A rebuild still makes writers of the same converters wait, hence the gap.
  */
 import type { Database } from '../db/client';
 import { refreshDirtyCards } from '../queries/read-model';
@@ -17,7 +18,7 @@ export interface CardRefresher {
 	flush(): Promise<void>;
 }
 
-export const CARD_REFRESH_GAP_MS = 10_000;
+export const CARD_REFRESH_GAP_MS = 30_000;
 
 export function createCardRefresher(
 	db: Database,
@@ -27,13 +28,11 @@ export function createCardRefresher(
 	let wanted = false;
 	let running: Promise<void> | null = null;
 	let timer: NodeJS.Timeout | null = null;
-	let lastStart = -Infinity;
 
 	const run = (): Promise<void> => {
 		if (timer) clearTimeout(timer);
 		timer = null;
 		wanted = false;
-		lastStart = performance.now();
 		running = refreshDirtyCards(db)
 			.then(
 				() => {},
@@ -48,8 +47,8 @@ export function createCardRefresher(
 
 	const schedule = () => {
 		if (running || timer) return;
-		const wait = Math.max(0, lastStart + minGapMs - performance.now());
-		timer = setTimeout(run, wait);
+		// Trailing: the first change waits a full gap, so a burst of batches shares one rebuild.
+		timer = setTimeout(run, minGapMs);
 		timer.unref?.();
 	};
 
