@@ -14,7 +14,11 @@ const { handler } = await import(pathToFileURL(resolve(dir, 'handler.js')).href)
 
 // Below 1 kB compressing costs more than it saves; brotli quality 4 keeps it cheap on the CPU.
 const compress = compression({ threshold: 1024 });
+// The page cache (src/lib/server/page-cache.ts) registers its fast path when the app loads: a hit
+// is answered here, already compressed, without building a Request for SvelteKit.
+const PAGE_CACHE = Symbol.for('scopegrade.page-cache');
 const server = http.createServer((req, res) => {
+	if (globalThis[PAGE_CACHE]?.serveCachedHit(req, res)) return;
 	compress(req, res, (err) => {
 		if (err) {
 			res.statusCode = 500;
