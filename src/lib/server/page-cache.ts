@@ -16,7 +16,11 @@
  *   still served while one request renders it again.
  * - scripts/serve.mjs answers hits before SvelteKit sees the request (`serveCachedHit`, found on
  *   globalThis), so a hit costs about what a static file does.
- * Env: PAGE_CACHE=off turns the in-process cache off (headers stay), PAGE_CACHE_MB (32),
+ * - After an invalidation the pages visitors opened in the last minute (at most PAGE_CACHE_REWARM,
+ *   8, most recent first) are rendered again at once, one at a time, through a loopback request
+ *   that scripts/serve.mjs makes (`setRewarmer`): the next visitor finds them rendered, or waits
+ *   for the render already running. Renders start after the change committed, so none is stale.
+ * Env: PAGE_CACHE=off turns the in-process cache off (headers stay), PAGE_CACHE_MB (32), PAGE_CACHE_REWARM (8),
  * PAGE_CACHE_TTL_SECONDS (60: bounds how old "last checked" times on a cached page can be).
  */
 import { createHash } from 'node:crypto';
@@ -92,15 +96,65 @@ let listening: Promise<unknown> | null = null;
 /** True while the LISTEN connection is up: only then may anything be stored. */
 let live = false;
 
+/** How to ask this process for a page again: path with query and the headers its key depends on. */
+export interface Replay {
+	path: string;
+	headers: Record<string, string>;
+}
+/** Keys visitors asked for lately, most recent first, with how to render them again. */
+const REWARM_WINDOW_MS = 60_000;
+const visited = new LRUCache<string, Replay>({ max: 256, ttl: REWARM_WINDOW_MS });
+const REWARM = Number(env.PAGE_CACHE_REWARM ?? 8);
+/** Set by scripts/serve.mjs: renders one page through this process's own HTTP server. */
+let rewarmer: ((r: Replay) => Promise<void>) | null = null;
+/** Marks the loopback requests, so they do not count as visits. */
+const REWARM_HEADER = 'x-sg-rewarm';
+let rewarming: string[] = [];
+
+export function setRewarmer(fn: ((r: Replay) => Promise<void>) | null) {
+	rewarmer = fn;
+}
+
+async function rewarmLoop() {
+	while (rewarming.length && rewarmer) {
+		const key = rewarming.shift()!;
+		const replay = visited.get(key, { updateAgeOnGet: false });
+		if (!replay || cache.has(key) || flights.has(key)) continue;
+		try {
+			await rewarmer(replay);
+		} catch {
+			/* a failed warm-up only means the next visitor renders it */
+		}
+	}
+}
+
 export function invalidatePageCache() {
 	generation++;
 	cache.clear();
 	flights.clear(); // renders begun before the change are neither stored nor shared with later visitors
+	if (!rewarmer || REWARM <= 0) return;
+	const wasIdle = rewarming.length === 0;
+	rewarming = [...visited.keys()].slice(0, REWARM);
+	if (wasIdle) void rewarmLoop();
+}
+
+/** Note a visitor's request for `key` (not our own warm-up requests) so an invalidation can render it again. */
+function noteVisit(key: string, url: URL, cookie: CookieGet, header: (name: string) => string | null) {
+	if (header(REWARM_HEADER)) return;
+	const headers: Record<string, string> = { [REWARM_HEADER]: '1' };
+	const language = header('accept-language');
+	if (language) headers['accept-language'] = language;
+	const jar = [REGION_COOKIE, CURRENCY_COOKIE]
+		.map((name) => [name, cookie(name)] as const)
+		.filter(([, v]) => v)
+		.map(([name, v]) => `${name}=${encodeURIComponent(v!)}`);
+	if (jar.length) headers.cookie = jar.join('; ');
+	visited.set(key, { path: url.pathname + url.search, headers });
 }
 
 /** A stored answer for this key that may be sent now: fresh, or stale while someone renders it again. */
 function servable(key: string): Stored | undefined {
-	const status: LRUCache.Status<Stored> = {};
+	const status: LRUCache.Status<string, Stored> = {};
 	const found = cache.get(key, { status });
 	if (!found) return undefined;
 	return status.get === 'stale' && !flights.has(key) ? undefined : found;
@@ -135,7 +189,8 @@ export function hasSession(cookies: Cookies): boolean {
 type CookieGet = (name: string) => string | undefined;
 
 function keyOf(url: URL, cookie: CookieGet, acceptLanguage: string | null): string {
-	const read = { get: cookie } as Cookies;
+	// The open-data API takes its viewpoint from the query and Accept-Language, never from cookies.
+	const read = { get: url.pathname.startsWith('/api/') ? () => undefined : cookie } as Cookies;
 	const view = viewpoint({}, read, acceptLanguage);
 	const query = [...url.searchParams].sort(([a], [b]) => (a < b ? -1 : a > b ? 1 : 0));
 	return `${url.pathname}?${new URLSearchParams(query)}|${view.region}|${view.currency}`;
@@ -221,8 +276,10 @@ export function serveCachedHit(req: IncomingMessage, res: ServerResponse): boole
 		return v == null ? null : Array.isArray(v) ? v.join(', ') : v;
 	};
 	const view: RequestView = { url, cookie: (name) => jar[name], header };
-	const found = servable(keyOf(url, view.cookie, header('accept-language')));
+	const key = keyOf(url, view.cookie, header('accept-language'));
+	const found = servable(key);
 	if (!found) return false;
+	noteVisit(key, url, view.cookie, header);
 	const { status, headers, body } = answerParts(view, found, 'hit');
 	const out: Record<string, string | string[]> = {};
 	for (const [k, v] of headers) {
@@ -234,7 +291,7 @@ export function serveCachedHit(req: IncomingMessage, res: ServerResponse): boole
 	res.end(body ?? undefined);
 	return true;
 }
-(globalThis as Record<symbol, unknown>)[Symbol.for('scopegrade.page-cache')] = { serveCachedHit };
+(globalThis as Record<symbol, unknown>)[Symbol.for('scopegrade.page-cache')] = { serveCachedHit, setRewarmer };
 
 export const pageCacheHandle: Handle = async ({ event, resolve }) => {
 	const { request, url, cookies } = event;
@@ -259,6 +316,7 @@ export const pageCacheHandle: Handle = async ({ event, resolve }) => {
 		const stored = await toStored(response, false);
 		return stored ? answer(view, stored, 'miss') : response;
 	}
+	noteVisit(key, view.url, view.cookie, view.header);
 	const found = servable(key);
 	if (found) return answer(view, found, 'hit');
 	const pending = flights.get(key);
