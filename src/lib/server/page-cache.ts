@@ -16,8 +16,8 @@
  *   still served while one request renders it again.
  * - scripts/serve.mjs answers hits before SvelteKit sees the request (`serveCachedHit`, found on
  *   globalThis), so a hit costs about what a static file does.
- * - After an invalidation the pages visitors opened in the last minute (at most PAGE_CACHE_REWARM,
- *   8, most recent first) are rendered again at once, one at a time, through a loopback request
+ * - After an invalidation the pages visitors opened at least 3 times in the last minute (at most
+ *   PAGE_CACHE_REWARM, 8, most recent first) are rendered again at once, one at a time, through a loopback request
  *   that scripts/serve.mjs makes (`setRewarmer`): the next visitor finds them rendered, or waits
  *   for the render already running. Renders start after the change committed, so none is stale.
  * Env: PAGE_CACHE=off turns the in-process cache off (headers stay), PAGE_CACHE_MB (32), PAGE_CACHE_REWARM (8),
@@ -101,9 +101,11 @@ export interface Replay {
 	path: string;
 	headers: Record<string, string>;
 }
+/** Visits within the window before a page counts as busy enough to render again unasked. */
+const REWARM_MIN_VISITS = 3;
 /** Keys visitors asked for lately, most recent first, with how to render them again. */
 const REWARM_WINDOW_MS = 60_000;
-const visited = new LRUCache<string, Replay>({ max: 256, ttl: REWARM_WINDOW_MS });
+const visited = new LRUCache<string, Replay & { visits: number }>({ max: 256, ttl: REWARM_WINDOW_MS });
 const REWARM = Number(env.PAGE_CACHE_REWARM ?? 8);
 /** Set by scripts/serve.mjs: renders one page through this process's own HTTP server. */
 let rewarmer: ((r: Replay) => Promise<void>) | null = null;
@@ -134,7 +136,10 @@ export function invalidatePageCache() {
 	flights.clear(); // renders begun before the change are neither stored nor shared with later visitors
 	if (!rewarmer || REWARM <= 0) return;
 	const wasIdle = rewarming.length === 0;
-	rewarming = [...visited.keys()].slice(0, REWARM);
+	rewarming = [...visited.entries()]
+		.filter(([, v]) => v.visits >= REWARM_MIN_VISITS)
+		.slice(0, REWARM)
+		.map(([k]) => k);
 	if (wasIdle) void rewarmLoop();
 }
 
@@ -149,7 +154,8 @@ function noteVisit(key: string, url: URL, cookie: CookieGet, header: (name: stri
 		.filter(([, v]) => v)
 		.map(([name, v]) => `${name}=${encodeURIComponent(v!)}`);
 	if (jar.length) headers.cookie = jar.join('; ');
-	visited.set(key, { path: url.pathname + url.search, headers });
+	const visits = (visited.get(key)?.visits ?? 0) + 1;
+	visited.set(key, { path: url.pathname + url.search, headers, visits });
 }
 
 /** A stored answer for this key that may be sent now: fresh, or stale while someone renders it again. */
