@@ -112,12 +112,24 @@ let rewarmer: ((r: Replay) => Promise<void>) | null = null;
 /** Marks the loopback requests, so they do not count as visits. */
 const REWARM_HEADER = 'x-sg-rewarm';
 let rewarming: string[] = [];
+let rewarmRunning = false;
 
 export function setRewarmer(fn: ((r: Replay) => Promise<void>) | null) {
 	rewarmer = fn;
 }
 
+/** One page at a time, so the warm-up never takes more than a share of the CPU from visitors. */
 async function rewarmLoop() {
+	if (rewarmRunning) return;
+	rewarmRunning = true;
+	try {
+		await rewarmEach();
+	} finally {
+		rewarmRunning = false;
+	}
+}
+
+async function rewarmEach() {
 	while (rewarming.length && rewarmer) {
 		const key = rewarming.shift()!;
 		const replay = visited.get(key, { updateAgeOnGet: false });
@@ -135,12 +147,11 @@ export function invalidatePageCache() {
 	cache.clear();
 	flights.clear(); // renders begun before the change are neither stored nor shared with later visitors
 	if (!rewarmer || REWARM <= 0) return;
-	const wasIdle = rewarming.length === 0;
 	rewarming = [...visited.entries()]
 		.filter(([, v]) => v.visits >= REWARM_MIN_VISITS)
 		.slice(0, REWARM)
 		.map(([k]) => k);
-	if (wasIdle) void rewarmLoop();
+	void rewarmLoop();
 }
 
 /** Note a visitor's request for `key` (not our own warm-up requests) so an invalidation can render it again. */
