@@ -119,6 +119,17 @@ async function main() {
 				.filter((x) => x.score !== null && x.score < 1 && x.scoreDisplayMode === 'binary')
 				.map((x) => x.id);
 			if (failing.length) console.log(`${path} failing audits: ${failing.join(', ')}`);
+			// Where the main thread went (the blocking time is judged on it; a loaded machine inflates all of it).
+			const work = (
+				a['mainthread-work-breakdown']?.details as { items?: Array<{ groupLabel: string; duration: number }> }
+			)?.items;
+			if (work)
+				console.log(
+					`${path} main-thread ${work
+						.slice(0, 4)
+						.map((w) => `${w.groupLabel} ${Math.round(w.duration)} ms`)
+						.join(', ')}`
+				);
 		}
 	} finally {
 		await chrome?.kill();

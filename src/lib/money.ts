@@ -78,6 +78,16 @@ export function formatMinor(minor: number, currency: string): string {
 /** Minor units for people, grouped, with the code: "12.90 EUR", "3,480 JPY". */
 export function formatMoney(amountMinor: number, currency: string): string {
 	const digits = minorDigits(currency);
-	const major = amountMinor / 10 ** digits;
-	return `${major.toLocaleString('en-GB', { minimumFractionDigits: digits, maximumFractionDigits: digits })} ${currency}`;
+	return `${grouping(digits).format(amountMinor / 10 ** digits)} ${currency}`;
+}
+
+/** One formatter per number of decimals: toLocaleString builds a new one on every call, a page prices hundreds. */
+const formatters = new Map<number, Intl.NumberFormat>();
+function grouping(digits: number): Intl.NumberFormat {
+	let f = formatters.get(digits);
+	if (!f) {
+		f = new Intl.NumberFormat('en-GB', { minimumFractionDigits: digits, maximumFractionDigits: digits });
+		formatters.set(digits, f);
+	}
+	return f;
 }

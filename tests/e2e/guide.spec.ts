@@ -275,5 +275,16 @@ test('chart code loads only on pages that draw charts', async ({ page }) => {
 	};
 	expect(await chartLoaded('/converters')).toBe(false);
 	expect(await chartLoaded('/finder')).toBe(false);
-	expect(await chartLoaded('/converters/brisling-scanlet')).toBe(true);
+	// A converter page fetches chart code only once the visitor moves to a chart, even one in the first screen.
+	const bodies: Promise<string>[] = [];
+	page.on('response', (r) => {
+		if (r.request().resourceType() === 'script') bodies.push(r.text().catch(() => ''));
+	});
+	await page.goto('/converters/brisling-scanlet');
+	await page.waitForLoadState('networkidle');
+	expect((await Promise.all(bodies)).some((t) => t.includes(MARK))).toBe(false);
+	await page.getByLabel('Level chart for revision A').scrollIntoViewIfNeeded();
+	await page.mouse.wheel(0, 200);
+	await expect(page.locator('[data-testid=level-chart]').first()).toHaveAttribute('data-ready', 'true');
+	expect((await Promise.all(bodies)).some((t) => t.includes(MARK))).toBe(true);
 });

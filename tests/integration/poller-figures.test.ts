@@ -7,7 +7,14 @@
 import { afterAll, beforeAll, describe, expect, it, vi } from 'vitest';
 import { eq } from 'drizzle-orm';
 import { converters, listings, listingStates, observations, shops } from '../../src/lib/server/db/schema';
-import { bestOffersByRegion, listingFigures, listingHistory } from '../../src/lib/server/queries/history';
+import {
+	bestOffersByRegion,
+	downsampleSteps,
+	listingFigures,
+	listingHistory,
+	windowFigures,
+	type ChangePoint
+} from '../../src/lib/server/queries/history';
 import { shopHealth } from '../../src/lib/server/queries/shops';
 import { createWorld, setSpacing, type World } from './poller-helpers';
 import { LISTINGS } from '../../src/lib/demo/scenario';
@@ -102,6 +109,52 @@ describe('listing history', () => {
 		});
 		expect(f.d30.buyableShare).toBeCloseTo(20 / 30, 10);
 		await w.db.update(listings).set({ delistedAt: null }).where(eq(listings.id, listingId));
+	});
+
+	it('a dense year is downsampled in SQL to at most the asked points, as the in-memory reference does', async () => {
+		// A change every 2 hours for a year (4,380 points) on a second listing of the same world.
+		const dense = await w.listingId('thamesbit', '/item/loop-rgb');
+		await w.db.delete(observations).where(eq(observations.listingId, dense));
+		const states = ['in_stock', 'out_of_stock', 'unknown', 'preorder'] as const;
+		const year: ChangePoint[] = Array.from({ length: 4380 }, (_, i) => ({
+			at: new Date(NOW.getTime() - 365 * DAY + i * 2 * 3_600_000),
+			priceMinor: 2000 + ((i * 37) % 500),
+			currency: 'GBP',
+			stock: states[Math.floor(i / 5) % states.length]
+		}));
+		for (let i = 0; i < year.length; i += 1000)
+			await w.db.insert(observations).values(
+				year.slice(i, i + 1000).map((p) => ({
+					listingId: dense,
+					observedAt: p.at,
+					priceMinor: p.priceMinor,
+					currency: p.currency,
+					stock: p.stock
+				}))
+			);
+		for (const points of [10, 120, 300]) {
+			const h = (await listingHistory(w.db, dense, { range: '1y', now: NOW, points }))!;
+			expect(h.points.length).toBeLessThanOrEqual(points);
+			expect(h.downsampled).toBe(true);
+			expect(h.totalPoints).toBe(4380);
+			// Same buckets as downsampleSteps over the in-range points (the carried point comes first on its own).
+			const from = h.range.from;
+			const buckets = Math.floor((points - 1) / 4);
+			const width = Math.ceil((NOW.getTime() - from.getTime()) / buckets);
+			const reference = downsampleSteps(
+				year.filter((p) => p.at >= from),
+				from,
+				new Date(from.getTime() + buckets * width),
+				buckets * 4
+			);
+			expect(h.points.slice(h.points[0]?.carried ? 1 : 0).map((p) => [+p.at, p.priceMinor, p.stock])).toEqual(
+				reference.map((p) => [+p.at, p.priceMinor, p.stock])
+			);
+		}
+		// The figures read only the points they need, and match figures over the whole year.
+		const h = (await listingHistory(w.db, dense, { range: '1y', now: NOW }))!;
+		expect(h.figures.d90).toEqual(windowFigures(year, new Date(NOW.getTime() - 90 * DAY), NOW));
+		expect(h.figures.d30).toEqual(windowFigures(year, new Date(NOW.getTime() - 30 * DAY), NOW));
 	});
 
 	it('unknown listing: null', async () => {

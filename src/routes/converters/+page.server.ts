@@ -9,6 +9,13 @@ import {
 } from '$lib/server/queries/public-params';
 import type { PageServerLoad } from './$types';
 
+/**
+ * The catalogue is a list of links and a GET form: served as HTML only, without the app's
+ * JavaScript (its budget is 40 kB gzip; SvelteKit's runtime alone is more). static/enhance.js
+ * submits the filter form on change and runs the theme switch.
+ */
+export const csr = false;
+
 /** Cards per page: a catalogue of thousands stays quick to render and to read on a phone. */
 const PAGE_SIZE = 48;
 

@@ -15,7 +15,7 @@
  *   next sell-out; the typical duration is the median of spells that ENDED in the window (open ones
  *   are not yet measurable).
  */
-import { asc, eq, inArray } from 'drizzle-orm';
+import { asc, eq, inArray, sql } from 'drizzle-orm';
 import type { Database } from '../db/client';
 import { listingStates, listings, observations, shops, type PollOutcome, type StockState } from '../db/schema';
 import {
@@ -232,9 +232,106 @@ async function loadPoints(db: Database, listingIds: number[]): Promise<Map<numbe
 	return out;
 }
 
+type PointRow = { at: Date | string; price_minor: number | null; currency: string | null; stock: StockState };
+const toPoint = (r: PointRow): ChangePoint => ({
+	at: new Date(r.at),
+	priceMinor: r.price_minor == null ? null : Number(r.price_minor),
+	currency: r.currency,
+	stock: r.stock
+});
+
+/**
+ * The change points windowFigures needs for windows ending at `to` and starting no earlier than
+ * `from`: those in [from, to] and four from before `from`: the state carried in, the last known
+ * stock state, the last known not-buyable state and the restock that followed it (a spell running
+ * at `from` started there). Older points change no figure, so a year of history costs no more
+ * rows than the window holds.
+ */
+async function figurePoints(db: Database, listingId: number, from: Date, to: Date): Promise<ChangePoint[]> {
+	const rows = (await db.execute(sql`
+		with before as (
+			select id, observed_at, stock from observation where listing_id = ${listingId} and observed_at < ${from.toISOString()}::timestamptz
+		), last_down as (
+			select id, observed_at from before
+			where stock not in ('in_stock', 'preorder', 'unknown') order by observed_at desc, id desc limit 1
+		)
+		select observed_at as at, price_minor, currency, stock from observation
+		where listing_id = ${listingId} and observed_at <= ${to.toISOString()}::timestamptz and (
+			observed_at >= ${from.toISOString()}::timestamptz
+			or id = (select id from before order by observed_at desc, id desc limit 1)
+			or id = (select id from before where stock <> 'unknown' order by observed_at desc, id desc limit 1)
+			or id = (select id from last_down)
+			or id = (
+				select b.id from before b
+				where b.stock in ('in_stock', 'preorder') and b.observed_at >= coalesce((select observed_at from last_down), '-infinity')
+				order by b.observed_at, b.id limit 1
+			)
+		)
+		order by observed_at, id`)) as unknown as PointRow[];
+	return rows.map(toPoint);
+}
+
+/**
+ * The chart's points for [from, to], downsampled in SQL as downsampleSteps does in memory: up to
+ * `maxPoints` points as they are; beyond that, equal time buckets (date_bin) each keep their first,
+ * cheapest, dearest and last change point. The state carried in from before `from` comes first
+ * (at `from`). At most `maxPoints` rows whatever the length of the history.
+ */
+async function chartPoints(
+	db: Database,
+	listingId: number,
+	from: Date,
+	to: Date,
+	maxPoints: number
+): Promise<{ points: Array<ChangePoint & { carried?: boolean }>; inRange: number; downsampled: boolean }> {
+	const [[{ n }], carriedRows] = await Promise.all([
+		db.execute(sql`
+			select count(*)::int as n from observation
+			where listing_id = ${listingId} and observed_at >= ${from.toISOString()}::timestamptz and observed_at <= ${to.toISOString()}::timestamptz`) as unknown as Promise<
+			Array<{ n: number }>
+		>,
+		db.execute(sql`
+			select observed_at as at, price_minor, currency, stock from observation
+			where listing_id = ${listingId} and observed_at < ${from.toISOString()}::timestamptz
+			order by observed_at desc, id desc limit 1`) as unknown as Promise<PointRow[]>
+	]);
+	const carried = carriedRows.map((r) => ({ ...toPoint(r), at: from, carried: true as const }));
+	if (n + carried.length <= maxPoints) {
+		const rows = (await db.execute(sql`
+			select observed_at as at, price_minor, currency, stock from observation
+			where listing_id = ${listingId} and observed_at >= ${from.toISOString()}::timestamptz and observed_at <= ${to.toISOString()}::timestamptz
+			order by observed_at, id`)) as unknown as PointRow[];
+		return { points: [...carried, ...rows.map(toPoint)], inRange: n, downsampled: false };
+	}
+	// One slot is the carried point; four per bucket.
+	const buckets = Math.max(1, Math.floor((maxPoints - 1) / 4));
+	const widthMs = Math.max(1, Math.ceil((to.getTime() - from.getTime()) / buckets));
+	const lastBucket = new Date(from.getTime() + (buckets - 1) * widthMs);
+	const rows = (await db.execute(sql`
+		with pts as (
+			select id, observed_at, price_minor, currency, stock,
+				least(date_bin(${`${widthMs} milliseconds`}::interval, observed_at, ${from.toISOString()}::timestamptz), ${lastBucket.toISOString()}::timestamptz) as bucket
+			from observation
+			where listing_id = ${listingId} and observed_at >= ${from.toISOString()}::timestamptz and observed_at <= ${to.toISOString()}::timestamptz
+		), ranked as (
+			select *,
+				row_number() over (partition by bucket order by observed_at, id) as first_n,
+				row_number() over (partition by bucket order by observed_at desc, id desc) as last_n,
+				row_number() over (partition by bucket order by price_minor asc nulls last, observed_at, id) as low_n,
+				row_number() over (partition by bucket order by price_minor desc nulls last, observed_at, id) as high_n
+			from pts
+		)
+		select observed_at as at, price_minor, currency, stock from ranked
+		where first_n = 1 or last_n = 1 or (price_minor is not null and (low_n = 1 or high_n = 1))
+		order by observed_at, id`)) as unknown as PointRow[];
+	return { points: [...carried, ...rows.map(toPoint)], inRange: n, downsampled: rows.length < n };
+}
+
 /**
  * One listing's history for a chart plus its 30- and 90-day figures; null when there is no such
- * listing. `points` caps the chart's points (downsampleSteps).
+ * listing. `points` caps the chart's points (downsampled in SQL, see chartPoints); the figures
+ * read only the change points they need (figurePoints), so a long history costs a bounded number
+ * of rows.
  */
 export async function listingHistory(
 	db: Database,
@@ -254,18 +351,22 @@ export async function listingHistory(
 		.leftJoin(listingStates, eq(listingStates.listingId, listings.id))
 		.where(eq(listings.id, listingId));
 	if (!row) return null;
-	const all = (await loadPoints(db, [listingId])).get(listingId)!;
 	// A delisted page's history ends when it went away: no figure runs on past that.
 	const to = row.listing.delistedAt && row.listing.delistedAt < now ? row.listing.delistedAt : now;
-	const from = range === 'all' ? (all[0]?.at ?? to) : new Date(to.getTime() - RANGE_DAYS[range] * DAY);
-	const upto = all.filter((p) => p.at <= to);
-	const inRange = upto.filter((p) => p.at >= from);
-	const before = upto.filter((p) => p.at < from).pop();
-	const chart: Array<ChangePoint & { carried?: boolean }> = before
-		? [{ ...before, at: from, carried: true }, ...inRange]
-		: inRange;
+	let from: Date;
+	if (range === 'all') {
+		const [first] = (await db.execute(sql`
+			select min(observed_at) as at from observation where listing_id = ${listingId}`)) as unknown as Array<{
+			at: Date | string | null;
+		}>;
+		from = first?.at ? new Date(first.at) : to;
+		if (from > to) from = to;
+	} else from = new Date(to.getTime() - RANGE_DAYS[range] * DAY);
 	const maxPoints = Math.min(Math.max(opts.points ?? 300, 10), 1000);
-	const sampled = downsampleSteps(chart, from, to, maxPoints);
+	const [chart, forFigures] = await Promise.all([
+		chartPoints(db, listingId, from, to, maxPoints),
+		figurePoints(db, listingId, new Date(to.getTime() - 90 * DAY), to)
+	]);
 	const st = row.state;
 	return {
 		listing: {
@@ -287,12 +388,12 @@ export async function listingHistory(
 			consecutiveFailures: st?.consecutiveFailures ?? 0
 		},
 		range: { key: range, from, to },
-		points: sampled,
-		totalPoints: inRange.length,
-		downsampled: sampled.length < chart.length,
+		points: chart.points,
+		totalPoints: chart.inRange,
+		downsampled: chart.downsampled,
 		figures: {
-			d30: windowFigures(upto, new Date(to.getTime() - 30 * DAY), to),
-			d90: windowFigures(upto, new Date(to.getTime() - 90 * DAY), to)
+			d30: windowFigures(forFigures, new Date(to.getTime() - 30 * DAY), to),
+			d90: windowFigures(forFigures, new Date(to.getTime() - 90 * DAY), to)
 		}
 	};
 }

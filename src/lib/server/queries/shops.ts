@@ -32,6 +32,7 @@ import {
 	type StockPoint
 } from '../../restock';
 import { shopRecordLine } from '../../shop-record';
+import { LRUCache } from 'lru-cache';
 
 const DAY = 86_400_000;
 
@@ -355,14 +356,34 @@ export async function listingNotes(
 		.from(listings)
 		.innerJoin(shops, eq(shops.id, listings.shopId))
 		.where(inArray(listings.id, listingIds));
-	const [outlooks, records] = await Promise.all([
+	const shopIds = [...new Set(rows.map((r) => r.shopId))];
+	const [outlooks, lines] = await Promise.all([
 		listingOutlooks(db, listingIds, now),
-		shopRecords(db, { shopIds: [...new Set(rows.map((r) => r.shopId))], now })
+		Promise.all(shopIds.map((id) => shopLines.fetch(id, { context: db })))
 	]);
+	const lineOf = new Map(shopIds.map((id, i) => [id, lines[i]?.line ?? null]));
 	return new Map(
 		rows.map((r) => [
 			r.id,
-			{ outlook: outlooks.get(r.id)!, shop: { slug: r.shopSlug, line: records.get(r.shopId)?.line ?? null } }
+			{ outlook: outlooks.get(r.id)!, shop: { slug: r.shopSlug, line: lineOf.get(r.shopId) ?? null } }
 		])
 	);
 }
+
+/** How long a process keeps a shop's record line before working it out again. */
+export const SHOP_LINE_TTL_MS = 10 * 60_000;
+
+/**
+ * A shop's record line sums up 90 days of all its listings' history: far too much work for every
+ * listing row (a converter page), and it moves slowly. Each process keeps the lines for
+ * SHOP_LINE_TTL_MS and, once older, answers with the old line while one refresh runs.
+ */
+const shopLines = new LRUCache<number, { line: string | null }, Database>({
+	max: 10_000,
+	ttl: SHOP_LINE_TTL_MS,
+	allowStale: true,
+	noDeleteOnStaleGet: true,
+	fetchMethod: async (shopId, _stale, { context }) => ({
+		line: (await shopRecords(context, { shopIds: [shopId] })).get(shopId)?.line ?? null
+	})
+});
