@@ -22,6 +22,14 @@ export type Region = (typeof REGIONS)[number];
 export const STOCK_STATES = ['in_stock', 'out_of_stock', 'preorder', 'backorder', 'discontinued', 'unknown'] as const;
 export type StockState = (typeof STOCK_STATES)[number];
 
+/** A buyer's guide's life: drafted, published on /guides, or retired (kept, no longer listed). */
+export const GUIDE_STATUSES = ['draft', 'published', 'retired'] as const;
+export type GuideStatus = (typeof GUIDE_STATUSES)[number];
+
+/** How a member takes alerts: one e-mail per restock, or a daily digest. */
+export const ALERT_MODES = ['instant', 'digest'] as const;
+export type AlertMode = (typeof ALERT_MODES)[number];
+
 /** True when `value` is one of `values` (narrows a string from outside to the enum's type). */
 export function isOneOf<const T extends readonly string[]>(values: T, value: unknown): value is T[number] {
 	return typeof value === 'string' && (values as readonly string[]).includes(value);

@@ -7,12 +7,11 @@ import { z } from 'zod';
 import { BANDS } from '../../components/bands';
 import { REGION_CODES, toMinor } from '../../pricing';
 import { fitsMinorUnits, isKnownCurrencyCode, minorDigits } from '../../money';
+import { ALERT_MODES, type AlertMode } from '../../enums';
 import * as t from '../db/schema';
+import { PG_INT_MAX } from '../http/numbers';
 import type { Db } from './db';
 import { isTimeZone } from './schedule';
-
-const emptyToUndefined = (v: unknown) => (v === '' || v === null ? undefined : v);
-const checkbox = z.preprocess((v) => v === true || v === 'on' || v === 'true' || v === '1', z.boolean());
 
 export const bandSchema = z.enum(BANDS, { message: 'Pick a band from the list.' });
 const slugSchema = z
@@ -27,40 +26,35 @@ export const apiWatchSchema = z.object({
 	minBand: bandSchema.nullish()
 });
 
-/** The watch form on /account/watches: a converter watch or a rule over the catalogue. */
+/**
+ * The watch form on /account/watches: a converter watch or a rule over the catalogue. Plain
+ * field types (no preprocessing), as superforms reads them: an empty field is `undefined`
+ * for the optional ones, an unticked box `false`.
+ */
 export const watchFormSchema = z
 	.object({
-		converterSlug: z.preprocess(emptyToUndefined, slugSchema.optional()),
-		minBand: z.preprocess(emptyToUndefined, bandSchema.optional()),
-		maxPrice: z.preprocess(
-			emptyToUndefined,
-			z.coerce
-				.number({ message: 'Enter a price like 25 or 19.90.' })
-				.positive({ message: 'A price limit must be above zero.' })
-				.max(1_000_000, { message: 'That price limit is too high.' })
-				.optional()
-		),
-		priceCurrency: z.preprocess(
-			emptyToUndefined,
-			z
-				.string()
-				.trim()
-				.toUpperCase()
-				.refine(isKnownCurrencyCode, { message: 'Use a three-letter currency code such as EUR.' })
-				.optional()
-		),
-		region: z.preprocess(
-			emptyToUndefined,
-			z.enum(REGION_CODES, { message: 'Pick a region from the list.' }).optional()
-		),
-		needsAudio: checkbox,
-		alsoPriceDrops: checkbox,
+		converterSlug: slugSchema.optional(),
+		minBand: bandSchema.optional(),
+		maxPrice: z
+			.number({ message: 'Enter a price like 25 or 19.90.' })
+			.positive({ message: 'A price limit must be above zero.' })
+			.max(1_000_000, { message: 'That price limit is too high.' })
+			.optional(),
+		priceCurrency: z
+			.string()
+			.trim()
+			.toUpperCase()
+			.refine(isKnownCurrencyCode, { message: 'Use a three-letter currency code such as EUR.' })
+			.optional(),
+		region: z.enum(REGION_CODES, { message: 'Pick a region from the list.' }).optional(),
+		needsAudio: z.boolean().default(false),
+		alsoPriceDrops: z.boolean().default(false),
 		/** Let a revision's expected grade (not yet measured) meet the band limit. */
-		includeExpected: checkbox,
-		shopIds: z.preprocess(
-			(v) => (Array.isArray(v) ? v : v == null || v === '' ? [] : [v]).map(Number),
-			z.array(z.number().int().positive()).max(50)
-		)
+		includeExpected: z.boolean().default(false),
+		shopIds: z
+			.array(z.number().int().positive().max(PG_INT_MAX, { message: 'One of those shops is not in our list.' }))
+			.max(50)
+			.default([])
 	})
 	.superRefine((v, ctx) => {
 		if (v.maxPrice !== undefined && !v.priceCurrency) {
@@ -86,28 +80,28 @@ export const watchFormSchema = z
 
 export type WatchForm = z.infer<typeof watchFormSchema>;
 
+/** The pause / resume and delete buttons of one watch on /account/watches. */
+export const watchActionSchema = z.object({
+	id: z
+		.number({ message: 'That watch id is not valid.' })
+		.int('That watch id is not valid.')
+		.positive('That watch id is not valid.')
+		.max(PG_INT_MAX, 'That watch id is not valid.'),
+	paused: z.boolean().default(false)
+});
+
 /** Preferences form: instant mails or a daily digest, quiet hours in a time zone. */
 export const prefsFormSchema = z
 	.object({
-		alertMode: z.enum(['instant', 'digest'], { message: 'Choose instant e-mails or a daily digest.' }),
-		quietFrom: z.preprocess(
-			emptyToUndefined,
-			z.coerce.number().int().min(0).max(23, { message: 'Hours run from 0 to 23.' }).optional()
-		),
-		quietTo: z.preprocess(
-			emptyToUndefined,
-			z.coerce.number().int().min(0).max(23, { message: 'Hours run from 0 to 23.' }).optional()
-		),
+		alertMode: z.enum(ALERT_MODES, { message: 'Choose instant e-mails or a daily digest.' }),
+		quietFrom: z.number().int().min(0).max(23, { message: 'Hours run from 0 to 23.' }).optional(),
+		quietTo: z.number().int().min(0).max(23, { message: 'Hours run from 0 to 23.' }).optional(),
 		timezone: z
 			.string()
 			.trim()
 			.min(1, { message: 'Enter a time zone such as Europe/Berlin.' })
 			.refine(isTimeZone, { message: 'Unknown time zone: use a name such as Europe/Berlin or America/Toronto.' }),
-		digestHour: z.coerce
-			.number({ message: 'Pick an hour.' })
-			.int()
-			.min(0)
-			.max(23, { message: 'Hours run from 0 to 23.' })
+		digestHour: z.number({ message: 'Pick an hour.' }).int().min(0).max(23, { message: 'Hours run from 0 to 23.' })
 	})
 	.superRefine((v, ctx) => {
 		if ((v.quietFrom === undefined) !== (v.quietTo === undefined)) {
@@ -296,7 +290,7 @@ export async function watchConverter(db: Db, userId: string, input: z.infer<type
 }
 
 export interface Prefs {
-	alertMode: 'instant' | 'digest';
+	alertMode: AlertMode;
 	quietFrom: number | null;
 	quietTo: number | null;
 	timezone: string;

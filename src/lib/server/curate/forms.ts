@@ -105,6 +105,12 @@ export function withMessage<F extends AnyForm>(form: F, message: string, issues:
 	return form;
 }
 
+/** Say the change was made, on the form that asked for it (a status line above its fields). */
+export function done<F extends AnyForm>(form: F, text: string): F {
+	form.message = { type: 'ok', text };
+	return form;
+}
+
 /** Form-level problems (zod issues at the root) as one message. */
 export function invalid<F extends AnyForm>(form: F, extra: Record<string, unknown> = {}) {
 	return fail(400, { form, ...extra });

@@ -4,7 +4,7 @@
  * Messages are written for the person at the form, so they say what to type.
  */
 import { z } from 'zod';
-import { REGIONS, ROLES } from '../../enums';
+import { GUIDE_STATUSES, REGIONS, ROLES } from '../../enums';
 import { ALL_STEPS_IRE } from '../../levels/index';
 import { SLUG_RE } from './common';
 import { PG_INT_MAX } from '../http/numbers';
@@ -190,6 +190,17 @@ export const listingSchema = z.object({
 	feedConfig: jsonText
 });
 
+/** A listing's own settings on its page: polled or not, and how often. */
+export const listingSettingsSchema = z.object({
+	// An unticked checkbox posts nothing: missing means "not polled".
+	active: z.boolean().default(false),
+	pollIntervalMinutes: z
+		.number({ message: 'Minutes, a whole number.' })
+		.int('Minutes, a whole number.')
+		.min(1, 'At least 1 minute.')
+		.max(10080, 'At most a week (10080 minutes).')
+});
+
 export const shopSchema = z.object({
 	name: text('Shop name', 120),
 	slug: slugField,
@@ -240,6 +251,11 @@ export const guideSchema = z.object({
 	slug: slugField,
 	summary: optText(400),
 	bodyMarkdown: z.string().max(100_000, 'The guide is too long (100 000 characters at most).').default('')
+});
+
+/** The publish / unpublish / retire buttons: the pressed button's value. */
+export const guideStatusSchema = z.object({
+	status: z.enum(GUIDE_STATUSES, { message: 'Choose publish, unpublish or retire.' })
 });
 
 export const guidePickSchema = z.object({

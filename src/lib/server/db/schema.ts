@@ -32,7 +32,7 @@ import {
 	uuid,
 	type AnyPgColumn
 } from 'drizzle-orm/pg-core';
-import { BANDS, REGIONS, ROLES, STOCK_STATES } from '../../enums';
+import { ALERT_MODES, BANDS, GUIDE_STATUSES, REGIONS, ROLES, STOCK_STATES } from '../../enums';
 
 // ---------------------------------------------------------------- enums
 
@@ -50,8 +50,8 @@ export const fileKindEnum = pgEnum('file_kind', ['photo', 'thumbnail', 'trace'])
 export const fileStatusEnum = pgEnum('file_status', ['pending', 'public', 'rejected']);
 export const stockEventKindEnum = pgEnum('stock_event_kind', ['restock', 'sellout', 'price_drop']);
 export const outboxStatusEnum = pgEnum('outbox_status', ['pending', 'sending', 'sent', 'dead', 'skipped']);
-export const alertModeEnum = pgEnum('alert_mode', ['instant', 'digest']);
-export const guideStatusEnum = pgEnum('guide_status', ['draft', 'published', 'retired']);
+export const alertModeEnum = pgEnum('alert_mode', ALERT_MODES);
+export const guideStatusEnum = pgEnum('guide_status', GUIDE_STATUSES);
 export const pollOutcomeEnum = pgEnum('poll_outcome', [
 	'ok',
 	'not_modified',

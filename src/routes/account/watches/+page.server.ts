@@ -1,9 +1,10 @@
 /**
  * /account/watches: a member's watches and rules (create, edit, pause, delete) and alert
- * preferences. Actions parse with zod and answer fail(400) with field errors and the values
- * typed, so nothing is lost.
+ * preferences. Forms go through superforms like the workspace's: a bad field is a 400 with the
+ * message on it and everything typed kept. Each watch's edit and button forms carry their own
+ * superform id (`edit-<id>`, `row-<id>`), so an answer lands on the form that was sent.
  */
-import { fail } from '@sveltejs/kit';
+import { redirect } from '@sveltejs/kit';
 import { and, asc, eq, inArray, isNull } from 'drizzle-orm';
 import { requireRole } from '$lib/server/auth/guard';
 import { db } from '$lib/server/db';
@@ -12,19 +13,24 @@ import { listingNotes } from '$lib/server/queries/shops';
 import {
 	createWatch,
 	deleteWatch,
-	fieldErrors,
 	getPrefs,
 	listWatches,
 	prefsFormSchema,
 	savePrefs,
 	setPaused,
 	updateWatch,
+	watchActionSchema,
 	watchFormSchema,
-	WatchInputError
+	WatchInputError,
+	type WatchForm,
+	type WatchRow
 } from '$lib/server/alerts/watches';
-import type { Actions, PageServerLoad } from './$types';
+import { FieldError } from '$lib/server/curate/common';
+import { attempt, done, emptyForm, invalid, validate, withMessage } from '$lib/server/curate/forms';
 import { formOr400 } from '$lib/server/http/body';
 import { PG_INT_MAX } from '$lib/server/http/numbers';
+import { toMajor } from '$lib/money';
+import type { Actions, PageServerLoad } from './$types';
 
 export const load: PageServerLoad = async (event) => {
 	const user = requireRole(event, 'member');
@@ -38,9 +44,26 @@ export const load: PageServerLoad = async (event) => {
 			.orderBy(asc(converters.brand), asc(converters.model)),
 		db.select({ id: shops.id, name: shops.name, region: shops.region }).from(shops).orderBy(asc(shops.name))
 	]);
+	const [createForm, prefsForm, editForms, rowForms] = await Promise.all([
+		emptyForm(watchFormSchema, {}, 'create'),
+		emptyForm(
+			prefsFormSchema,
+			{
+				alertMode: prefs.alertMode,
+				quietFrom: prefs.quietFrom ?? undefined,
+				quietTo: prefs.quietTo ?? undefined,
+				timezone: prefs.timezone,
+				digestHour: prefs.digestHour
+			},
+			'prefs'
+		),
+		Promise.all(watches.map((w) => emptyForm(watchFormSchema, formValuesOf(w), `edit-${w.id}`))),
+		Promise.all(watches.map((w) => emptyForm(watchActionSchema, { id: w.id, paused: !w.paused }, `row-${w.id}`)))
+	]);
 	return {
-		watches,
-		prefs,
+		watches: watches.map((w, i) => ({ ...w, editForm: editForms[i], rowForm: rowForms[i] })),
+		createForm,
+		prefsForm,
 		converters: converterList,
 		shops: shopList,
 		outlooks: await watchedOutlooks(watches.map((w) => w.converterId).filter((id): id is number => id !== null))
@@ -89,105 +112,91 @@ async function watchedOutlooks(converterIds: number[]) {
 	return out;
 }
 
-/** Form fields as plain values, to send back on error. */
-function valuesOf(form: FormData) {
+/** A watch's saved criteria as the edit form's values. */
+function formValuesOf(w: WatchRow): WatchForm {
 	return {
-		converterSlug: String(form.get('converterSlug') ?? ''),
-		minBand: String(form.get('minBand') ?? ''),
-		maxPrice: String(form.get('maxPrice') ?? ''),
-		priceCurrency: String(form.get('priceCurrency') ?? ''),
-		region: String(form.get('region') ?? ''),
-		needsAudio: form.get('needsAudio') === 'on',
-		alsoPriceDrops: form.get('alsoPriceDrops') === 'on',
-		includeExpected: form.get('includeExpected') === 'on',
-		shopIds: form.getAll('shopIds').map(String)
+		converterSlug: w.converterSlug ?? undefined,
+		minBand: w.minBand ?? undefined,
+		maxPrice: w.maxPriceMinor != null && w.priceCurrency ? toMajor(w.maxPriceMinor, w.priceCurrency) : undefined,
+		priceCurrency: w.priceCurrency ?? undefined,
+		region: w.region ?? undefined,
+		needsAudio: w.needsAudio,
+		alsoPriceDrops: w.alsoPriceDrops,
+		includeExpected: w.includeExpected,
+		shopIds: w.shopIds
 	};
 }
 
-function parseWatch(form: FormData) {
-	const values = valuesOf(form);
-	return {
-		values,
-		parsed: watchFormSchema.safeParse({
-			...values,
-			needsAudio: form.get('needsAudio'),
-			alsoPriceDrops: form.get('alsoPriceDrops'),
-			includeExpected: form.get('includeExpected')
-		})
-	};
-}
-
+/** The watch id the edit form posts beside its fields; null when it is not a whole number within PostgreSQL integer. */
 function watchId(form: FormData): number | null {
 	const raw = String(form.get('id') ?? '');
-	// Within PostgreSQL integer: a larger id would fail in the query, not here.
 	return /^[1-9][0-9]{0,9}$/.test(raw) && Number(raw) <= PG_INT_MAX ? Number(raw) : null;
+}
+
+/** A WatchInputError (unknown converter or shop) as a 400 on its field, keeping what was typed. */
+function inputErrors<R>(form: Parameters<typeof attempt>[0], work: () => Promise<R>) {
+	return attempt(form, async () => {
+		try {
+			return await work();
+		} catch (err) {
+			if (err instanceof WatchInputError) throw new FieldError(err.field, err.message);
+			throw err;
+		}
+	});
 }
 
 export const actions: Actions = {
 	create: async (event) => {
 		const user = requireRole(event, 'member');
-		const form = await formOr400(event.request);
-		const { values, parsed } = parseWatch(form);
-		if (!parsed.success) return fail(400, { form: 'create', values, errors: fieldErrors(parsed.error) });
-		try {
-			await createWatch(db, user.id, parsed.data);
-		} catch (err) {
-			if (err instanceof WatchInputError)
-				return fail(400, { form: 'create', values, errors: { [err.field]: err.message } });
-			throw err;
-		}
-		return { form: 'create', saved: 'Watch added.' };
+		const form = await validate(event.request, watchFormSchema);
+		if (!form.valid) return invalid(form);
+		const res = await inputErrors(form, () => createWatch(db, user.id, form.data));
+		if (!res.ok) return res.failure;
+		return { form: done(form, 'Watch added.') };
 	},
 	update: async (event) => {
 		const user = requireRole(event, 'member');
-		const form = await formOr400(event.request);
-		const id = watchId(form);
-		const { values, parsed } = parseWatch(form);
-		if (id == null)
-			return fail(400, { form: `edit-${form.get('id')}`, values, errors: { form: 'That watch id is not valid.' } });
-		if (!parsed.success) return fail(400, { form: `edit-${id}`, values, errors: fieldErrors(parsed.error) });
-		try {
-			if (!(await updateWatch(db, user.id, id, parsed.data)))
-				return fail(404, { form: `edit-${id}`, values, errors: { form: 'That watch is no longer there.' } });
-		} catch (err) {
-			if (err instanceof WatchInputError)
-				return fail(400, { form: `edit-${id}`, values, errors: { [err.field]: err.message } });
-			throw err;
-		}
-		return { form: `edit-${id}`, saved: 'Watch saved.' };
+		const data = await formOr400(event.request);
+		const id = watchId(data);
+		const form = await validate(data, watchFormSchema);
+		if (id == null) return invalid(withMessage(form, 'That watch id is not valid.'));
+		if (!form.valid) return invalid(form);
+		const res = await inputErrors(form, async () => {
+			if (!(await updateWatch(db, user.id, id, form.data)))
+				throw new FieldError(null, 'That watch is no longer there.', 404);
+		});
+		if (!res.ok) return res.failure;
+		return { form: done(form, 'Watch saved.') };
 	},
 	pause: async (event) => {
 		const user = requireRole(event, 'member');
-		const form = await formOr400(event.request);
-		const id = watchId(form);
-		if (id == null) return fail(400, { form: 'list', errors: { form: 'That watch id is not valid.' } });
-		const paused = form.get('paused') === 'true';
-		if (!(await setPaused(db, user.id, id, paused)))
-			return fail(404, { form: 'list', errors: { form: 'That watch is no longer there.' } });
-		return { form: 'list', saved: paused ? 'Watch paused.' : 'Watch resumed.' };
+		const form = await validate(event.request, watchActionSchema);
+		if (!form.valid) return invalid(withMessage(form, 'That watch id is not valid.'));
+		const { id, paused } = form.data;
+		const res = await attempt(form, async () => {
+			if (!(await setPaused(db, user.id, id, paused)))
+				throw new FieldError(null, 'That watch is no longer there.', 404);
+		});
+		if (!res.ok) return res.failure;
+		return { form: done(form, paused ? 'Watch paused.' : 'Watch resumed.') };
 	},
 	delete: async (event) => {
 		const user = requireRole(event, 'member');
-		const form = await formOr400(event.request);
-		const id = watchId(form);
-		if (id == null) return fail(400, { form: 'list', errors: { form: 'That watch id is not valid.' } });
-		if (!(await deleteWatch(db, user.id, id)))
-			return fail(404, { form: 'list', errors: { form: 'That watch is no longer there.' } });
-		return { form: 'list', saved: 'Watch deleted.' };
+		const form = await validate(event.request, watchActionSchema);
+		if (!form.valid) return invalid(withMessage(form, 'That watch id is not valid.'));
+		const res = await attempt(form, async () => {
+			if (!(await deleteWatch(db, user.id, form.data.id)))
+				throw new FieldError(null, 'That watch is no longer there.', 404);
+		});
+		if (!res.ok) return res.failure;
+		// The row is gone with its form, so the page says it.
+		redirect(303, '/account/watches?deleted=1');
 	},
 	prefs: async (event) => {
 		const user = requireRole(event, 'member');
-		const form = await formOr400(event.request);
-		const values = {
-			alertMode: String(form.get('alertMode') ?? ''),
-			quietFrom: String(form.get('quietFrom') ?? ''),
-			quietTo: String(form.get('quietTo') ?? ''),
-			timezone: String(form.get('timezone') ?? ''),
-			digestHour: String(form.get('digestHour') ?? '')
-		};
-		const parsed = prefsFormSchema.safeParse(values);
-		if (!parsed.success) return fail(400, { form: 'prefs', prefValues: values, errors: fieldErrors(parsed.error) });
-		await savePrefs(db, user.id, parsed.data);
-		return { form: 'prefs', saved: 'Preferences saved.' };
+		const form = await validate(event.request, prefsFormSchema);
+		if (!form.valid) return invalid(form);
+		await savePrefs(db, user.id, form.data);
+		return { form: done(form, 'Preferences saved.') };
 	}
 };

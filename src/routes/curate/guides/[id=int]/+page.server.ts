@@ -12,7 +12,7 @@ import {
 	setGuideStatus,
 	updateGuide
 } from '$lib/server/curate/guides';
-import { guidePickSchema, guideSchema } from '$lib/server/curate/schemas';
+import { guidePickSchema, guideSchema, guideStatusSchema } from '$lib/server/curate/schemas';
 import type { Actions, PageServerLoad } from './$types';
 import { formOr400 } from '$lib/server/http/body';
 import { dbId } from '$lib/server/http/numbers';
@@ -32,7 +32,8 @@ export const load: PageServerLoad = async (event) => {
 			{ title: guide.title, slug: guide.slug, summary: guide.summary, bodyMarkdown: guide.bodyMarkdown },
 			'guide'
 		),
-		pickForm: await emptyForm(guidePickSchema, { position: found.picks.length }, 'pick')
+		pickForm: await emptyForm(guidePickSchema, { position: found.picks.length }, 'pick'),
+		statusForm: await emptyForm(guideStatusSchema, { status: guide.status }, 'status')
 	};
 };
 
@@ -55,18 +56,10 @@ export const actions: Actions = {
 	status: async (event) => {
 		const user = requireRole(event, 'curator');
 		const id = idParam(event.params.id);
-		const parsed = z
-			.object({ status: z.enum(['draft', 'published', 'retired']) })
-			.safeParse(Object.fromEntries(await formOr400(event.request)));
-		if (!parsed.success) return fail(400, { statusError: 'Choose publish, unpublish or retire.' });
-		const form = await emptyForm(guideSchema);
-		const res = await attempt(form, () => setGuideStatus(db, user, id, parsed.data.status));
-		if (!res.ok)
-			return fail(res.failure.status, {
-				statusError:
-					(res.failure.data.form.message as { text: string } | undefined)?.text ??
-					Object.values(res.failure.data.form.errors).flat()[0]
-			});
+		const statusForm = await validate(event.request, guideStatusSchema);
+		if (!statusForm.valid) return fail(400, { statusForm });
+		const res = await attempt(statusForm, () => setGuideStatus(db, user, id, statusForm.data.status));
+		if (!res.ok) return fail(res.failure.status, { statusForm: res.failure.data.form });
 		redirect(303, `/curate/guides/${id}`);
 	},
 	addPick: async (event) => {
@@ -84,7 +77,8 @@ export const actions: Actions = {
 		const parsed = z
 			.object({ converterId: dbId('No pick chosen.') })
 			.safeParse(Object.fromEntries(await formOr400(event.request)));
-		if (!parsed.success) return fail(400, { statusError: 'No pick chosen.' });
+		// A button with a hidden id: only a crafted post gets here, so a plain 400 (no field to mark).
+		if (!parsed.success) error(400, 'No pick chosen.');
 		const { converterId } = parsed.data;
 		await orHttpError(() => removePick(db, user, id, converterId));
 		redirect(303, `/curate/guides/${id}`);

@@ -1,27 +1,24 @@
-import { error, fail, redirect } from '@sveltejs/kit';
-import { z } from 'zod';
+import { error, redirect } from '@sveltejs/kit';
 import { env } from '$env/dynamic/private';
 import { requireRole } from '$lib/server/auth/guard';
 import { db } from '$lib/server/db';
-import { idParam, orHttpError } from '$lib/server/curate/forms';
+import { attempt, emptyForm, idParam, invalid, orHttpError, validate } from '$lib/server/curate/forms';
 import { listingsWithState, requestPoll, testRead, updateListing } from '$lib/server/curate/listings';
+import { listingSettingsSchema } from '$lib/server/curate/schemas';
 import type { Actions, PageServerLoad } from './$types';
-import { formOr400 } from '$lib/server/http/body';
-import { wholeNumber } from '$lib/server/http/numbers';
-
-const settingsSchema = z.object({
-	active: z.enum(['on']).optional(),
-	pollIntervalMinutes: wholeNumber('Minutes, a whole number.').pipe(
-		z.number().min(1, 'At least 1 minute.').max(10080, 'At most a week.')
-	)
-});
 
 export const load: PageServerLoad = async (event) => {
 	requireRole(event, 'curator');
 	const id = idParam(event.params.id);
 	const [listing] = await listingsWithState(db, { listingId: id });
 	if (!listing) error(404, 'No such listing.');
-	return { listing };
+	return {
+		listing,
+		form: await emptyForm(listingSettingsSchema, {
+			active: listing.active,
+			pollIntervalMinutes: listing.pollIntervalMinutes
+		})
+	};
 };
 
 export const actions: Actions = {
@@ -41,13 +38,10 @@ export const actions: Actions = {
 	settings: async (event) => {
 		const user = requireRole(event, 'curator');
 		const id = idParam(event.params.id);
-		const raw = Object.fromEntries(await formOr400(event.request));
-		const parsed = settingsSchema.safeParse(raw);
-		if (!parsed.success) return fail(400, { settings: { error: parsed.error.issues[0].message, values: raw } });
-		await updateListing(db, user, id, {
-			active: parsed.data.active === 'on',
-			pollIntervalMinutes: parsed.data.pollIntervalMinutes
-		});
+		const form = await validate(event.request, listingSettingsSchema);
+		if (!form.valid) return invalid(form);
+		const res = await attempt(form, () => updateListing(db, user, id, form.data));
+		if (!res.ok) return res.failure;
 		redirect(303, `/curate/listings/${id}`);
 	}
 };
