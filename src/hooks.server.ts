@@ -47,9 +47,10 @@ const securityHeaders: Handle = async ({ event, resolve }) => {
 	return applySecurityHeaders(response, Boolean(event.locals.user) || event.url.pathname.startsWith('/auth/'));
 };
 
+// The origin check runs first, before anything (the page cache included) looks at the request.
 export const handle = sequence(
-	pageCacheHandle,
 	originCheck,
+	pageCacheHandle,
 	securityHeaders,
 	inputGuard,
 	authEndpointLimit,

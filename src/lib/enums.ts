@@ -22,6 +22,18 @@ export type Region = (typeof REGIONS)[number];
 export const STOCK_STATES = ['in_stock', 'out_of_stock', 'preorder', 'backorder', 'discontinued', 'unknown'] as const;
 export type StockState = (typeof STOCK_STATES)[number];
 
+/** How a converter is powered. */
+export const POWER_KINDS = ['usb-bus', 'usb-adapter', 'barrel'] as const;
+export type PowerKind = (typeof POWER_KINDS)[number];
+
+/** How the poller reads a shop's page: JSON-LD, microdata, CSS selectors or a JSON API. */
+export const FEED_FORMATS = ['jsonld', 'microdata', 'selectors', 'api'] as const;
+export type FeedFormat = (typeof FEED_FORMATS)[number];
+
+/** The load on the converter's output during a bench run (75 ohm is the video standard's). */
+export const TERMINATIONS = ['75-ohm', 'unterminated', 'unknown'] as const;
+export type Termination = (typeof TERMINATIONS)[number];
+
 /** A buyer's guide's life: drafted, published on /guides, or retired (kept, no longer listed). */
 export const GUIDE_STATUSES = ['draft', 'published', 'retired'] as const;
 export type GuideStatus = (typeof GUIDE_STATUSES)[number];

@@ -5,10 +5,10 @@
  * them (it never recomputes a grade or a price).
  */
 import { BANDS, bandRank, type Band } from './components/bands';
+import { POWER_KINDS, type PowerKind } from './enums';
 import { formatMoney, isBuyable, REGION_CODES, REGION_LABELS, type Region, type StockState } from './pricing';
 
-export const POWER_KINDS = ['usb-bus', 'usb-adapter', 'barrel'] as const;
-export type PowerKind = (typeof POWER_KINDS)[number];
+export { POWER_KINDS, type PowerKind };
 export const POWER_LABELS: Record<PowerKind, string> = {
 	'usb-bus': 'USB bus power',
 	'usb-adapter': 'USB power adapter',

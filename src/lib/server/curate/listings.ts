@@ -1,7 +1,7 @@
 /**
  * Shop listings in the curator workspace: add one (its URL checked against the shop's
  * host and the private-address rules), read it now without storing anything ("test
- * read"), ask the poller to check it soon ("poll now"), and per-shop poll health.
+ * read"), ask the poller to check it soon ("poll now"), and its settings (polled or not, interval).
  *
  * The poller itself (src/lib/server/polling, jobs/) owns listing_state's poll columns; we
  * only set poll_requested_at and next_poll_at, which it reads.

@@ -4,7 +4,7 @@
  * Messages are written for the person at the form, so they say what to type.
  */
 import { z } from 'zod';
-import { GUIDE_STATUSES, REGIONS, ROLES } from '../../enums';
+import { FEED_FORMATS, GUIDE_STATUSES, POWER_KINDS, REGIONS, ROLES, TERMINATIONS } from '../../enums';
 import { ALL_STEPS_IRE } from '../../levels/index';
 import { SLUG_RE } from './common';
 import { PG_INT_MAX } from '../http/numbers';
@@ -39,7 +39,7 @@ export const chipSchema = z.object({
 	notes: optText()
 });
 
-export const POWER_KINDS = ['usb-bus', 'usb-adapter', 'barrel'] as const;
+export { FEED_FORMATS, POWER_KINDS, TERMINATIONS };
 export const OUTPUT_KINDS = ['vga', 'component', 'scart', 'bnc'] as const;
 
 export const converterSchema = z.object({
@@ -68,8 +68,6 @@ export const revisionSchema = z
 	});
 
 // ------------------------------------------------------------------ bench runs
-
-export const TERMINATIONS = ['75-ohm', 'unterminated', 'unknown'] as const;
 
 /** Flat reading fields r0, g0, b0 ... b100, so the grid posts as a plain form without JS. */
 export function readingKey(channel: 'r' | 'g' | 'b', ire: number) {
@@ -157,8 +155,6 @@ export const teardownReviewSchema = z.object({
 });
 
 // ------------------------------------------------------------------ listings and shops
-
-export const FEED_FORMATS = ['jsonld', 'microdata', 'selectors', 'api'] as const;
 
 /** Feed config as JSON text in a textarea; '' means "use the shop's". */
 const jsonText = z

@@ -32,7 +32,17 @@ import {
 	uuid,
 	type AnyPgColumn
 } from 'drizzle-orm/pg-core';
-import { ALERT_MODES, BANDS, GUIDE_STATUSES, REGIONS, ROLES, STOCK_STATES } from '../../enums';
+import {
+	ALERT_MODES,
+	BANDS,
+	FEED_FORMATS,
+	GUIDE_STATUSES,
+	POWER_KINDS,
+	REGIONS,
+	ROLES,
+	STOCK_STATES,
+	TERMINATIONS
+} from '../../enums';
 
 // ---------------------------------------------------------------- enums
 
@@ -41,11 +51,11 @@ export const roleEnum = pgEnum('role', ROLES);
 export const bandEnum = pgEnum('band', BANDS);
 export const stockStateEnum = pgEnum('stock_state', STOCK_STATES);
 export const regionEnum = pgEnum('region', REGIONS);
-export const feedFormatEnum = pgEnum('feed_format', ['jsonld', 'microdata', 'selectors', 'api']);
-export const powerKindEnum = pgEnum('power_kind', ['usb-bus', 'usb-adapter', 'barrel']);
+export const feedFormatEnum = pgEnum('feed_format', FEED_FORMATS);
+export const powerKindEnum = pgEnum('power_kind', POWER_KINDS);
 export const runStatusEnum = pgEnum('run_status', ['pending', 'accepted', 'rejected', 'superseded']);
 export const reviewStatusEnum = pgEnum('review_status', ['pending', 'verified', 'rejected']);
-export const terminationEnum = pgEnum('termination', ['75-ohm', 'unterminated', 'unknown']);
+export const terminationEnum = pgEnum('termination', TERMINATIONS);
 export const fileKindEnum = pgEnum('file_kind', ['photo', 'thumbnail', 'trace']);
 export const fileStatusEnum = pgEnum('file_status', ['pending', 'public', 'rejected']);
 export const stockEventKindEnum = pgEnum('stock_event_kind', ['restock', 'sellout', 'price_drop']);
