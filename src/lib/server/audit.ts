@@ -38,14 +38,16 @@ function toJson(value: unknown) {
 	return JSON.parse(JSON.stringify(value, (_k, v) => (typeof v === 'bigint' ? v.toString() : v)));
 }
 
-/** A table whose rows have an integer `id` (every audited curator and admin table but `user`). */
+/** A table whose rows have an `id` column (an integer, or the Auth.js `user` table's text id). */
 type TableWithId = PgTable & { id: AnyPgColumn };
 
 export interface AuditedUpdate<T extends TableWithId> {
 	table: T;
 	/** Audit entity name; also names the row in the 404 ("That shop does not exist."). */
 	entity: string;
-	id: number;
+	id: number | string;
+	/** The 404 message when the row is not there; default "That <entity> does not exist." */
+	notFound?: string;
 	/** The columns snapshotted before and after. */
 	fields: readonly (keyof InferSelectModel<T>)[];
 	/** The new values, from the locked row; may throw a FieldError to refuse the change. */
@@ -65,16 +67,17 @@ export async function auditedUpdate<T extends TableWithId>(
 	spec: AuditedUpdate<T>
 ): Promise<InferSelectModel<T>> {
 	type Row = InferSelectModel<T>;
-	// Drizzle cannot type queries over a generic table; every table here has an integer id, as chips do.
+	// Drizzle cannot type queries over a generic table; every table here has an id column, as chips do.
 	const table = spec.table as unknown as typeof chips;
+	const id = spec.id as number;
 	return db.transaction(async (tx) => {
-		const [locked] = await tx.select().from(table).where(eq(table.id, spec.id)).for('update');
-		if (!locked) throw new FieldError(null, `That ${spec.entity} does not exist.`, 404);
+		const [locked] = await tx.select().from(table).where(eq(table.id, id)).for('update');
+		if (!locked) throw new FieldError(null, spec.notFound ?? `That ${spec.entity} does not exist.`, 404);
 		const before = locked as unknown as Row;
 		const [updated] = await tx
 			.update(table)
 			.set(spec.set(before) as never)
-			.where(eq(table.id, spec.id))
+			.where(eq(table.id, id))
 			.returning();
 		const after = updated as unknown as Row;
 		const action = typeof spec.action === 'function' ? spec.action(before, after) : (spec.action ?? 'updated');

@@ -39,21 +39,19 @@ export async function changeRole(db: Database, actor: Actor, input: z.infer<type
 	if (actor.role !== 'admin') throw new FieldError(null, 'Only an admin can change roles.', 403);
 	if (input.userId === actor.id && input.role !== 'admin')
 		throw new FieldError('role', 'You cannot remove your own admin role; ask another admin.', 403);
-	return db.transaction(async (tx) => {
-		const [before] = await tx.select().from(t.users).where(eq(t.users.id, input.userId)).for('update');
-		if (!before) throw new FieldError('userId', 'That person does not exist.', 404);
-		if (before.role === input.role) throw new FieldError('role', `${before.email} already has the ${input.role} role.`);
-		const [row] = await tx.update(t.users).set({ role: input.role }).where(eq(t.users.id, input.userId)).returning();
-		await audit(tx, {
-			actorId: actor.id,
-			action: 'role-changed',
-			entity: 'user',
-			entityId: input.userId,
-			before: { email: before.email, role: before.role },
-			after: { email: row.email, role: row.role },
-			reason: input.reason
-		});
-		return row;
+	return auditedUpdate(db, actor, {
+		table: t.users,
+		entity: 'user',
+		id: input.userId,
+		notFound: 'That person does not exist.',
+		fields: ['email', 'role'],
+		action: 'role-changed',
+		reason: input.reason,
+		set: (before) => {
+			if (before.role === input.role)
+				throw new FieldError('role', `${before.email} already has the ${input.role} role.`);
+			return { role: input.role };
+		}
 	});
 }
 
