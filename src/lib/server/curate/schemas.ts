@@ -52,6 +52,11 @@ export const converterSchema = z.object({
 	outputs: z.array(z.enum(OUTPUT_KINDS)).min(1, 'Tick at least one analog output.').default(['vga'])
 });
 
+/** Retiring a converter: an optional reason for the audit log. */
+export const retireSchema = z.object({
+	reason: z.string().trim().max(500, 'A reason is at most 500 characters.').default('')
+});
+
 export const revisionSchema = z
 	.object({
 		converterId: id('a converter'),

@@ -1,5 +1,4 @@
 import { error, fail, redirect } from '@sveltejs/kit';
-import { z } from 'zod';
 import { requireRole } from '$lib/server/auth/guard';
 import { db } from '$lib/server/db';
 import {
@@ -11,13 +10,9 @@ import {
 	updateConverter
 } from '$lib/server/curate/catalogue';
 import { attempt, emptyForm, idParam, invalid, validate, orHttpError } from '$lib/server/curate/forms';
-import { converterSchema, revisionSchema } from '$lib/server/curate/schemas';
+import { converterSchema, retireSchema, revisionSchema } from '$lib/server/curate/schemas';
 import type { Actions, PageServerLoad } from './$types';
 import { formOr400 } from '$lib/server/http/body';
-
-const retireSchema = z.object({
-	reason: z.string().trim().max(500, 'A reason is at most 500 characters.').default('')
-});
 
 export const load: PageServerLoad = async (event) => {
 	requireRole(event, 'curator');
@@ -42,7 +37,8 @@ export const load: PageServerLoad = async (event) => {
 			},
 			'converter'
 		),
-		revisionForm: await emptyForm(revisionSchema, { converterId: id }, 'revision')
+		revisionForm: await emptyForm(revisionSchema, { converterId: id }, 'revision'),
+		retireForm: await emptyForm(retireSchema, {}, 'retire')
 	};
 };
 
@@ -70,9 +66,9 @@ export const actions: Actions = {
 	retire: async (event) => {
 		const user = requireRole(event, 'curator');
 		const id = idParam(event.params.id);
-		const parsed = retireSchema.safeParse(Object.fromEntries(await formOr400(event.request)));
-		if (!parsed.success) return fail(400, { retireError: parsed.error.issues[0].message });
-		const { reason } = parsed.data;
+		const retireForm = await validate(event.request, retireSchema);
+		if (!retireForm.valid) return fail(400, { retireForm });
+		const { reason } = retireForm.data;
 		await orHttpError(() => setConverterRetired(db, user, id, true, reason || undefined));
 		redirect(303, `/curate/converters/${id}`);
 	},
