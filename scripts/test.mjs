@@ -47,6 +47,8 @@ function readJson(file) {
 }
 
 async function main() {
+	// Prettier and ESLint come from node_modules: a clean checkout installs them first.
+	ensureNodeModules();
 	if (want('lint')) {
 		log('lint: Prettier (formatting) and ESLint');
 		try {
@@ -60,7 +62,6 @@ async function main() {
 	for (const port of [p.appPort, p.inboxPort, p.smtpPort, p.shopsPort, p.s3Port]) {
 		if (!(await portIsFree(port))) throw new Error(`port ${port} is in use: is another test run going on?`);
 	}
-	ensureNodeModules();
 	if (want('e2e')) {
 		ensureChromium();
 		ensureJava();
