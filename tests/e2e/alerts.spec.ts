@@ -55,6 +55,8 @@ test('a member watches a converter, its restock arrives by e-mail once, and unsu
 
 	await page.goto('/account/watches');
 	await expect(page.getByTestId('watch-list')).toContainText('Vantacove Beam Bridge Pro');
+	// The page states the quiet period the jobs process uses (ALERT_QUIET_HOURS, 12 by default).
+	await expect(page.getByText('Restocks of the same listing within 12 hours alert once.')).toBeVisible();
 
 	const before = await lastMessageId(EMAIL);
 	await setShopStock('in_stock');

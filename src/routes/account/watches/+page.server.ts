@@ -5,6 +5,7 @@
  * superform id (`edit-<id>`, `row-<id>`), so an answer lands on the form that was sent.
  */
 import { redirect } from '@sveltejs/kit';
+import { env } from '$env/dynamic/private';
 import { and, asc, eq, inArray, isNull } from 'drizzle-orm';
 import { requireRole } from '$lib/server/auth/guard';
 import { db } from '$lib/server/db';
@@ -25,6 +26,7 @@ import {
 	type WatchForm,
 	type WatchRow
 } from '$lib/server/alerts/watches';
+import { quietHoursFromEnv } from '$lib/server/alerts/match';
 import { FieldError } from '$lib/server/curate/common';
 import { attempt, done, emptyForm, invalid, validate, withMessage } from '$lib/server/curate/forms';
 import { formOr400 } from '$lib/server/http/body';
@@ -66,6 +68,8 @@ export const load: PageServerLoad = async (event) => {
 		prefsForm,
 		converters: converterList,
 		shops: shopList,
+		// The jobs process reads the same setting for its quiet period.
+		quietHours: quietHoursFromEnv(env),
 		outlooks: await watchedOutlooks(watches.map((w) => w.converterId).filter((id): id is number => id !== null))
 	};
 };
