@@ -182,6 +182,12 @@ test('compare two converters side by side with overlaid curves', async ({ page }
 	const chart = page.getByTestId('compare-chart');
 	await expect(chart).toHaveAttribute('data-ready', 'true');
 	expect(await paintedPixels(chart.locator('canvas'))).toBeGreaterThan(2000);
+	// Compare opens on the deviation view; the shared toggle switches to levels.
+	const views = page.getByRole('group', { name: 'Chart view' });
+	await expect(views.getByRole('button', { name: 'Deviation' })).toHaveAttribute('aria-pressed', 'true');
+	await views.getByRole('button', { name: 'Levels' }).click();
+	await expect(views.getByRole('button', { name: 'Levels' })).toHaveAttribute('aria-pressed', 'true');
+	await expect(views.getByRole('button', { name: 'Deviation' })).toHaveAttribute('aria-pressed', 'false');
 	const head = page.getByTestId('compare-table').locator('thead th');
 	await expect(head).toHaveCount(3);
 	await page.getByRole('link', { name: 'Remove Vantacove Beam Bridge' }).click();
