@@ -4,59 +4,82 @@
 // (Accept-Encoding); static assets are precompressed at build (svelte.config.js) and sent as is.
 // Usage: node scripts/serve.mjs [build folder]  (default SG_BUILD_DIR, else build). HOST, PORT,
 // ORIGIN, BODY_SIZE_LIMIT and the rest of adapter-node's environment apply as with `node build`.
+// WEB_CONCURRENCY=N (default 1) runs N worker processes sharing the port (node:cluster), one per
+// core in production: each is an ordinary stateless app instance with its own page cache and pool.
+import cluster from 'node:cluster';
 import http from 'node:http';
 import { resolve } from 'node:path';
 import { pathToFileURL } from 'node:url';
 import compression from 'compression';
 
-const dir = resolve(process.argv[2] || process.env.SG_BUILD_DIR || 'build');
-const { handler } = await import(pathToFileURL(resolve(dir, 'handler.js')).href);
+const workers = Math.max(1, Number(process.env.WEB_CONCURRENCY || 1));
+if (workers > 1 && cluster.isPrimary) {
+	let stopping = false;
+	const fork = () => cluster.fork().on('exit', () => !stopping && setTimeout(fork, 1000));
+	for (let i = 0; i < workers; i++) fork();
+	const stopAll = () => {
+		stopping = true;
+		for (const w of Object.values(cluster.workers ?? {})) w?.process.kill('SIGTERM');
+		const done = () => Object.keys(cluster.workers ?? {}).length === 0 && process.exit(0);
+		cluster.on('exit', done);
+		done();
+	};
+	process.on('SIGTERM', stopAll);
+	process.on('SIGINT', stopAll);
+} else await serve();
 
-// Below 1 kB compressing costs more than it saves; brotli quality 4 keeps it cheap on the CPU.
-const compress = compression({ threshold: 1024 });
-// The page cache (src/lib/server/page-cache.ts) registers its fast path when the app loads: a hit
-// is answered here, already compressed, without building a Request for SvelteKit.
-const PAGE_CACHE = Symbol.for('scopegrade.page-cache');
-const server = http.createServer((req, res) => {
-	if (globalThis[PAGE_CACHE]?.serveCachedHit(req, res)) return;
-	compress(req, res, (err) => {
-		if (err) {
-			res.statusCode = 500;
-			res.end();
-			return;
-		}
-		handler(req, res);
+async function serve() {
+	const dir = resolve(process.argv[2] || process.env.SG_BUILD_DIR || 'build');
+	const { handler } = await import(pathToFileURL(resolve(dir, 'handler.js')).href);
+
+	// Below 1 kB compressing costs more than it saves; brotli quality 4 keeps it cheap on the CPU.
+	const compress = compression({ threshold: 1024 });
+	// The page cache (src/lib/server/page-cache.ts) registers its fast path when the app loads: a hit
+	// is answered here, already compressed, without building a Request for SvelteKit.
+	const PAGE_CACHE = Symbol.for('scopegrade.page-cache');
+	const server = http.createServer((req, res) => {
+		if (globalThis[PAGE_CACHE]?.serveCachedHit(req, res)) return;
+		compress(req, res, (err) => {
+			if (err) {
+				res.statusCode = 500;
+				res.end();
+				return;
+			}
+			handler(req, res);
+		});
 	});
-});
-server.keepAliveTimeout = 65_000;
+	server.keepAliveTimeout = 65_000;
 
-const host = process.env.HOST || '0.0.0.0';
-const port = Number(process.env.PORT || 3000);
-server.listen(port, host, () => {
-	console.log(`Listening on http://${host}:${port}`);
-	// After an invalidation the page cache renders recently visited pages again through us.
-	const self = host === '0.0.0.0' ? '127.0.0.1' : host === '::' ? '::1' : host;
-	globalThis[PAGE_CACHE]?.setRewarmer(
-		({ path, headers }) =>
-			new Promise((done) => {
-				http
-					.get({ host: self, port, path, headers, agent: rewarmAgent }, (res) => {
-						res.resume();
-						res.on('end', done);
-						res.on('error', done);
-					})
-					.on('error', done);
-			})
-	);
-});
-const rewarmAgent = new http.Agent({ keepAlive: true, maxSockets: 1 });
+	const host = process.env.HOST || '0.0.0.0';
+	const port = Number(process.env.PORT || 3000);
+	server.listen(port, host, () => {
+		console.log(`Listening on http://${host}:${port}`);
+		// After an invalidation the page cache renders recently visited pages again through us.
+		const self = host === '0.0.0.0' ? '127.0.0.1' : host === '::' ? '::1' : host;
+		globalThis[PAGE_CACHE]?.setRewarmer(
+			({ path, headers }) =>
+				new Promise((done) => {
+					http
+						.get({ host: self, port, path, headers, agent: rewarmAgent }, (res) => {
+							res.resume();
+							res.on('end', done);
+							res.on('error', done);
+						})
+						.on('error', done);
+				})
+		);
+	});
+	const rewarmAgent = new http.Agent({ keepAlive: true, maxSockets: 1 });
 
-function stop() {
-	globalThis[PAGE_CACHE]?.setRewarmer(null);
-	rewarmAgent.destroy();
-	server.close(() => process.exit(0));
-	server.closeIdleConnections?.();
-	setTimeout(() => process.exit(0), Number(process.env.SHUTDOWN_TIMEOUT || 30) * 1000).unref();
+	function stop() {
+		globalThis[PAGE_CACHE]?.setRewarmer(null);
+		rewarmAgent.destroy();
+		server.close(() => process.exit(0));
+		server.closeIdleConnections?.();
+		setTimeout(() => process.exit(0), Number(process.env.SHUTDOWN_TIMEOUT || 30) * 1000).unref();
+	}
+	process.on('SIGTERM', stop);
+	process.on('SIGINT', stop);
+	// A worker whose primary went away (killed without a chance to stop us) stops too.
+	if (cluster.isWorker) process.on('disconnect', stop);
 }
-process.on('SIGTERM', stop);
-process.on('SIGINT', stop);

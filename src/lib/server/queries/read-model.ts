@@ -13,7 +13,7 @@
  * runs first (one indexed probe when nothing is dirty).
  */
 import { and, asc, desc, eq, inArray, isNull, notInArray, sql, type SQL } from 'drizzle-orm';
-import { cardDirty, converterCards, converters, listingStates, listings } from '../db/schema';
+import { cardDirty, converterCards, converters, listings } from '../db/schema';
 import { buildEntries, revisionsFor, type Db, type Viewpoint } from './catalogue-entries';
 import { currentOffers, loadRates } from './offers';
 import { bandRank } from '../../components/bands';
@@ -157,7 +157,7 @@ function inCurrency(
 	e: CatalogueEntry,
 	currency: string,
 	rates: RatesPerEur,
-	checked: Map<number, string | null>
+	checked: Record<string, string>
 ): CatalogueEntry {
 	const price = (o: CatalogueOffer): CatalogueOffer => ({
 		...o,
@@ -168,29 +168,63 @@ function inCurrency(
 					? convertMinor(o.priceMinor, o.currency, currency, rates)
 					: null,
 		displayCurrency: currency,
-		lastCheckedAt: checked.has(o.listingId) ? checked.get(o.listingId)! : o.lastCheckedAt
+		lastCheckedAt: checked[o.listingId] ?? o.lastCheckedAt
 	});
 	return { ...e, offers: e.offers.map(price), best: e.best ? price(e.best) : null };
 }
 
-/** "Last checked" moves on every poll without changing a card: read it fresh for the page's offers. */
-async function lastChecked(db: Db, entries: CatalogueEntry[]): Promise<Map<number, string | null>> {
-	const ids = [
-		...new Set(entries.flatMap((e) => e.offers.map((o) => o.listingId).concat(e.best ? [e.best.listingId] : [])))
-	];
-	if (!ids.length) return new Map();
-	const rows = await db
-		.select({ id: listingStates.listingId, at: listingStates.lastCheckedAt })
-		.from(listingStates)
-		.where(inArray(listingStates.listingId, ids));
-	return new Map(rows.map((r) => [r.id, r.at ? r.at.toISOString() : null]));
+/**
+ * The SQL of the latest EUR-based rate per currency on or before `day` (loadRates in SQL), as a
+ * JSON object { "USD": 1.08, ... }; EUR itself is 1.
+ */
+function ratesJson(day: string): SQL {
+	return sql`(select jsonb_build_object('EUR', 1) || coalesce(jsonb_object_agg(trim(r.quote), r.rate::float8), '{}')
+		from (select distinct on (quote) quote, rate from exchange_rate
+			where base = 'EUR' and day <= ${day} order by quote, day desc) r)`;
 }
 
-async function hydrate(db: Db, stored: unknown[], view: Viewpoint, rates: RatesPerEur): Promise<CatalogueEntry[]> {
-	const entries = stored as CatalogueEntry[];
-	const checked = await lastChecked(db, entries);
-	return entries.map((e) => inCurrency(e, view.currency, rates, checked));
+/** One display currency's rate per EUR in SQL (null when there is none). */
+function rateOf(currency: string, day: string): SQL {
+	if (currency === 'EUR') return sql`1::float8`;
+	return sql`(select rate::float8 from exchange_rate where base = 'EUR' and quote = ${currency} and day <= ${day} order by day desc limit 1)`;
 }
+
+/**
+ * "Last checked" moves on every poll without changing a card: read fresh for the card's offers, as
+ * { listingId: ISO time } (the format of Date.toISOString, so pages show what they showed before).
+ */
+const checkedJson = sql`(select coalesce(jsonb_object_agg(ls.listing_id::text,
+		to_char(date_trunc('milliseconds', ls.last_checked_at) at time zone 'UTC', 'YYYY-MM-DD"T"HH24:MI:SS.MS"Z"')), '{}')
+	from listing_state ls
+	where ls.last_checked_at is not null and ls.listing_id = any(array(
+		select (o ->> 'listingId')::int from jsonb_array_elements(${converterCards.entry} -> 'offers') o
+		union all select (${converterCards.entry} -> 'best' ->> 'listingId')::int)))`;
+
+interface CardRow {
+	dirty: boolean;
+	rates: RatesPerEur;
+	entry: CatalogueEntry | null;
+	checked: Record<string, string> | null;
+}
+
+/**
+ * Run a card read (one statement that also says whether any card is dirty and carries the rates);
+ * when some card was dirty, rebuild what writers left and read again, so a read never shows a
+ * card older than a committed change.
+ */
+async function readCards<T extends CardRow>(db: Db, read: () => Promise<T[]>): Promise<T[]> {
+	const rows = await read();
+	if (!rows[0]?.dirty) return rows;
+	await refreshDirtyCards(db);
+	return read();
+}
+
+function hydrate(rows: CardRow[], view: Viewpoint): CatalogueEntry[] {
+	return rows.flatMap((r) => (r.entry ? [inCurrency(r.entry, view.currency, r.rates, r.checked ?? {})] : []));
+}
+
+const today = () => new Date().toISOString().slice(0, 10);
+const dirtySql = sql<boolean>`exists (select 1 from card_dirty)`;
 
 /** ICU root collation: the order of String.localeCompare, whatever the cluster's locale. */
 const byName = [sql`${converterCards.brand} collate "und-x-icu"`, sql`${converterCards.model} collate "und-x-icu"`];
@@ -232,20 +266,17 @@ function orderFor(sort: CardOrder, includeExpected?: boolean): SQL[] {
 }
 
 /** The SQL of a catalogue filter; prices compare as the visitor sees them (convertMinor's rounding). */
-function whereFor(view: Viewpoint, f: CatalogueFilter, rates: RatesPerEur): SQL {
+function whereFor(view: Viewpoint, f: CatalogueFilter, day: string): SQL {
 	const parts: (SQL | undefined)[] = [eq(converterCards.region, view.region)];
 	if (f.minBand) parts.push(sql`${rankWith(f.includeExpected)} <= ${bandRank(f.minBand)}`);
 	if (f.audio) parts.push(eq(converterCards.hasAudioOut, true));
 	if (f.power) parts.push(eq(converterCards.power, f.power));
 	if (f.inStock) parts.push(sql`${converterCards.inStockShops} > 0`);
 	if (f.priceMin != null || f.priceMax != null) {
-		const rate = rates[view.currency];
-		if (!rate) parts.push(sql`false`);
-		else {
-			const shown = sql`round(${converterCards.bestEur} * ${rate}::float8 * ${10 ** minorDigits(view.currency)}::float8)`;
-			if (f.priceMin != null) parts.push(sql`${shown} >= ${f.priceMin}`);
-			if (f.priceMax != null) parts.push(sql`${shown} <= ${f.priceMax}`);
-		}
+		// no rate for the currency: the product is null and nothing matches
+		const shown = sql`round(${converterCards.bestEur} * ${rateOf(view.currency, day)} * ${10 ** minorDigits(view.currency)}::float8)`;
+		if (f.priceMin != null) parts.push(sql`${shown} >= ${f.priceMin}`);
+		if (f.priceMax != null) parts.push(sql`${shown} <= ${f.priceMax}`);
 	}
 	return and(...parts)!;
 }
@@ -263,7 +294,8 @@ export interface CataloguePage {
 
 /**
  * One page of the catalogue for a viewpoint: filter, order and page in SQL over the region's
- * cards (four statements whatever the catalogue's size: dirty probe, rates, counts + page, last checked).
+ * cards, in one statement whatever the catalogue's size (counts, the page's cards with their
+ * offers' last-checked times, the rates and the dirty probe); a page past the last one shows the last.
  */
 export async function loadCataloguePage(
 	db: Db,
@@ -271,59 +303,59 @@ export async function loadCataloguePage(
 	filter: CatalogueFilter & { order?: CardOrder },
 	opts: { page?: number; pageSize: number }
 ): Promise<CataloguePage> {
-	await refreshDirtyCards(db);
-	const rates = await loadRates(db);
-	const where = whereFor(view, filter, rates);
-	const [counts] = await db
-		.select({
-			total: sql<number>`count(*)::int`,
-			matching: sql<number>`(count(*) filter (where ${where}))::int`
-		})
-		.from(converterCards)
-		.where(eq(converterCards.region, view.region));
-	const pages = Math.max(1, Math.ceil(counts.matching / opts.pageSize));
-	const page = Math.min(Math.max(1, opts.page ?? 1), pages);
-	const rows = counts.matching
-		? await db
-				.select({ entry: converterCards.entry })
-				.from(converterCards)
-				.where(where)
-				.orderBy(...orderFor(filter.order ?? filter.sort ?? 'band', filter.includeExpected))
-				.limit(opts.pageSize)
-				.offset((page - 1) * opts.pageSize)
-		: [];
+	const day = today();
+	const where = whereFor(view, filter, day);
+	const size = opts.pageSize;
+	const asked = Math.max(1, opts.page ?? 1);
+	const order = orderFor(filter.order ?? filter.sort ?? 'band', filter.includeExpected);
+	type Row = CardRow & { total: number; matching: number };
+	const rows = await readCards(db, async () => {
+		const shownPage = sql`(least(${asked}::int, greatest(1, ceil((select matching from counts) / ${size}::float8)::int)) - 1) * ${size}::int`;
+		// array(subquery) keeps the subquery's order and `with ordinality` numbers it, so the page's
+		// order survives the joins; last-checked times are read for the page's cards only.
+		const result = await db.execute(sql`
+			with counts as (select count(*)::int as total, (count(*) filter (where ${where}))::int as matching
+				from ${converterCards} where ${eq(converterCards.region, view.region)}),
+			ids as (select id, n from unnest(array(select ${converterCards.converterId} from ${converterCards} where ${where}
+					order by ${sql.join(order, sql`, `)} limit ${size}::int offset ${shownPage})) with ordinality as t(id, n))
+			select ${dirtySql} as dirty, ${ratesJson(day)} as rates, counts.total, counts.matching,
+				${converterCards.entry} as entry, ${checkedJson} as checked
+			from counts left join ids on true
+				left join ${converterCards} on ${converterCards.region} = ${view.region} and ${converterCards.converterId} = ids.id
+			order by ids.n`);
+		return result as unknown as Row[];
+	});
+	const total = rows[0]?.total ?? 0;
+	const matching = rows[0]?.matching ?? 0;
+	const pages = Math.max(1, Math.ceil(matching / size));
 	return {
-		entries: await hydrate(
-			db,
-			rows.map((r) => r.entry),
-			view,
-			rates
-		),
-		total: counts.total,
-		matching: counts.matching,
-		page,
+		entries: hydrate(rows, view),
+		total,
+		matching,
+		page: Math.min(asked, pages),
 		pages,
-		pageSize: opts.pageSize
+		pageSize: size
 	};
 }
 
-/** Some converters' entries for a viewpoint, in the order asked (missing or retired ones left out). */
+/** Some converters' entries for a viewpoint, in the order asked (missing or retired ones left out), in one statement. */
 export async function loadEntries(db: Db, view: Viewpoint, ids: number[]): Promise<CatalogueEntry[]> {
 	if (!ids.length) return [];
-	await refreshDirtyCards(db);
-	const [rows, rates] = await Promise.all([
-		db
-			.select({ id: converterCards.converterId, entry: converterCards.entry })
-			.from(converterCards)
-			.where(and(eq(converterCards.region, view.region), inArray(converterCards.converterId, ids))),
-		loadRates(db)
-	]);
-	const byId = new Map(rows.map((r) => [r.id, r.entry]));
+	const day = today();
+	type Row = CardRow & { id: number | null };
+	const rows = await readCards(db, async () => {
+		const result = await db.execute(sql`
+			with cards as (select ${converterCards.converterId} as id, ${converterCards.entry} as entry, ${checkedJson} as checked
+				from ${converterCards}
+				where ${converterCards.region} = ${view.region} and ${converterCards.converterId} = any(${`{${ids.map((id) => Math.trunc(id)).join(',')}}`}::int[]))
+			select ${dirtySql} as dirty, ${ratesJson(day)} as rates, cards.id, cards.entry, cards.checked
+			from (select 1) one left join cards on true`);
+		return result as unknown as Row[];
+	});
+	const byId = new Map(rows.filter((r) => r.id != null).map((r) => [r.id!, r]));
 	return hydrate(
-		db,
-		ids.filter((id) => byId.has(id)).map((id) => byId.get(id)),
-		view,
-		rates
+		ids.filter((id) => byId.has(id)).map((id) => byId.get(id)!),
+		view
 	);
 }
 
