@@ -13,6 +13,10 @@ import { DEFAULT_SENDER_CRON, senderTask } from './sender';
 import { DEFAULT_DIGEST_CRON, digestTask } from './digest';
 import { DEFAULT_EXPECTED_CRON, expectedTask } from './expected';
 import { listenForOutbox, serialRunner } from './wake';
+import { refreshShopRecords } from '../src/lib/server/queries/shops';
+
+/** Shop record lines are worked out again every 10 minutes (SHOP_RECORDS_CRON). */
+export const DEFAULT_SHOP_RECORDS_CRON = '*/10 * * * *';
 import type { PollerOptions } from '../src/lib/server/polling';
 
 export interface Jobs {
@@ -55,6 +59,11 @@ export async function startJobs(
 		}
 	};
 
+	const shopRecordsTask = () =>
+		refreshShopRecords(db)
+			.then((r) => r.changed && log(`shop records: ${JSON.stringify(r)}`))
+			.catch(logError('shop records'));
+
 	const tasks = [
 		poller.task,
 		cron.schedule(
@@ -81,10 +90,15 @@ export async function startJobs(
 					.then((r) => log(`expected grades: ${JSON.stringify(r)}`))
 					.catch(logError('expected')),
 			{ name: 'expected', noOverlap: true }
-		)
+		),
+		cron.schedule(env.SHOP_RECORDS_CRON || DEFAULT_SHOP_RECORDS_CRON, () => shopRecordsTask(), {
+			name: 'shop records',
+			noOverlap: true
+		})
 	];
-	// the learn page shows the backtest figure from the first start on
+	// the learn page shows the backtest figure from the first start on, listing rows their shop lines
 	expectedTask(db).catch(logError('expected'));
+	shopRecordsTask();
 	const unlisten = await listenForOutbox(sql, () => void runSender());
 	const names = [...tasks.map((t) => t.name), 'sender on NOTIFY'];
 	return {

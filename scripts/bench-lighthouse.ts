@@ -130,6 +130,19 @@ async function main() {
 						.map((w) => `${w.groupLabel} ${Math.round(w.duration)} ms`)
 						.join(', ')}`
 				);
+			// Which scripts cost the most main-thread time (evaluation and compile).
+			const boot = (
+				a['bootup-time']?.details as { items?: Array<{ url: string; scripting: number; scriptParseCompile: number }> }
+			)?.items;
+			if (boot)
+				console.log(
+					`${path} scripts ${boot
+						.slice(0, 5)
+						.map(
+							(b) => `${b.url.replace(origin, '')} ${Math.round(b.scripting)}+${Math.round(b.scriptParseCompile)} ms`
+						)
+						.join(', ')}`
+				);
 		}
 	} finally {
 		await chrome?.kill();

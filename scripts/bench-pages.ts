@@ -24,6 +24,8 @@ import postgres from 'postgres';
 import autocannon from 'autocannon';
 import { applyMigrations } from '../src/lib/server/db/migrate';
 import { loadBenchCatalogue } from './lib/bench-catalogue';
+import { createDb } from '../src/lib/server/db/client';
+import { refreshShopRecords } from '../src/lib/server/queries/shops';
 // @ts-expect-error plain ES module without types
 import { profile, ROOT } from './lib/profiles.mjs';
 // @ts-expect-error plain ES module without types
@@ -62,6 +64,10 @@ async function load() {
 	const t0 = Date.now();
 	try {
 		await loadBenchCatalogue(sql, { converters: CONVERTERS, per: PER });
+		// what the jobs process keeps current: each shop's record line for the listing rows
+		const app = createDb(url, { max: 1 });
+		await refreshShopRecords(app.db);
+		await app.sql.end();
 		await sql`analyze`;
 		const [counts] =
 			await sql`select (select count(*)::int from converter) converters, (select count(*)::int from listing) listings, (select count(*)::int from observation) observations, (select count(*)::int from stock_event) restocks`;

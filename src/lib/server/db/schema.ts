@@ -734,6 +734,19 @@ export const cardDirty = pgTable('card_dirty', {
 	converterId: integer('converter_id').primaryKey()
 });
 
+/**
+ * Each shop's public record (90 days of all its listings' history, src/lib/server/queries/shops.ts)
+ * as the jobs process last worked it out: listing rows read the line from here instead of summing
+ * a shop's whole history in a page request.
+ */
+export const shopRecordRows = pgTable('shop_record', {
+	shopId: integer('shop_id')
+		.primaryKey()
+		.references(() => shops.id, { onDelete: 'cascade' }),
+	line: text('line'),
+	computedAt: timestamp('computed_at', { withTimezone: true }).notNull()
+});
+
 // ---------------------------------------------------------------- tester consistency and expected grades
 
 export const zSignalEnum = pgEnum('z_signal', ['satisfactory', 'questionable', 'action']);

@@ -9,6 +9,7 @@
  */
 import { and, desc, eq, inArray, isNotNull, isNull, sql } from 'drizzle-orm';
 import type { Database } from './client';
+import { refreshShopRecords } from '../queries/shops';
 import * as t from './schema';
 import {
 	CHIPS,
@@ -497,6 +498,8 @@ export async function seedDemo(db: Database, opts: SeedOptions): Promise<SeedSum
 			.where(and(isNotNull(t.revisions.band), isNull(t.revisions.deviationIre)));
 		for (const r of stale) await regradeRevision(tx, r.id, now);
 	});
+	// Listing rows show each shop's stored record line; the jobs process keeps it current.
+	await refreshShopRecords(db, now);
 
 	return summary;
 }

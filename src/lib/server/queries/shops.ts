@@ -6,7 +6,8 @@
  *   The ONE definition of a shop's failed-poll share: the curator listings page, the curator health
  *   API and the public shop record all read it from here.
  * - `shopRecords`: the public shop record over the last RECORD_DAYS days (figures defined on
- *   ShopRecord) and its one-line summary.
+ *   ShopRecord) and its one-line summary; `refreshShopRecords` stores every shop's line for the
+ *   listing rows of converter pages and the listings API (`listingNotes`).
  * - `listingOutlooks`: the restock outlook ($lib/restock) of listings from their own change points.
  */
 import { and, asc, desc, eq, gte, inArray, isNull, lte, sql } from 'drizzle-orm';
@@ -17,6 +18,7 @@ import {
 	observations,
 	pollCounts,
 	shopPollStates,
+	shopRecordRows,
 	shops,
 	type PollOutcome,
 	type StockState
@@ -32,7 +34,6 @@ import {
 	type StockPoint
 } from '../../restock';
 import { shopRecordLine } from '../../shop-record';
-import { LRUCache } from 'lru-cache';
 
 const DAY = 86_400_000;
 
@@ -344,6 +345,35 @@ export interface ListingNote {
 	shop: { slug: string; line: string | null };
 }
 
+/**
+ * Work out every shop's record again and store its line (shop_record), one shop at a time so a
+ * large catalogue never holds more than one shop's history. The jobs process runs this on a
+ * schedule; the seed runs it once. Pages that changed line are told through sg_public.
+ */
+export async function refreshShopRecords(db: Database, now = new Date()): Promise<{ shops: number; changed: number }> {
+	const all = await db
+		.select({ id: shops.id, line: shopRecordRows.line, stored: shopRecordRows.shopId })
+		.from(shops)
+		.leftJoin(shopRecordRows, eq(shopRecordRows.shopId, shops.id));
+	let changed = 0;
+	for (const shop of all) {
+		const line = (await shopRecords(db, { shopIds: [shop.id], now })).get(shop.id)?.line ?? null;
+		await db
+			.insert(shopRecordRows)
+			.values({ shopId: shop.id, line, computedAt: now })
+			.onConflictDoUpdate({ target: shopRecordRows.shopId, set: { line, computedAt: now } });
+		if (shop.stored == null || shop.line !== line) changed++;
+	}
+	if (changed) await db.execute(sql`select pg_notify('sg_public', 'shop_record')`);
+	return { shops: all.length, changed };
+}
+
+export interface ListingNote {
+	outlook: RestockOutlook;
+	/** The listing's shop: where its record lives and its one-line summary (as last stored). */
+	shop: { slug: string; line: string | null };
+}
+
 /** What a listing row shows beside price and stock: its restock outlook and its shop's record line. */
 export async function listingNotes(
 	db: Database,
@@ -351,39 +381,14 @@ export async function listingNotes(
 	now = new Date()
 ): Promise<Map<number, ListingNote>> {
 	if (!listingIds.length) return new Map();
-	const rows = await db
-		.select({ id: listings.id, shopId: listings.shopId, shopSlug: shops.slug })
-		.from(listings)
-		.innerJoin(shops, eq(shops.id, listings.shopId))
-		.where(inArray(listings.id, listingIds));
-	const shopIds = [...new Set(rows.map((r) => r.shopId))];
-	const [outlooks, lines] = await Promise.all([
-		listingOutlooks(db, listingIds, now),
-		Promise.all(shopIds.map((id) => shopLines.fetch(id, { context: db })))
+	const [rows, outlooks] = await Promise.all([
+		db
+			.select({ id: listings.id, shopSlug: shops.slug, line: shopRecordRows.line })
+			.from(listings)
+			.innerJoin(shops, eq(shops.id, listings.shopId))
+			.leftJoin(shopRecordRows, eq(shopRecordRows.shopId, listings.shopId))
+			.where(inArray(listings.id, listingIds)),
+		listingOutlooks(db, listingIds, now)
 	]);
-	const lineOf = new Map(shopIds.map((id, i) => [id, lines[i]?.line ?? null]));
-	return new Map(
-		rows.map((r) => [
-			r.id,
-			{ outlook: outlooks.get(r.id)!, shop: { slug: r.shopSlug, line: lineOf.get(r.shopId) ?? null } }
-		])
-	);
+	return new Map(rows.map((r) => [r.id, { outlook: outlooks.get(r.id)!, shop: { slug: r.shopSlug, line: r.line } }]));
 }
-
-/** How long a process keeps a shop's record line before working it out again. */
-export const SHOP_LINE_TTL_MS = 10 * 60_000;
-
-/**
- * A shop's record line sums up 90 days of all its listings' history: far too much work for every
- * listing row (a converter page), and it moves slowly. Each process keeps the lines for
- * SHOP_LINE_TTL_MS and, once older, answers with the old line while one refresh runs.
- */
-const shopLines = new LRUCache<number, { line: string | null }, Database>({
-	max: 10_000,
-	ttl: SHOP_LINE_TTL_MS,
-	allowStale: true,
-	noDeleteOnStaleGet: true,
-	fetchMethod: async (shopId, _stale, { context }) => ({
-		line: (await shopRecords(context, { shopIds: [shopId] })).get(shopId)?.line ?? null
-	})
-});
