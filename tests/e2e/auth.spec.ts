@@ -1,5 +1,5 @@
 import { expect, test } from '@playwright/test';
-import { signIn } from './support/inbox';
+import { lastMessageId, signIn, waitForMessage } from './support/inbox';
 import { LISTINGS } from '../../src/lib/demo/scenario';
 
 test('a visitor signs in through the e-mailed link and sees the signed-in state', async ({ page }) => {
@@ -61,4 +61,51 @@ test('a malformed address is refused with a clear message and sends nothing', as
 	await page.getByRole('button', { name: /sign-in link/i }).click();
 	await expect(page.getByText('Enter an e-mail address like name@example.com.')).toBeVisible();
 	await expect(page.getByLabel('E-mail address')).toHaveValue('not-an-address');
+});
+
+test('sign-in works without JavaScript: a bad address is a 400 on the field, then the link leads back to next', async ({
+	browser
+}) => {
+	const page = await (await browser.newContext({ javaScriptEnabled: false })).newPage();
+	const email = `no-script-${Date.now()}@example.test`;
+	await page.goto('/signin?next=%2Faccount%2Fwatches');
+	const field = page.getByLabel('E-mail address');
+	await field.evaluate((el) => el.setAttribute('type', 'text'));
+	await field.fill('not-an-address');
+	const answer = page.waitForResponse((r) => r.request().method() === 'POST');
+	await page.getByRole('button', { name: /sign-in link/i }).click();
+	expect((await answer).status()).toBe(400);
+	await expect(page.getByText('Enter an e-mail address like name@example.com.')).toBeVisible();
+	await expect(page.getByLabel('E-mail address')).toHaveValue('not-an-address');
+	await expect(page.getByLabel('E-mail address')).toHaveAttribute('aria-invalid', 'true');
+
+	// The second try still carries where to go, and the address is normalised before sending.
+	const before = await lastMessageId(email);
+	await page.getByLabel('E-mail address').fill(`  ${email.toUpperCase()} `);
+	await page.getByRole('button', { name: /sign-in link/i }).click();
+	await expect(page.getByRole('heading', { name: 'Check your inbox' })).toBeVisible();
+	const link = (await waitForMessage(email, before)).text.match(/https?:\/\/\S+\/auth\/callback\/nodemailer\S*/)?.[0];
+	expect(link, 'the message carries a callback link').toBeTruthy();
+	await page.goto(link!);
+	await expect(page).toHaveURL(/\/account\/watches$/);
+	await page.context().close();
+});
+
+test('the sign-in answer does not tell a known address from an unknown one', async ({ browser, request, baseURL }) => {
+	const known = `known-${Date.now()}@example.test`;
+	const page = await (await browser.newContext()).newPage();
+	await signIn(page, known);
+	await page.context().close();
+	const answers = [];
+	for (const email of [known, `unknown-${Date.now()}@example.test`]) {
+		const res = await request.post('/signin', {
+			form: { email, next: '' },
+			headers: { Origin: baseURL!, Accept: 'text/html' },
+			maxRedirects: 0
+		});
+		answers.push({ status: res.status(), location: res.headers()['location'], body: await res.text() });
+	}
+	expect(answers[0].status).toBeGreaterThanOrEqual(300);
+	expect(answers[0].status).toBeLessThan(400);
+	expect(answers[1]).toEqual(answers[0]);
 });

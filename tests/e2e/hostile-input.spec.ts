@@ -94,7 +94,8 @@ const FIELDS = [
 	'unitCount',
 	'verdict',
 	'comment',
-	'next'
+	'next',
+	'email'
 ];
 
 const ID = '1';
@@ -103,7 +104,7 @@ const ACTIONS: Array<[string, string[]]> = [
 	['/curate/chips', ['create']],
 	[`/curate/chips/${ID}`, ['update', 'retire', 'restore']],
 	[`/curate/chips/${MISSING}`, ['retire', 'restore']],
-	['/curate/review', ['teardown', 'run']],
+	['/curate/review', ['teardown', 'run', 'flag']],
 	['/curate/guides', ['create']],
 	[`/curate/guides/${MISSING}`, ['save', 'preview', 'status', 'addPick', 'removePick']],
 	[`/curate/revisions/${ID}`, ['update', 'supersede', 'retire', 'restore']],
@@ -121,7 +122,8 @@ const ACTIONS: Array<[string, string[]]> = [
 	[`/admin/shops/${ID}`, ['update']],
 	['/account/watches', ['create', 'update', 'pause', 'delete', 'prefs']],
 	['/teardowns/new', ['default']],
-	['/teardowns/bench-run', ['readTrace', 'save']]
+	['/teardowns/bench-run', ['readTrace', 'save']],
+	['/signin', ['default']]
 ];
 
 function url(path: string, action: string) {

@@ -9,7 +9,8 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { and, asc, eq, gte, isNull } from 'drizzle-orm';
 import { freshDatabase } from './helpers/db';
 import { seedDemo } from '../../src/lib/server/db/seed';
-import { listings, listingStates, observations, type StockState } from '../../src/lib/server/db/schema';
+import { listings, listingStates, observations, revisions, type StockState } from '../../src/lib/server/db/schema';
+import { bandRank } from '../../src/lib/components/bands';
 import { HISTORY_DAYS, loadPlanInputs, loadStockTurns } from '../../src/lib/server/polling/plan';
 import { listingSpells, type StockPoint } from '../../src/lib/restock';
 import { planIntervals } from '../../src/lib/poll-plan';
@@ -119,5 +120,24 @@ describe('loadStockTurns', () => {
 		const whole = await wholeHistory();
 		const plain = inputs.map((i) => ({ ...i, points: whole.get(i.listingId) ?? [] }));
 		expect(planIntervals(inputs, current, NOW)).toEqual(planIntervals(plain, current, NOW));
+	});
+
+	it('waits for listings of converters with a current revision graded Close or better, and only those', async () => {
+		const { inputs } = await loadPlanInputs(database.db, NOW);
+		const revs = await database.db
+			.select({ converterId: revisions.converterId, band: revisions.band })
+			.from(revisions)
+			.where(and(isNull(revisions.seenTo), isNull(revisions.retiredAt)));
+		const good = new Set(revs.filter((r) => bandRank(r.band) <= bandRank('close')).map((r) => r.converterId));
+		const converterOf = new Map(
+			(await database.db.select({ id: listings.id, converterId: listings.converterId }).from(listings)).map((l) => [
+				l.id,
+				l.converterId
+			])
+		);
+		const flags = inputs.map((i) => [i.listingId, good.has(converterOf.get(i.listingId)!)]);
+		expect(inputs.map((i) => [i.listingId, i.goodBand])).toEqual(flags);
+		// The demo catalogue has both kinds, so the check can tell them apart.
+		expect(new Set(flags.map(([, g]) => g))).toEqual(new Set([true, false]));
 	});
 });

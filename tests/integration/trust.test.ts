@@ -19,6 +19,8 @@ import { auditRows, curateWorld } from './helpers/curate-world';
 import { exportCatalogue, loadCatalogue } from '../../src/lib/server/queries/public';
 import { apiConverter } from '../../src/lib/server/queries/public-api';
 import { filterCatalogue } from '../../src/lib/finder';
+import { loadCataloguePage } from '../../src/lib/server/queries/read-model';
+import { BANDS, bandRank, type Band } from '../../src/lib/components/bands';
 
 let w: Awaited<ReturnType<typeof curateWorld>>;
 const revs: Array<{ id: number; converterId: number; chipId: number }> = [];
@@ -190,6 +192,16 @@ describe('expected grades', () => {
 		expect(filterCatalogue(all, { minBand: 'failing', includeExpected: true }).map((e) => e.id)).toContain(
 			revs[4].converterId
 		);
+		// The cards' SQL ranks the expected band the same way: it meets its own band as the lowest
+		// band, and not the band above it.
+		const atLeast = async (minBand: Band) =>
+			(
+				await loadCataloguePage(w.db, view, { sort: 'band', minBand, includeExpected: true }, { pageSize: 5000 })
+			).entries.map((e) => e.id);
+		const expectedBand = entry.expected!.band;
+		expect(await atLeast(expectedBand)).toContain(revs[4].converterId);
+		const better = BANDS[bandRank(expectedBand) - 1];
+		if (better) expect(await atLeast(better)).not.toContain(revs[4].converterId);
 		const csv = (await exportCatalogue(w.db)).find((r) => r.revision_id === revs[4].id)!;
 		expect(csv).toMatchObject({
 			band: null,

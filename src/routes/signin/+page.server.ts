@@ -1,8 +1,9 @@
-import { fail, redirect } from '@sveltejs/kit';
+import { redirect } from '@sveltejs/kit';
 import { z } from 'zod';
 import { authOrigin, signIn } from '$lib/server/auth/config';
 import { withForm } from '$lib/server/auth/forward';
-import { readForm } from '$lib/server/http/body';
+import { FieldError } from '$lib/server/curate/common';
+import { attempt, emptyForm, invalid, validate } from '$lib/server/curate/forms';
 import { tooManySignIns } from '$lib/server/security/rate-limit';
 import { checkSignInLimits } from '$lib/server/security/signin-limit';
 import type { Actions, PageServerLoad } from './$types';
@@ -22,28 +23,28 @@ const SignInForm = z.object({
 		.transform((v) => (v && v.startsWith('/') && !v.startsWith('//') && !v.includes('\\') ? v : '/account'))
 });
 
-export const load: PageServerLoad = ({ locals, url }) => {
+export const load: PageServerLoad = async ({ locals, url }) => {
 	if (locals.user) redirect(303, '/account');
-	return { next: url.searchParams.get('next') ?? '' };
+	return { next: url.searchParams.get('next') ?? '', form: await emptyForm(SignInForm) };
 };
 
 export const actions: Actions = {
 	default: async (event) => {
-		const form = await readForm(event.request.clone()).catch(() => null);
-		if (!form) return fail(400, { email: '', error: 'Send the sign-in form as form data.' });
-		const email = String(form.get('email') ?? '');
-		const parsed = SignInForm.safeParse({ email, next: form.get('next') ?? undefined });
-		if (!parsed.success) {
-			return fail(400, { email: email.slice(0, 320), error: parsed.error.issues[0].message });
-		}
-		const limit = await checkSignInLimits(parsed.data.email, event.getClientAddress());
-		if (!limit.allowed) {
-			event.setHeaders({ 'retry-after': String(limit.retryAfterSeconds) });
-			return fail(429, { email: parsed.data.email, error: tooManySignIns(limit.retryAfterSeconds) });
-		}
+		const form = await validate(event.request, SignInForm);
+		const { email, next } = form.data;
+		// A refusal carries back only the address as typed (capped); the page keeps `next` itself.
+		form.data.email = email.slice(0, 320);
+		form.data.next = '';
+		if (!form.valid) return invalid(form);
+		const res = await attempt(form, async () => {
+			const limit = await checkSignInLimits(email, event.getClientAddress());
+			if (!limit.allowed) {
+				event.setHeaders({ 'retry-after': String(limit.retryAfterSeconds) });
+				throw new FieldError('email', tooManySignIns(limit.retryAfterSeconds), 429);
+			}
+		});
+		if (!res.ok) return res.failure;
 		// Auth.js reads providerId, email and redirectTo from the posted form.
-		await signIn(
-			withForm(event, { providerId: 'nodemailer', email: parsed.data.email, redirectTo: parsed.data.next }, authOrigin)
-		);
+		await signIn(withForm(event, { providerId: 'nodemailer', email, redirectTo: next }, authOrigin));
 	}
 };

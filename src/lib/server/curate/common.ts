@@ -26,7 +26,7 @@ export class FieldError extends Error {
 	constructor(
 		readonly field: string | null,
 		message: string,
-		readonly status: 400 | 403 | 404 | 409 | 413 | 415 = 400
+		readonly status: 400 | 403 | 404 | 409 | 413 | 415 | 429 = 400
 	) {
 		super(message);
 		this.name = 'FieldError';

@@ -6,9 +6,13 @@
 import { sql } from 'drizzle-orm';
 import type { Database } from '../db/client';
 import type { StockState } from '../db/schema';
+import { BANDS } from '../../enums';
 import { BUYABLE_STOCK, isBuyable } from '../../pricing';
 import type { StockPoint } from '../../restock';
 import { planIntervals, type PlanInput, type PlannedInterval } from '../../poll-plan';
+
+/** The good bands (Close or better, from the one BANDS list): a restock of those is waited for. */
+export const GOOD_BANDS = BANDS.slice(0, BANDS.indexOf('close') + 1);
 
 /** Re-plan this often: watches and histories change slowly. */
 export const PLAN_REFRESH_MS = 10 * 60_000;
@@ -73,7 +77,7 @@ export async function loadPlanInputs(
 			) as watched,
 			exists (
 				select 1 from revision r
-				where r.converter_id = l.converter_id and r.seen_to is null and r.retired_at is null and r.band in ('exact', 'close')
+				where r.converter_id = l.converter_id and r.seen_to is null and r.retired_at is null and r.band in ${GOOD_BANDS}
 			) as good_band
 		from listing l
 		left join listing_state ls on ls.listing_id = l.id

@@ -16,7 +16,7 @@ import { and, asc, desc, eq, inArray, isNull, notInArray, sql, type SQL } from '
 import { cardDirty, converterCards, converters, listings } from '../db/schema';
 import { buildEntries, revisionsFor, type Db, type Viewpoint } from './catalogue-entries';
 import { currentOffers, loadRates } from './offers';
-import { bandRank } from '../../components/bands';
+import { BANDS, bandRank } from '../../components/bands';
 import { minorDigits } from '../../feeds/currency';
 import { convertMinor, REGION_CODES, REGION_CURRENCY, type RatesPerEur } from '../../pricing';
 import {
@@ -233,11 +233,16 @@ const priceNullsLast = sql`${converterCards.bestEur} asc nulls last`;
 export type CardOrder = CatalogueSort | 'finder';
 
 /**
- * Rank of a card's expected grade (a prediction for revisions not yet measured, entry.expected;
- * 5 when none), and the rank the band filter and sort use when the visitor includes expected
- * grades: the better of measured and expected.
+ * Rank of a card's expected grade (a prediction for revisions not yet measured, entry.expected),
+ * as bandRank ranks it: the position in the one BANDS list, ungraded last. And the rank the band
+ * filter and sort use when the visitor includes expected grades: the better of measured and
+ * expected.
  */
-const expectedRank = sql`coalesce(array_position(array['exact','close','fair','poor','failing']::text[], ${converterCards.entry} #>> '{expected,band}') - 1, 5)`;
+const bandOrder = sql`array[${sql.join(
+	BANDS.map((b) => sql`${b}`),
+	sql`, `
+)}]::text[]`;
+const expectedRank = sql`coalesce(array_position(${bandOrder}, ${converterCards.entry} #>> '{expected,band}') - 1, ${sql.raw(String(bandRank(null)))})`;
 const rankWith = (includeExpected: boolean | undefined) =>
 	includeExpected ? sql`least(${converterCards.bandRank}, ${expectedRank})` : sql`${converterCards.bandRank}`;
 

@@ -1,4 +1,4 @@
-import { error, fail, redirect } from '@sveltejs/kit';
+import { error, redirect } from '@sveltejs/kit';
 import { requireRole } from '$lib/server/auth/guard';
 import { db } from '$lib/server/db';
 import { runsOfRevision, supersedeBenchRun } from '$lib/server/curate/bench';
@@ -26,9 +26,18 @@ export const load: PageServerLoad = async (event) => {
 		db,
 		runs.map((r) => r.id)
 	);
+	// One supersede form per run that still counts or waits, told apart by id
+	// (`supersede-<run id>`) so an answer lands on the run it was about.
+	const supersedeForms = await Promise.all(
+		runs.map((r) =>
+			r.status === 'accepted' || r.status === 'pending'
+				? emptyForm(supersedeSchema, { id: r.id, reason: '' }, `supersede-${r.id}`)
+				: null
+		)
+	);
 	return {
 		...found,
-		runs: runs.map((r) => ({ ...r, check: checks.get(r.id) ?? null })),
+		runs: runs.map((r, i) => ({ ...r, check: checks.get(r.id) ?? null, supersedeForm: supersedeForms[i] })),
 		/** Measured and expected bands over time (grade_history). */
 		grades,
 		history,
@@ -59,15 +68,9 @@ export const actions: Actions = {
 		const user = requireRole(event, 'curator');
 		const id = idParam(event.params.id);
 		const form = await validate(event.request, supersedeSchema);
-		if (!form.valid)
-			return fail(400, { supersede: { id: form.data.id, error: Object.values(form.errors).flat()[0] as string } });
+		if (!form.valid) return invalid(form);
 		const res = await attempt(form, () => supersedeBenchRun(db, user, form.data));
-		if (!res.ok) {
-			const m = res.failure.data.form.message as { text?: string } | undefined;
-			return fail(res.failure.status, {
-				supersede: { id: form.data.id, error: m?.text ?? 'Could not supersede the run.' }
-			});
-		}
+		if (!res.ok) return res.failure;
 		redirect(303, `/curate/revisions/${id}`);
 	},
 	retire: async (event) => {
