@@ -184,6 +184,12 @@ describe('saving', () => {
 	it('superseding a run keeps it but regrades without it', async () => {
 		const runs = await w.db.select().from(t.benchRuns).where(eq(t.benchRuns.revisionId, revisionId));
 		const crushedRun = runs.find((r) => r.band === 'failing')!;
+		// from another revision's page the run is not found, and stays as it was
+		await expect(
+			supersedeBenchRun(w.db, w.curator, { id: crushedRun.id, reason: 'Wrong page' }, new Date(), revisionId + 1000)
+		).rejects.toMatchObject({ status: 404 });
+		const [untouched] = await w.db.select().from(t.benchRuns).where(eq(t.benchRuns.id, crushedRun.id));
+		expect(untouched.status).toBe(crushedRun.status);
 		await supersedeBenchRun(w.db, w.curator, { id: crushedRun.id, reason: 'Measured without the load' });
 		const [rev] = await w.db.select().from(t.revisions).where(eq(t.revisions.id, revisionId));
 		expect(rev).toMatchObject({ band: 'exact', runCount: 1 });

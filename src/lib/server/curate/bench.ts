@@ -263,11 +263,14 @@ export async function supersedeBenchRun(
 	db: Database,
 	actor: Actor,
 	input: { id: number; supersededById?: number; reason: string },
-	now = new Date()
+	now = new Date(),
+	/** The revision whose page posted the form: a run of another revision is not found there. */
+	revisionId?: number
 ) {
 	return db.transaction(async (tx) => {
 		const [before] = await tx.select().from(t.benchRuns).where(eq(t.benchRuns.id, input.id)).for('update');
-		if (!before) throw new FieldError(null, 'That bench run does not exist.', 404);
+		if (!before || (revisionId !== undefined && before.revisionId !== revisionId))
+			throw new FieldError(null, 'That bench run does not exist.', 404);
 		if (before.status === 'superseded') throw new FieldError(null, 'This run is already superseded.', 409);
 		if (input.supersededById !== undefined) {
 			if (input.supersededById === input.id) throw new FieldError('supersededById', 'A run cannot supersede itself.');

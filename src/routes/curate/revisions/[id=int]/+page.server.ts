@@ -69,7 +69,7 @@ export const actions: Actions = {
 		const id = idParam(event.params.id);
 		const form = await validate(event.request, supersedeSchema);
 		if (!form.valid) return invalid(form);
-		const res = await attempt(form, () => supersedeBenchRun(db, user, form.data));
+		const res = await attempt(form, () => supersedeBenchRun(db, user, form.data, new Date(), id));
 		if (!res.ok) return res.failure;
 		redirect(303, `/curate/revisions/${id}`);
 	},
