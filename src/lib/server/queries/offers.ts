@@ -1,19 +1,27 @@
 /** Current offers and exchange rates from the database, for the pricing helpers in $lib/pricing. */
-import { and, desc, eq, inArray, isNull, lte, sql } from 'drizzle-orm';
+import { and, eq, inArray, isNull, sql, type SQL } from 'drizzle-orm';
 import type { Db } from './catalogue-entries';
-import { exchangeRates, listingStates, listings, shops } from '../db/schema';
+import { listingStates, listings, shops } from '../db/schema';
 import type { CurrentOffer, RatesPerEur, Region } from '../../pricing';
 
-/** Latest EUR-based rate per currency on or before `day` (YYYY-MM-DD). */
-export async function loadRates(db: Db, day = new Date().toISOString().slice(0, 10)): Promise<RatesPerEur> {
-	const rows = await db
-		.selectDistinctOn([exchangeRates.quote], { quote: exchangeRates.quote, rate: exchangeRates.rate })
-		.from(exchangeRates)
-		.where(and(eq(exchangeRates.base, 'EUR'), lte(exchangeRates.day, day)))
-		.orderBy(exchangeRates.quote, desc(exchangeRates.day));
-	const rates: RatesPerEur = { EUR: 1 };
-	for (const r of rows) rates[r.quote] = Number(r.rate);
-	return rates;
+/**
+ * The SQL of the latest EUR-based rate per currency on or before `day` (YYYY-MM-DD), as a JSON
+ * object { "EUR": 1, "USD": 1.0845, ... }: the one definition of "today's rates", read on its own
+ * (loadRates) or inside the read model's statements.
+ */
+export function ratesSql(day: string): SQL {
+	return sql`(select jsonb_build_object('EUR', 1) || coalesce(jsonb_object_agg(trim(r.quote), r.rate), '{}')
+		from (select distinct on (quote) quote, rate from exchange_rate
+			where base = 'EUR' and day <= ${day} order by quote, day desc) r)`;
+}
+
+/** Today's date in UTC (YYYY-MM-DD), the day rates are looked up for. */
+export const rateDay = () => new Date().toISOString().slice(0, 10);
+
+/** Latest EUR-based rate per currency on or before `day`. */
+export async function loadRates(db: Db, day = rateDay()): Promise<RatesPerEur> {
+	const [row] = (await db.execute(sql`select ${ratesSql(day)} as rates`)) as unknown as Array<{ rates: RatesPerEur }>;
+	return row.rates;
 }
 
 /**

@@ -9,13 +9,13 @@
  * `card_dirty` (upserting the row, so concurrent writers of one converter queue behind each
  * other) and pg_notify('sg_public', ...) in the writing transaction. The transactions that record
  * a grade, a listing's state change or a new exchange rate call `refreshCards` before they
- * commit; any other writer (a curator's edit) is caught by `refreshDirtyCards`, which every read
- * runs first (one indexed probe when nothing is dirty).
+ * commit; any other writer (a curator's edit) is caught by `refreshDirtyCards`, which a read runs
+ * when its own statement found a dirty card (`readCards`), then reads again.
  */
 import { and, asc, desc, eq, inArray, isNull, notInArray, sql, type SQL } from 'drizzle-orm';
 import { cardDirty, converterCards, converters, listings } from '../db/schema';
 import { buildEntries, revisionsFor, type Db, type Viewpoint } from './catalogue-entries';
-import { currentOffers, loadRates } from './offers';
+import { currentOffers, loadRates, rateDay, ratesSql } from './offers';
 import { BANDS, bandRank } from '../../components/bands';
 import { minorDigits } from '../../feeds/currency';
 import { convertMinor, REGION_CODES, REGION_CURRENCY, type RatesPerEur } from '../../pricing';
@@ -173,21 +173,8 @@ function inCurrency(
 	return { ...e, offers: e.offers.map(price), best: e.best ? price(e.best) : null };
 }
 
-/**
- * The SQL of the latest EUR-based rate per currency on or before `day` (loadRates in SQL), as a
- * JSON object { "USD": 1.08, ... }; EUR itself is 1.
- */
-function ratesJson(day: string): SQL {
-	return sql`(select jsonb_build_object('EUR', 1) || coalesce(jsonb_object_agg(trim(r.quote), r.rate::float8), '{}')
-		from (select distinct on (quote) quote, rate from exchange_rate
-			where base = 'EUR' and day <= ${day} order by quote, day desc) r)`;
-}
-
 /** One display currency's rate per EUR in SQL (null when there is none). */
-function rateOf(currency: string, day: string): SQL {
-	if (currency === 'EUR') return sql`1::float8`;
-	return sql`(select rate::float8 from exchange_rate where base = 'EUR' and quote = ${currency} and day <= ${day} order by day desc limit 1)`;
-}
+const rateOf = (currency: string, day: string): SQL => sql`(${ratesSql(day)} ->> ${currency})::float8`;
 
 /**
  * "Last checked" moves on every poll without changing a card: read fresh for the card's offers, as
@@ -223,7 +210,6 @@ function hydrate(rows: CardRow[], view: Viewpoint): CatalogueEntry[] {
 	return rows.flatMap((r) => (r.entry ? [inCurrency(r.entry, view.currency, r.rates, r.checked ?? {})] : []));
 }
 
-const today = () => new Date().toISOString().slice(0, 10);
 const dirtySql = sql<boolean>`exists (select 1 from card_dirty)`;
 
 /** ICU root collation: the order of String.localeCompare, whatever the cluster's locale. */
@@ -308,7 +294,7 @@ export async function loadCataloguePage(
 	filter: CatalogueFilter & { order?: CardOrder },
 	opts: { page?: number; pageSize: number }
 ): Promise<CataloguePage> {
-	const day = today();
+	const day = rateDay();
 	const where = whereFor(view, filter, day);
 	const size = opts.pageSize;
 	const asked = Math.max(1, opts.page ?? 1);
@@ -323,7 +309,7 @@ export async function loadCataloguePage(
 				from ${converterCards} where ${eq(converterCards.region, view.region)}),
 			ids as (select id, n from unnest(array(select ${converterCards.converterId} from ${converterCards} where ${where}
 					order by ${sql.join(order, sql`, `)} limit ${size}::int offset ${shownPage})) with ordinality as t(id, n))
-			select ${dirtySql} as dirty, ${ratesJson(day)} as rates, counts.total, counts.matching,
+			select ${dirtySql} as dirty, ${ratesSql(day)} as rates, counts.total, counts.matching,
 				${converterCards.entry} as entry, ${checkedJson} as checked
 			from counts left join ids on true
 				left join ${converterCards} on ${converterCards.region} = ${view.region} and ${converterCards.converterId} = ids.id
@@ -346,14 +332,14 @@ export async function loadCataloguePage(
 /** Some converters' entries for a viewpoint, in the order asked (missing or retired ones left out), in one statement. */
 export async function loadEntries(db: Db, view: Viewpoint, ids: number[]): Promise<CatalogueEntry[]> {
 	if (!ids.length) return [];
-	const day = today();
+	const day = rateDay();
 	type Row = CardRow & { id: number | null };
 	const rows = await readCards(db, async () => {
 		const result = await db.execute(sql`
 			with cards as (select ${converterCards.converterId} as id, ${converterCards.entry} as entry, ${checkedJson} as checked
 				from ${converterCards}
 				where ${converterCards.region} = ${view.region} and ${converterCards.converterId} = any(${`{${ids.map((id) => Math.trunc(id)).join(',')}}`}::int[]))
-			select ${dirtySql} as dirty, ${ratesJson(day)} as rates, cards.id, cards.entry, cards.checked
+			select ${dirtySql} as dirty, ${ratesSql(day)} as rates, cards.id, cards.entry, cards.checked
 			from (select 1) one left join cards on true`);
 		return result as unknown as Row[];
 	});
