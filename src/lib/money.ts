@@ -75,19 +75,16 @@ export function formatMinor(minor: number, currency: string): string {
 	return `${minor < 0 ? '-' : ''}${s.slice(0, -digits)}.${s.slice(-digits)}`;
 }
 
-/** Minor units for people, grouped, with the code: "12.90 EUR", "3,480 JPY". */
+/**
+ * Minor units for people, grouped, with the code: "12.90 EUR", "3,480 JPY". Written with string
+ * operations on whole minor units (rounded half away from zero, as Intl's default) rather than
+ * Intl.NumberFormat, whose first construction in a browser tab loads locale data and blocks the
+ * main thread for a noticeable time on a slow phone; tests/unit/money.test.ts checks it against
+ * Intl.NumberFormat('en-GB').
+ */
 export function formatMoney(amountMinor: number, currency: string): string {
-	const digits = minorDigits(currency);
-	return `${grouping(digits).format(amountMinor / 10 ** digits)} ${currency}`;
-}
-
-/** One formatter per number of decimals: toLocaleString builds a new one on every call, a page prices hundreds. */
-const formatters = new Map<number, Intl.NumberFormat>();
-function grouping(digits: number): Intl.NumberFormat {
-	let f = formatters.get(digits);
-	if (!f) {
-		f = new Intl.NumberFormat('en-GB', { minimumFractionDigits: digits, maximumFractionDigits: digits });
-		formatters.set(digits, f);
-	}
-	return f;
+	const rounded = Math.round(Math.abs(amountMinor));
+	const [whole, fraction] = formatMinor(rounded, currency).split('.');
+	const grouped = whole.replace(/\B(?=(\d{3})+$)/g, ',');
+	return `${amountMinor < 0 && rounded !== 0 ? '-' : ''}${grouped}${fraction ? `.${fraction}` : ''} ${currency}`;
 }

@@ -4,6 +4,7 @@
  * Intl.NumberFormat's currency data (CLDR, following ISO 4217) is the independent cross-check.
  */
 import { describe, expect, it } from 'vitest';
+import fc from 'fast-check';
 import {
 	fitsMinorUnits,
 	formatMinor,
@@ -67,5 +68,27 @@ describe('converting and formatting', () => {
 		expect(formatMoney(123456, 'EUR')).toBe('1,234.56 EUR');
 		expect(formatMoney(3480, 'JPY')).toBe('3,480 JPY');
 		expect(formatMoney(1250, 'KWD')).toBe('1.250 KWD');
+		expect(formatMoney(-123456789, 'USD')).toBe('-1,234,567.89 USD');
+		expect(formatMoney(0, 'EUR')).toBe('0.00 EUR');
+	});
+
+	// Reference: ECMA-402 Intl.NumberFormat with the en-GB locale (CLDR grouping "#,##0", half-expand
+	// rounding), the formatter formatMoney replaced. Amounts are whole or fractional minor units.
+	it('groups and rounds as Intl.NumberFormat en-GB does', () => {
+		fc.assert(
+			fc.property(
+				fc.oneof(fc.integer({ min: -1e12, max: 1e12 }), fc.double({ min: -1e9, max: 1e9, noNaN: true })),
+				fc.constantFrom(...Object.keys(MINOR_UNITS)),
+				(minor, currency) => {
+					const digits = minorDigits(currency);
+					// half-expand on the minor units themselves, so a binary fraction cannot tip the reference
+					const whole = Math.sign(minor) * Math.round(Math.abs(minor));
+					const intl = new Intl.NumberFormat('en-GB', { minimumFractionDigits: digits, maximumFractionDigits: digits });
+					const expected = `${intl.format(whole / 10 ** digits)} ${currency}`.replace(/^-(0(\.0+)?) /, '$1 ');
+					expect(formatMoney(minor, currency)).toBe(expected);
+				}
+			),
+			{ numRuns: 2000 }
+		);
 	});
 });
