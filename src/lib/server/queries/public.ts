@@ -69,6 +69,31 @@ export interface PublicRevision extends CatalogueRevision {
 	gradeHistory: Array<{ kind: 'measured' | 'expected'; band: Band | null; detail: string; at: string }>;
 }
 
+/**
+ * A revision as the converter page sends it to the browser: the run its grade comes from in full
+ * (chart, step table, what-if), every run as its one line in the runs list (setup and band mark),
+ * without the other runs' readings and reports that the page never shows.
+ */
+export interface PageRevision extends Omit<PublicRevision, 'runsDetail' | 'medianRun'> {
+	median: PublicBenchRun | null;
+	runLines: Array<
+		Omit<PublicBenchRun, 'input' | 'report'> & {
+			mark: Pick<LevelReport, 'band' | 'worstDeviationIre' | 'failReasons'>;
+		}
+	>;
+}
+
+export function pageRevision({ runsDetail, medianRun, ...rest }: PublicRevision): PageRevision {
+	return {
+		...rest,
+		median: medianRun !== null ? runsDetail[medianRun] : null,
+		runLines: runsDetail.map(({ input: _input, report, ...run }) => ({
+			...run,
+			mark: { band: report.band, worstDeviationIre: report.worstDeviationIre, failReasons: report.failReasons }
+		}))
+	};
+}
+
 export interface PublicListing extends CatalogueOffer {
 	shipsTo: Region[];
 	servesViewer: boolean;

@@ -1,7 +1,7 @@
 import { error } from '@sveltejs/kit';
 import { db } from '$lib/server/db';
 import { listWatches } from '$lib/server/alerts/watches';
-import { loadConverterDetail } from '$lib/server/queries/public';
+import { loadConverterDetail, pageRevision } from '$lib/server/queries/public';
 import { listingFigures } from '$lib/server/queries/history';
 import { listingNotes } from '$lib/server/queries/shops';
 import { catalogueParams, parseLenient, searchObject, viewpoint } from '$lib/server/queries/public-params';
@@ -37,7 +37,7 @@ export const load: PageServerLoad = async ({ params, url, cookies, request, loca
 	);
 	return {
 		view,
-		detail,
+		detail: { ...detail, revisions: detail.revisions.map(pageRevision) },
 		figures: d90,
 		notes: Object.fromEntries(
 			[...notes].map(([id, n]) => [id, { outlook: n.outlook.text, shopSlug: n.shop.slug, shopLine: n.shop.line }])
