@@ -8,7 +8,12 @@ const HOME_CARDS = 12;
 
 export const load: PageServerLoad = async ({ cookies, request }) => {
 	const view = viewpoint({}, cookies, request.headers.get('accept-language'));
-	const { entries, total } = await loadCataloguePage(db, view, { sort: 'band' }, { pageSize: HOME_CARDS });
+	const { entries, total } = await loadCataloguePage(
+		db,
+		view,
+		{ sort: 'band' },
+		{ pageSize: HOME_CARDS, lastChecked: false }
+	);
 	return {
 		total,
 		converters: entries.map((e) => ({

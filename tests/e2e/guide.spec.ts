@@ -104,9 +104,12 @@ test.describe('converter page', () => {
 		await revB.getByRole('button', { name: 'Deviation' }).click();
 		await expect(revB.getByRole('button', { name: 'Deviation' })).toHaveAttribute('aria-pressed', 'true');
 
-		// Step table: 11 steps with mV, deviation and dE00.
+		// Step table: 11 steps with mV, deviation and dE00, built when opened (nothing to hydrate at load).
+		await expect(revB.getByTestId('step-table')).toHaveCount(0);
 		await revB.getByText('Step table').click();
 		await expect(revB.getByTestId('step-table').locator('tbody tr')).toHaveCount(11);
+		await revB.getByText(/^Bench runs/).click();
+		await expect(revB.getByTestId('bench-runs').locator('li')).toHaveCount(2);
 
 		// What-if re-analyses in the browser: a +5 IRE lift changes the predicted readings.
 		await revB.getByText('What if the source changed its levels?').click();
@@ -141,6 +144,18 @@ test.describe('converter page', () => {
 		// Signed out: the watch button is a sign-in link that comes back here.
 		const watch = page.locator('[data-converter-slug=brisling-scanlet]');
 		await expect(watch).toHaveAttribute('href', '/signin?next=%2Fconverters%2Fbrisling-scanlet');
+	});
+
+	test('without JavaScript the closed sections still hold their content', async ({ browser }) => {
+		const context = await browser.newContext({ javaScriptEnabled: false });
+		const page = await context.newPage();
+		await page.goto('/converters/brisling-scanlet');
+		const revB = page.locator('[data-testid=revision][data-revision=B]');
+		await revB.getByText('Step table').click();
+		await expect(revB.getByTestId('step-table').locator('tbody tr')).toHaveCount(11);
+		await revB.getByText(/^Bench runs/).click();
+		await expect(revB.getByTestId('bench-runs').locator('li')).toHaveCount(2);
+		await context.close();
 	});
 
 	test('an unknown or malformed slug is a 404', async ({ page }) => {

@@ -24,7 +24,8 @@ export const load: PageServerLoad = async ({ url, cookies, request }) => {
 	const view = viewpoint(params, cookies, request.headers.get('accept-language'));
 	const found = await loadCataloguePage(db, view, toCatalogueFilter(params, view.currency), {
 		page: params.page,
-		pageSize: PAGE_SIZE
+		pageSize: PAGE_SIZE,
+		lastChecked: false
 	});
 	// Cards show the best offer only: the region's other listings stay off the page's data.
 	const converters = found.entries.map((e) => ({ ...e, offers: [] }));

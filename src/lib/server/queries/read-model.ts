@@ -177,21 +177,23 @@ function inCurrency(
 const rateOf = (currency: string, day: string): SQL => sql`(${ratesSql(day)} ->> ${currency})::float8`;
 
 /**
- * "Last checked" moves on every poll without changing a card: read fresh for the card's offers, as
- * { listingId: ISO time } (the format of Date.toISOString, so pages show what they showed before).
+ * "Last checked" moves on every poll without changing a card: read fresh for the offers of the
+ * cards a statement returns (`cards`: a relation with an `entry` column), once per statement, as
+ * { listingId: epoch milliseconds }.
  */
-const checkedJson = sql`(select coalesce(jsonb_object_agg(ls.listing_id::text,
-		to_char(date_trunc('milliseconds', ls.last_checked_at) at time zone 'UTC', 'YYYY-MM-DD"T"HH24:MI:SS.MS"Z"')), '{}')
+const checkedFor = (cards: SQL) => sql`(select coalesce(jsonb_object_agg(ls.listing_id::text,
+		floor(extract(epoch from ls.last_checked_at) * 1000)::bigint), '{}')
 	from listing_state ls
 	where ls.last_checked_at is not null and ls.listing_id = any(array(
-		select (o ->> 'listingId')::int from jsonb_array_elements(${converterCards.entry} -> 'offers') o
-		union all select (${converterCards.entry} -> 'best' ->> 'listingId')::int)))`;
+		select (o ->> 'listingId')::int from ${cards} c, jsonb_array_elements(c.entry -> 'offers') o
+		union all select (c.entry -> 'best' ->> 'listingId')::int from ${cards} c)))`;
 
 interface CardRow {
 	dirty: boolean;
 	rates: RatesPerEur;
 	entry: CatalogueEntry | null;
-	checked: Record<string, string> | null;
+	/** On the first row only: { listingId: epoch ms } for every offer of the rows' cards. */
+	checked: Record<string, number> | null;
 }
 
 /**
@@ -207,7 +209,10 @@ async function readCards<T extends CardRow>(db: Db, read: () => Promise<T[]>): P
 }
 
 function hydrate(rows: CardRow[], view: Viewpoint): CatalogueEntry[] {
-	return rows.flatMap((r) => (r.entry ? [inCurrency(r.entry, view.currency, r.rates, r.checked ?? {})] : []));
+	const checked = Object.fromEntries(
+		Object.entries(rows[0]?.checked ?? {}).map(([id, ms]) => [id, new Date(ms).toISOString()])
+	);
+	return rows.flatMap((r) => (r.entry ? [inCurrency(r.entry, view.currency, r.rates, checked)] : []));
 }
 
 const dirtySql = sql<boolean>`exists (select 1 from card_dirty)`;
@@ -285,14 +290,19 @@ export interface CataloguePage {
 
 /**
  * One page of the catalogue for a viewpoint: filter, order and page in SQL over the region's
- * cards, in one statement whatever the catalogue's size (counts, the page's cards with their
- * offers' last-checked times, the rates and the dirty probe); a page past the last one shows the last.
+ * cards, in one statement whatever the catalogue's size (counts, the page's cards, their offers'
+ * last-checked times, the rates and the dirty probe); a page past the last one shows the last.
  */
 export async function loadCataloguePage(
 	db: Db,
 	view: Viewpoint,
 	filter: CatalogueFilter & { order?: CardOrder },
-	opts: { page?: number; pageSize: number }
+	opts: {
+		page?: number;
+		pageSize: number;
+		/** false: offers keep the last-checked time of the card's build (pages that do not show it skip the read). */
+		lastChecked?: boolean;
+	}
 ): Promise<CataloguePage> {
 	const day = rateDay();
 	const where = whereFor(view, filter, day);
@@ -308,12 +318,13 @@ export async function loadCataloguePage(
 			with counts as (select count(*)::int as total, (count(*) filter (where ${where}))::int as matching
 				from ${converterCards} where ${eq(converterCards.region, view.region)}),
 			ids as (select id, n from unnest(array(select ${converterCards.converterId} from ${converterCards} where ${where}
-					order by ${sql.join(order, sql`, `)} limit ${size}::int offset ${shownPage})) with ordinality as t(id, n))
-			select ${dirtySql} as dirty, ${ratesSql(day)} as rates, counts.total, counts.matching,
-				${converterCards.entry} as entry, ${checkedJson} as checked
-			from counts left join ids on true
-				left join ${converterCards} on ${converterCards.region} = ${view.region} and ${converterCards.converterId} = ids.id
-			order by ids.n`);
+					order by ${sql.join(order, sql`, `)} limit ${size}::int offset ${shownPage})) with ordinality as t(id, n)),
+			page as (select ids.n, ${converterCards.entry} as entry from ids
+				join ${converterCards} on ${converterCards.region} = ${view.region} and ${converterCards.converterId} = ids.id)
+			select ${dirtySql} as dirty, ${ratesSql(day)} as rates, counts.total, counts.matching, page.entry,
+				${opts.lastChecked === false ? sql`null` : sql`case when page.n = (select min(n) from page) then ${checkedFor(sql`page`)} end`} as checked
+			from counts left join page on true
+			order by page.n`);
 		return result as unknown as Row[];
 	});
 	const total = rows[0]?.total ?? 0;
@@ -336,10 +347,10 @@ export async function loadEntries(db: Db, view: Viewpoint, ids: number[]): Promi
 	type Row = CardRow & { id: number | null };
 	const rows = await readCards(db, async () => {
 		const result = await db.execute(sql`
-			with cards as (select ${converterCards.converterId} as id, ${converterCards.entry} as entry, ${checkedJson} as checked
+			with cards as (select ${converterCards.converterId} as id, ${converterCards.entry} as entry
 				from ${converterCards}
 				where ${converterCards.region} = ${view.region} and ${converterCards.converterId} = any(${`{${ids.map((id) => Math.trunc(id)).join(',')}}`}::int[]))
-			select ${dirtySql} as dirty, ${ratesSql(day)} as rates, cards.id, cards.entry, cards.checked
+			select ${dirtySql} as dirty, ${ratesSql(day)} as rates, cards.id, cards.entry, ${checkedFor(sql`cards`)} as checked
 			from (select 1) one left join cards on true`);
 		return result as unknown as Row[];
 	});
