@@ -223,25 +223,18 @@ export async function loadConverterDetail(
 		.from(converters)
 		.where(and(eq(converters.slug, slug), isNull(converters.retiredAt)));
 	if (!row) return null;
-	const [revs, offers, rates, [entry]] = await Promise.all([
+	// two rounds of reads at once (each only needs what the one before found), not one after another
+	const [revs, offers, rates, [entry], teardownRows] = await Promise.all([
 		revisionsFor(db, [row.id]),
 		currentOffers(db, [row.id]),
 		loadRates(db),
-		loadEntries(db, view, [row.id])
+		loadEntries(db, view, [row.id]),
+		verifiedTeardowns(db, { converterId: row.id })
 	]);
 	if (!entry) return null;
-	const runs = await runsFor(
-		db,
-		revs.map((r) => r.id)
-	);
-	const teardownRows = await verifiedTeardowns(db, { converterId: row.id });
-	const history = groupBy(
-		await gradeHistoryOf(
-			db,
-			revs.map((r) => r.id)
-		),
-		(h) => h.revisionId
-	);
+	const revisionIds = revs.map((r) => r.id);
+	const [runs, historyRows] = await Promise.all([runsFor(db, revisionIds), gradeHistoryOf(db, revisionIds)]);
+	const history = groupBy(historyRows, (h) => h.revisionId);
 	const teardowns: TeardownRow[] = teardownRows.map((t) => ({
 		id: t.id,
 		revisionCode: t.revision,
