@@ -86,9 +86,16 @@ test.describe('converter page', () => {
 	test('draws the level chart, shows findings, what-if, preview, listings and switches history range', async ({
 		page
 	}) => {
+		// Served as HTML with islands: no SvelteKit start script, only the theme switch and the islands' loader.
+		const loaded: string[] = [];
+		page.on('request', (r) => r.resourceType() === 'script' && loaded.push(new URL(r.url()).pathname));
 		await page.goto('/converters/brisling-scanlet');
 		await expect(page.getByRole('heading', { level: 1, name: 'Scanlet' })).toBeVisible();
 		await expect(page.getByTestId('last-reviewed')).not.toHaveText('never');
+		await page.waitForLoadState('networkidle');
+		expect(loaded.filter((p) => !p.startsWith('/_app/immutable/chunks/'))).toEqual(['/enhance.js', '/_app/islands.js']);
+		expect(loaded.length).toBeLessThanOrEqual(3); // and the module preload helper
+		expect(await page.locator('[data-island][data-mounted]').count()).toBe(0);
 		const revB = page.locator('[data-testid=revision][data-revision=B]');
 		await expect(revB.getByTestId('findings')).toContainText('Shadows too dark');
 		await expect(revB.getByTestId('run-count')).toContainText('Graded from 2 bench runs');
@@ -104,8 +111,8 @@ test.describe('converter page', () => {
 		await revB.getByRole('button', { name: 'Deviation' }).click();
 		await expect(revB.getByRole('button', { name: 'Deviation' })).toHaveAttribute('aria-pressed', 'true');
 
-		// Step table: 11 steps with mV, deviation and dE00, built when opened (nothing to hydrate at load).
-		await expect(revB.getByTestId('step-table')).toHaveCount(0);
+		// Step table: 11 steps with mV, deviation and dE00, in the page but closed until opened.
+		await expect(revB.getByTestId('step-table')).toBeHidden();
 		await revB.getByText('Step table').click();
 		await expect(revB.getByTestId('step-table').locator('tbody tr')).toHaveCount(11);
 		await revB.getByText(/^Bench runs/).click();

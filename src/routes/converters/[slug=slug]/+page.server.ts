@@ -7,6 +7,14 @@ import { listingNotes } from '$lib/server/queries/shops';
 import { catalogueParams, parseLenient, searchObject, viewpoint } from '$lib/server/queries/public-params';
 import type { PageServerLoad } from './$types';
 
+/**
+ * Served without the app's JavaScript, like the catalogue: hydrating the whole page cost a phone
+ * most of its blocking time, for a page that is mostly text and tables. Its live sections (the
+ * charts, the what-if, the picture preview, the watch button) are islands (src/lib/islands),
+ * and static/enhance.js runs the theme switch.
+ */
+export const csr = false;
+
 export const load: PageServerLoad = async ({ params, url, cookies, request, locals }) => {
 	const { data: p } = parseLenient(catalogueParams.pick({ region: true, currency: true }), searchObject(url));
 	const view = viewpoint(p, cookies, request.headers.get('accept-language'));
