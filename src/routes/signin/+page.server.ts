@@ -1,4 +1,4 @@
-import { redirect } from '@sveltejs/kit';
+import { isRedirect, redirect } from '@sveltejs/kit';
 import { z } from 'zod';
 import { authOrigin, signIn } from '$lib/server/auth/config';
 import { withForm } from '$lib/server/auth/forward';
@@ -45,6 +45,15 @@ export const actions: Actions = {
 		});
 		if (!res.ok) return res.failure;
 		// Auth.js reads providerId, email and redirectTo from the posted form.
-		await signIn(withForm(event, { providerId: 'nodemailer', email, redirectTo: next }, authOrigin));
+		try {
+			await signIn(withForm(event, { providerId: 'nodemailer', email, redirectTo: next }, authOrigin));
+		} catch (err) {
+			// Auth.js answers with its own /auth/verify-request, which only redirects to our check-inbox page
+			// (pages.verifyRequest). Going there at once keeps an enhanced form's navigation inside the app,
+			// where the detour was a failed client-side route and a second request.
+			if (isRedirect(err) && new URL(err.location, event.url).pathname.endsWith('/verify-request'))
+				redirect(303, '/signin/check-inbox');
+			throw err;
+		}
 	}
 };

@@ -1,5 +1,5 @@
 /** Reads the local fake SMTP inbox that `npm test` starts (fixtures/mail/server.ts). */
-import { expect, type Page } from '@playwright/test';
+import { expect, type ConsoleMessage, type Page } from '@playwright/test';
 
 const inboxUrl = () => process.env.INBOX_URL ?? 'http://127.0.0.1:4401';
 
@@ -36,8 +36,16 @@ export async function signIn(page: Page, email: string) {
 	const before = await lastMessageId(email);
 	await page.goto('/signin');
 	await page.getByLabel('E-mail address').fill(email);
+	// The enhanced form lands on our check-inbox page directly, with nothing logged as an error on the way.
+	const errors: string[] = [];
+	const onConsole = (m: ConsoleMessage) => m.type() === 'error' && errors.push(m.text());
+	const onError = (e: Error) => errors.push(e.message);
+	page.on('console', onConsole).on('pageerror', onError);
 	await page.getByRole('button', { name: /sign-in link/i }).click();
 	await expect(page.getByRole('heading', { name: 'Check your inbox' })).toBeVisible();
+	await expect(page).toHaveURL(/\/signin\/check-inbox$/);
+	page.off('console', onConsole).off('pageerror', onError);
+	expect(errors).toEqual([]);
 	const message = await waitForMessage(email, before);
 	expect(message.subject).toContain('sign-in link');
 	const link = message.text.match(/https?:\/\/\S+\/auth\/callback\/nodemailer\S*/)?.[0];
