@@ -155,6 +155,10 @@ describe('listing history', () => {
 		const h = (await listingHistory(w.db, dense, { range: '1y', now: NOW }))!;
 		expect(h.figures.d90).toEqual(windowFigures(year, new Date(NOW.getTime() - 90 * DAY), NOW));
 		expect(h.figures.d30).toEqual(windowFigures(year, new Date(NOW.getTime() - 30 * DAY), NOW));
+		// The converter page's figures, several listings in one statement, are the same ones.
+		const many = await listingFigures(w.db, [dense, listingId], NOW);
+		expect(many.get(dense)).toEqual(h.figures);
+		expect(many.get(listingId)).toEqual((await listingHistory(w.db, listingId, { now: NOW }))!.figures);
 	});
 
 	it('unknown listing: null', async () => {
