@@ -72,8 +72,6 @@ export interface CatalogueEntry {
 	bestBandReason?: string | null;
 	/** Best expected band over current revisions not yet measured (see leadExpected); never a measurement. */
 	expected: { band: Band; basis: string; deviationIre: number | null } | null;
-	/** Listings at shops serving the region, cheapest buyable first, then the rest. */
-	offers: CatalogueOffer[];
 	/** The cheapest buyable offer in the region (from pricing.bestOfferByConverter). */
 	best: CatalogueOffer | null;
 	/** Shops in the region with the converter in stock now. */

@@ -7,7 +7,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import postgres from 'postgres';
 import { drizzle } from 'drizzle-orm/postgres-js';
-import { and, eq, inArray, sql as dsql } from 'drizzle-orm';
+import { and, eq, sql as dsql } from 'drizzle-orm';
 import * as schema from '../../src/lib/server/db/schema';
 import { freshDatabase } from './helpers/db';
 import { loadBenchCatalogue } from '../../scripts/lib/bench-catalogue';
@@ -150,19 +150,18 @@ describe('public read model', () => {
 		120_000
 	);
 
-	it("reads every offer's last-checked time fresh, though a poll that changes nothing leaves the card alone", async () => {
+	it("reads the best offer's last-checked time fresh, though a poll that changes nothing leaves the card alone", async () => {
 		const view = { region: 'eu' as Region, currency: 'EUR' };
 		const [box] = await h.db.select().from(schema.converters).where(eq(schema.converters.slug, 'bench-box-11'));
 		const [entry] = await loadEntries(h.db, view, [box.id]);
-		const offers = [...entry.offers, entry.best!];
 		const at = new Date(Date.UTC(2031, 0, 2, 3, 4, 5, 678));
 		await h.db
 			.update(schema.listingStates)
 			.set({ lastCheckedAt: at })
-			.where(inArray(schema.listingStates.listingId, [...new Set(offers.map((o) => o.listingId))]));
+			.where(eq(schema.listingStates.listingId, entry.best!.listingId));
 
 		const [fresh] = await loadEntries(h.db, view, [box.id]);
-		expect([...fresh.offers, fresh.best!].map((o) => o.lastCheckedAt)).toEqual(offers.map(() => at.toISOString()));
+		expect(fresh.best!.lastCheckedAt).toBe(at.toISOString());
 		const page = await loadCataloguePage(h.db, view, { sort: 'name' }, { pageSize: 2000 });
 		const onPage = page.entries.find((e) => e.id === box.id)!;
 		expect(onPage.best!.lastCheckedAt).toBe(at.toISOString());

@@ -71,7 +71,6 @@ function entry(
 		bestBand: lead.band,
 		bestScore: lead.score,
 		expected: leadExpected(revisions),
-		offers: best ? [best] : [],
 		best,
 		inStockShops: price === null ? 0 : (o.inStock ?? 1)
 	};

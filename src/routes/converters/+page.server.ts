@@ -27,8 +27,6 @@ export const load: PageServerLoad = async ({ url, cookies, request }) => {
 		pageSize: PAGE_SIZE,
 		lastChecked: false
 	});
-	// Cards show the best offer only: the region's other listings stay off the page's data.
-	const converters = found.entries.map((e) => ({ ...e, offers: [] }));
 	return {
 		view,
 		params,
@@ -37,6 +35,6 @@ export const load: PageServerLoad = async ({ url, cookies, request }) => {
 		matching: found.matching,
 		page: found.page,
 		pages: found.pages,
-		converters
+		converters: found.entries
 	};
 };

@@ -16,7 +16,6 @@ import {
 import {
 	bestOfferByConverter,
 	convertMinor,
-	isBuyable,
 	servesRegion,
 	type CurrentOffer,
 	type PricedOffer,
@@ -140,13 +139,6 @@ export function buildEntries(
 		const lead = leadGrade(revisionsOf);
 		const inRegion = (offersBy.get(c.id) ?? []).filter((o) => servesRegion(o, view.region));
 		const bestOffer = best.get(c.id);
-		const priced = inRegion
-			.map((o) => toOffer(o, view.currency, rates))
-			.sort(
-				(a, b) =>
-					Number(isBuyable(b.stock)) - Number(isBuyable(a.stock)) ||
-					(a.displayMinor ?? Infinity) - (b.displayMinor ?? Infinity)
-			);
 		return {
 			id: c.id,
 			slug: c.slug,
@@ -163,7 +155,6 @@ export function buildEntries(
 			bestDeviationIre: lead.deviationIre,
 			bestBandReason: lead.reason,
 			expected: leadExpected(revisionsOf),
-			offers: priced,
 			best: bestOffer ? toOffer(bestOffer, view.currency, rates) : null,
 			inStockShops: new Set(inRegion.filter((o) => o.stock === 'in_stock').map((o) => o.shopSlug)).size
 		};

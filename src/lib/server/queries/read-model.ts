@@ -170,29 +170,28 @@ function inCurrency(
 		displayCurrency: currency,
 		lastCheckedAt: checked[o.listingId] ?? o.lastCheckedAt
 	});
-	return { ...e, offers: e.offers.map(price), best: e.best ? price(e.best) : null };
+	return { ...e, best: e.best ? price(e.best) : null };
 }
 
 /** One display currency's rate per EUR in SQL (null when there is none). */
 const rateOf = (currency: string, day: string): SQL => sql`(${ratesSql(day)} ->> ${currency})::float8`;
 
 /**
- * "Last checked" moves on every poll without changing a card: read fresh for the offers of the
- * cards a statement returns (`cards`: a relation with an `entry` column), once per statement, as
- * { listingId: epoch milliseconds }.
+ * "Last checked" moves on every poll without changing a card: read fresh for the best offers of
+ * the cards a statement returns (`cards`: a relation with an `entry` column), once per statement,
+ * as { listingId: epoch milliseconds }.
  */
 const checkedFor = (cards: SQL) => sql`(select coalesce(jsonb_object_agg(ls.listing_id::text,
 		floor(extract(epoch from ls.last_checked_at) * 1000)::bigint), '{}')
 	from listing_state ls
 	where ls.last_checked_at is not null and ls.listing_id = any(array(
-		select (o ->> 'listingId')::int from ${cards} c, jsonb_array_elements(c.entry -> 'offers') o
-		union all select (c.entry -> 'best' ->> 'listingId')::int from ${cards} c)))`;
+		select (c.entry -> 'best' ->> 'listingId')::int from ${cards} c)))`;
 
 interface CardRow {
 	dirty: boolean;
 	rates: RatesPerEur;
 	entry: CatalogueEntry | null;
-	/** On the first row only: { listingId: epoch ms } for every offer of the rows' cards. */
+	/** On the first row only: { listingId: epoch ms } for the best offer of each of the rows' cards. */
 	checked: Record<string, number> | null;
 }
 
@@ -290,7 +289,7 @@ export interface CataloguePage {
 
 /**
  * One page of the catalogue for a viewpoint: filter, order and page in SQL over the region's
- * cards, in one statement whatever the catalogue's size (counts, the page's cards, their offers'
+ * cards, in one statement whatever the catalogue's size (counts, the page's cards, their best offers'
  * last-checked times, the rates and the dirty probe); a page past the last one shows the last.
  */
 export async function loadCataloguePage(
@@ -300,7 +299,7 @@ export async function loadCataloguePage(
 	opts: {
 		page?: number;
 		pageSize: number;
-		/** false: offers keep the last-checked time of the card's build (pages that do not show it skip the read). */
+		/** false: best offers keep the last-checked time of the card's build (pages that do not show it skip the read). */
 		lastChecked?: boolean;
 	}
 ): Promise<CataloguePage> {
