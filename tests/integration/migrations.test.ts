@@ -1,3 +1,4 @@
+import { readFileSync } from 'node:fs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import postgres from 'postgres';
 import { applyMigrations } from '../../src/lib/server/db/migrate';
@@ -72,6 +73,19 @@ describe('migrations', () => {
 		);
 		await sql`insert into bench_reading values (${run.id}, 10, 70, 70, 70)`;
 		await expect(sql`insert into bench_reading values (${run.id}, 10, 71, 71, 71)`).rejects.toThrow(/duplicate key/);
+	});
+
+	it('0010 strips the offer list from card entries stored before it, and keeps the best offer', async () => {
+		const [conv] = await sql`insert into converter (slug, brand, model) values ('x-card', 'X', 'Card') returning id`;
+		const best = { listingId: 7, stock: 'in_stock', priceMinor: 1999, currency: 'EUR' };
+		const entry = { id: conv.id, slug: 'x-card', best, offers: [best, { ...best, listingId: 8 }], inStockShops: 1 };
+		await sql`insert into converter_card (region, converter_id, slug, brand, model, has_audio_out, power,
+				band_rank, score, buyable, in_stock_shops, entry)
+			values ('eu', ${conv.id}, 'x-card', 'X', 'Card', true, 'usb-bus', 0, 90, 0, 1, ${sql.json(entry)})`;
+		await sql.unsafe(readFileSync('drizzle/0010_card_entry_without_offers.sql', 'utf8'));
+		const [card] = await sql`select entry from converter_card where converter_id = ${conv.id}`;
+		const { offers: _dropped, ...kept } = entry;
+		expect(card.entry).toEqual(kept);
 	});
 
 	it('reject a stock state or band outside the enums', async () => {
