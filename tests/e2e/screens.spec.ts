@@ -7,7 +7,7 @@
 import { expect, test } from '@playwright/test';
 import { mkdirSync } from 'node:fs';
 import { resolve } from 'node:path';
-import { SCREENS, expectNoSidewaysScroll } from './support/guide-pages';
+import { SCREENS, captureFullPage, expectNoSidewaysScroll } from './support/guide-pages';
 import { SCREEN_PAGES } from './support/public-pages';
 
 const OUT = resolve(SCREENS, 'all');
@@ -40,7 +40,7 @@ for (const theme of ['light', 'dark'] as const) {
 						window.scrollTo(0, 0);
 					});
 					await page.waitForLoadState('networkidle');
-					await page.screenshot({ path: resolve(OUT, `${name}-${width}-${theme}.png`), fullPage: true });
+					await captureFullPage(page, resolve(OUT, `${name}-${width}-${theme}.png`));
 				}
 			});
 		});

@@ -1,6 +1,6 @@
 /** Page helpers for the public guide journeys: canvas checks, axe, screenshots. */
 import AxeBuilder from '@axe-core/playwright';
-import { expect, type Locator, type Page } from '@playwright/test';
+import { errors, expect, type Locator, type Page } from '@playwright/test';
 import { mkdirSync } from 'node:fs';
 import { resolve } from 'node:path';
 
@@ -48,7 +48,26 @@ export async function expectAccessible(page: Page, label: string) {
 
 export async function screenshot(page: Page, name: string) {
 	mkdirSync(SCREENS, { recursive: true });
-	await page.screenshot({ path: resolve(SCREENS, `${name}.png`), fullPage: true });
+	await captureFullPage(page, resolve(SCREENS, `${name}.png`));
+}
+
+/**
+ * A full-page screenshot for a person to look at. Headless Chromium now and then never delivers
+ * the frame for a full-page capture (seen once in many runs, on a page that had drawn fine;
+ * microsoft/playwright#28995 reports the same hang), which used to hold a test until its
+ * timeout. A capture gets 30 s; after that the page is loaded again and captured once more, so a
+ * page that really cannot be drawn still fails.
+ */
+export async function captureFullPage(page: Page, path: string) {
+	try {
+		await page.screenshot({ path, fullPage: true, timeout: 30_000 });
+	} catch (err) {
+		if (!(err instanceof errors.TimeoutError)) throw err;
+		console.warn(`full-page capture of ${page.url()} timed out; loading the page again`);
+		await page.reload();
+		await page.waitForLoadState('networkidle');
+		await page.screenshot({ path, fullPage: true, timeout: 60_000 });
+	}
 }
 
 /** The page fits the viewport width (no sideways scrolling on a phone). */
