@@ -6,7 +6,7 @@
  */
 import { BANDS, bandRank, type Band } from './components/bands';
 import { POWER_KINDS, type PowerKind } from './enums';
-import { formatMoney, isBuyable, REGION_CODES, REGION_LABELS, type Region, type StockState } from './pricing';
+import { formatMoney, REGION_CODES, REGION_LABELS, type Region, type StockState } from './pricing';
 
 export { POWER_KINDS, type PowerKind };
 export const POWER_LABELS: Record<PowerKind, string> = {
@@ -317,11 +317,6 @@ export function rankFinder(entries: CatalogueEntry[], input: FinderInput): Finde
 		explanation: explainEntry(entry, input.region, input.includeExpected),
 		notes: notesFor(entry, input.minBand)
 	}));
-}
-
-/** Offers a visitor can order now (pricing's rule: in stock or pre-order). */
-export function orderable(offers: CatalogueOffer[]): CatalogueOffer[] {
-	return offers.filter((o) => isBuyable(o.stock));
 }
 
 export { BANDS, REGION_CODES };
