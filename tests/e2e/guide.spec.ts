@@ -99,6 +99,10 @@ test.describe('converter page', () => {
 		]);
 		expect(loaded.length).toBeLessThanOrEqual(3); // and the module preload helper
 		expect(await page.locator('[data-island][data-mounted]').count()).toBe(0);
+		// Nothing hydrates, so the page's data is rendered and never serialized (src/lib/render-only.ts).
+		const pageData = await page.request.get('/converters/brisling-scanlet/__data.json');
+		expect(pageData.status()).toBe(200);
+		expect(await pageData.text()).not.toContain('Scanlet');
 		const revB = page.locator('[data-testid=revision][data-revision=B]');
 		await expect(revB.getByTestId('findings')).toContainText('Shadows too dark');
 		await expect(revB.getByTestId('run-count')).toContainText('Graded from 2 bench runs');

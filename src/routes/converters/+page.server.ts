@@ -1,4 +1,5 @@
 import { db } from '$lib/server/db';
+import { renderOnly } from '$lib/render-only';
 import { loadCataloguePage } from '$lib/server/queries/read-model';
 import {
 	catalogueParams,
@@ -27,7 +28,7 @@ export const load: PageServerLoad = async ({ url, cookies, request }) => {
 		pageSize: PAGE_SIZE,
 		lastChecked: false
 	});
-	return {
+	return renderOnly({
 		view,
 		params,
 		issues,
@@ -36,5 +37,5 @@ export const load: PageServerLoad = async ({ url, cookies, request }) => {
 		page: found.page,
 		pages: found.pages,
 		converters: found.entries
-	};
+	});
 };

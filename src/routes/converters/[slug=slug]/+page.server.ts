@@ -4,6 +4,7 @@ import { listWatches } from '$lib/server/alerts/watches';
 import { loadConverterDetail, pageRevision } from '$lib/server/queries/public';
 import { listingFigures } from '$lib/server/queries/history';
 import { listingNotes } from '$lib/server/queries/shops';
+import { renderOnly } from '$lib/render-only';
 import { catalogueParams, parseLenient, searchObject, viewpoint } from '$lib/server/queries/public-params';
 import type { PageServerLoad } from './$types';
 
@@ -43,7 +44,7 @@ export const load: PageServerLoad = async ({ params, url, cookies, request, loca
 			}
 		])
 	);
-	return {
+	return renderOnly({
 		view,
 		detail: { ...detail, revisions: detail.revisions.map(pageRevision) },
 		figures: d90,
@@ -52,5 +53,5 @@ export const load: PageServerLoad = async ({ params, url, cookies, request, loca
 		),
 		signedIn: locals.user !== null,
 		watchId: watches.find((w) => w.converterSlug === params.slug)?.id ?? null
-	};
+	});
 };
