@@ -15,7 +15,8 @@ import {
 	windowFigures,
 	type ChangePoint
 } from '../../src/lib/server/queries/history';
-import { shopHealth } from '../../src/lib/server/queries/shops';
+import { listingOutlooks, shopHealth } from '../../src/lib/server/queries/shops';
+import { restockOutlook } from '../../src/lib/restock';
 import { createWorld, setSpacing, type World } from './poller-helpers';
 import { LISTINGS } from '../../src/lib/demo/scenario';
 
@@ -159,6 +160,18 @@ describe('listing history', () => {
 		const many = await listingFigures(w.db, [dense, listingId], NOW);
 		expect(many.get(dense)).toEqual(h.figures);
 		expect(many.get(listingId)).toEqual((await listingHistory(w.db, listingId, { now: NOW }))!.figures);
+
+		// Restock outlooks read only the stock turns (SQL) and come out as over the whole year in memory,
+		// with price-only changes and 'unknown' readings left out; a delisting ends the history.
+		const outlook = (await listingOutlooks(w.db, [dense, listingId], NOW)).get(dense)!;
+		expect(outlook.restock.spells).toBeGreaterThan(100);
+		expect(outlook).toEqual(restockOutlook(year, NOW));
+		await w.db
+			.update(listings)
+			.set({ delistedAt: at(30) })
+			.where(eq(listings.id, dense));
+		expect((await listingOutlooks(w.db, [dense], NOW)).get(dense)).toEqual(restockOutlook(year, at(30)));
+		await w.db.update(listings).set({ delistedAt: null }).where(eq(listings.id, dense));
 	});
 
 	it('unknown listing: null', async () => {

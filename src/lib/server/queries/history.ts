@@ -15,9 +15,9 @@
  *   next sell-out; the typical duration is the median of spells that ENDED in the window (open ones
  *   are not yet measurable).
  */
-import { asc, eq, inArray, sql } from 'drizzle-orm';
+import { eq, sql } from 'drizzle-orm';
 import type { Database } from '../db/client';
-import { listingStates, listings, observations, shops, type PollOutcome, type StockState } from '../db/schema';
+import { listingStates, listings, shops, type PollOutcome, type StockState } from '../db/schema';
 import {
 	bestOfferByConverter,
 	isBuyable,
@@ -29,6 +29,8 @@ import {
 import { currentOffers, loadRates } from './offers';
 
 const DAY = 86_400_000;
+/** The longest window of a listing's figures (30 and 90 days). */
+const FIGURE_DAYS = 90;
 
 export interface ChangePoint {
 	at: Date;
@@ -213,25 +215,6 @@ export interface ListingHistory {
 }
 
 /** A listing's change points (all of them, oldest first). */
-async function loadPoints(db: Database, listingIds: number[]): Promise<Map<number, ChangePoint[]>> {
-	const rows = listingIds.length
-		? await db
-				.select({
-					listingId: observations.listingId,
-					at: observations.observedAt,
-					priceMinor: observations.priceMinor,
-					currency: observations.currency,
-					stock: observations.stock
-				})
-				.from(observations)
-				.where(inArray(observations.listingId, listingIds))
-				.orderBy(asc(observations.listingId), asc(observations.observedAt), asc(observations.id))
-		: [];
-	const out = new Map<number, ChangePoint[]>(listingIds.map((id) => [id, []]));
-	for (const { listingId, ...p } of rows) out.get(listingId)!.push(p);
-	return out;
-}
-
 type PointRow = { at: Date | string; price_minor: number | null; currency: string | null; stock: StockState };
 const toPoint = (r: PointRow): ChangePoint => ({
 	at: new Date(r.at),
@@ -241,34 +224,49 @@ const toPoint = (r: PointRow): ChangePoint => ({
 });
 
 /**
- * The change points windowFigures needs for windows ending at `to` and starting no earlier than
- * `from`: those in [from, to] and four from before `from`: the state carried in, the last known
- * stock state, the last known not-buyable state and the restock that followed it (a spell running
- * at `from` started there). Older points change no figure, so a year of history costs no more
- * rows than the window holds.
+ * The change points windowFigures needs for windows of up to FIGURE_DAYS ending at each listing's
+ * `to` (now, or its delisting if that came first), for several listings in one statement: those in
+ * [to - FIGURE_DAYS, to] and four from before: the state carried in, the last known stock state,
+ * the last known not-buyable state and the restock that followed it (a spell running at the window's
+ * start started there). Older points change no figure, so a year of history costs no more rows than
+ * the window holds.
  */
-async function figurePoints(db: Database, listingId: number, from: Date, to: Date): Promise<ChangePoint[]> {
+async function figurePoints(
+	db: Database,
+	listingIds: number[],
+	now: Date
+): Promise<Map<number, { to: Date; points: ChangePoint[] }>> {
+	const out = new Map<number, { to: Date; points: ChangePoint[] }>();
+	if (!listingIds.length) return out;
 	const rows = (await db.execute(sql`
-		with before as (
-			select id, observed_at, stock from observation where listing_id = ${listingId} and observed_at < ${from.toISOString()}::timestamptz
-		), last_down as (
-			select id, observed_at from before
-			where stock not in ('in_stock', 'preorder', 'unknown') order by observed_at desc, id desc limit 1
-		)
-		select observed_at as at, price_minor, currency, stock from observation
-		where listing_id = ${listingId} and observed_at <= ${to.toISOString()}::timestamptz and (
-			observed_at >= ${from.toISOString()}::timestamptz
-			or id = (select id from before order by observed_at desc, id desc limit 1)
-			or id = (select id from before where stock <> 'unknown' order by observed_at desc, id desc limit 1)
-			or id = (select id from last_down)
-			or id = (
-				select b.id from before b
-				where b.stock in ('in_stock', 'preorder') and b.observed_at >= coalesce((select observed_at from last_down), '-infinity')
-				order by b.observed_at, b.id limit 1
-			)
-		)
-		order by observed_at, id`)) as unknown as PointRow[];
-	return rows.map(toPoint);
+		with w as materialized (
+			select l.id, s.upto, s.since, down.id as down,
+				(select b.id from observation b where b.listing_id = l.id and b.observed_at < s.since
+					order by b.observed_at desc, b.id desc limit 1) as carried,
+				(select b.id from observation b where b.listing_id = l.id and b.observed_at < s.since and b.stock <> 'unknown'
+					order by b.observed_at desc, b.id desc limit 1) as known,
+				(select b.id from observation b where b.listing_id = l.id and b.observed_at < s.since
+					and b.stock in ('in_stock', 'preorder') and b.observed_at >= coalesce(down.observed_at, '-infinity')
+					order by b.observed_at, b.id limit 1) as restock
+			from listing l
+			cross join lateral (select u.upto, u.upto - make_interval(days => ${FIGURE_DAYS}) as since
+				from (select least(coalesce(l.delisted_at, ${now.toISOString()}::timestamptz), ${now.toISOString()}::timestamptz) as upto) u) s
+			left join lateral (select b.id, b.observed_at from observation b
+				where b.listing_id = l.id and b.observed_at < s.since and b.stock not in ('in_stock', 'preorder', 'unknown')
+				order by b.observed_at desc, b.id desc limit 1) down on true
+			where l.id = any(${`{${listingIds.map((id) => Math.trunc(id)).join(',')}}`}::int[]))
+		select w.id as listing_id, w.upto, o.observed_at as at, o.price_minor, o.currency, o.stock
+		from w left join observation o on o.listing_id = w.id and o.observed_at <= w.upto
+			and (o.observed_at >= w.since or o.id in (w.carried, w.known, w.down, w.restock))
+		order by w.id, o.observed_at, o.id`)) as unknown as Array<
+		Partial<PointRow> & { listing_id: number; upto: Date | string }
+	>;
+	for (const r of rows) {
+		let listing = out.get(r.listing_id);
+		if (!listing) out.set(r.listing_id, (listing = { to: new Date(r.upto), points: [] }));
+		if (r.at != null) listing.points.push(toPoint(r as PointRow));
+	}
+	return out;
 }
 
 /**
@@ -365,7 +363,7 @@ export async function listingHistory(
 	const maxPoints = Math.min(Math.max(opts.points ?? 300, 10), 1000);
 	const [chart, forFigures] = await Promise.all([
 		chartPoints(db, listingId, from, to, maxPoints),
-		figurePoints(db, listingId, new Date(to.getTime() - 90 * DAY), to)
+		figurePoints(db, [listingId], now).then((w) => w.get(listingId)?.points ?? [])
 	]);
 	const st = row.state;
 	return {
@@ -398,26 +396,18 @@ export async function listingHistory(
 	};
 }
 
-/** 30- and 90-day figures for many listings at once (converter and guide pages). */
+/** 30- and 90-day figures for many listings at once (the converter page), in one statement. */
 export async function listingFigures(
 	db: Database,
 	listingIds: number[],
 	now = new Date()
 ): Promise<Map<number, { d30: WindowFigures; d90: WindowFigures }>> {
-	const points = await loadPoints(db, listingIds);
-	const delisted = listingIds.length
-		? await db
-				.select({ id: listings.id, delistedAt: listings.delistedAt })
-				.from(listings)
-				.where(inArray(listings.id, listingIds))
-		: [];
-	const ends = new Map(delisted.map((d) => [d.id, d.delistedAt && d.delistedAt < now ? d.delistedAt : now]));
+	const windows = await figurePoints(db, listingIds, now);
 	const out = new Map<number, { d30: WindowFigures; d90: WindowFigures }>();
-	for (const [id, pts] of points) {
-		const to = ends.get(id) ?? now;
+	for (const [id, { to, points: pts }] of windows) {
 		out.set(id, {
 			d30: windowFigures(pts, new Date(to.getTime() - 30 * DAY), to),
-			d90: windowFigures(pts, new Date(to.getTime() - 90 * DAY), to)
+			d90: windowFigures(pts, new Date(to.getTime() - FIGURE_DAYS * DAY), to)
 		});
 	}
 	return out;

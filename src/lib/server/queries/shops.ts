@@ -23,7 +23,7 @@ import {
 	type PollOutcome,
 	type StockState
 } from '../db/schema';
-import { isBuyable, type Region } from '../../pricing';
+import { BUYABLE_STOCK, isBuyable, type Region } from '../../pricing';
 import {
 	kaplanMeier,
 	MIN_OUTLOOK_SPELLS,
@@ -219,22 +219,59 @@ async function loadStockPoints(
 	return out;
 }
 
-/** Restock outlooks of listings; a delisted listing's history ends at its delisting. */
+/**
+ * Each listing's stock turns up to its end (now, or its delisting if that came first): every known
+ * reading whose buyable-or-not differs from the known one before it, the first one included. These
+ * are the spell boundaries listingSpells reads ('unknown' readings and price changes do not end a
+ * spell), so it finds the same spells as in the whole history, from a fraction of the rows.
+ */
+async function loadStockTurns(
+	db: Database,
+	listingIds: number[],
+	now: Date
+): Promise<Map<number, { end: Date; points: StockPoint[] }>> {
+	const rows = await db.execute<{
+		listing_id: number;
+		upto: string | Date;
+		observed_at: string | Date | null;
+		stock: StockState | null;
+	}>(sql`
+		with l as (
+			select id, least(coalesce(delisted_at, ${now.toISOString()}::timestamptz), ${now.toISOString()}::timestamptz) as upto
+			from listing where id = any(${`{${listingIds.map((id) => Math.trunc(id)).join(',')}}`}::int[])
+		),
+		known as (
+			select o.id, o.listing_id, o.observed_at, o.stock, o.stock in ${BUYABLE_STOCK} as buyable,
+				lag(o.stock in ${BUYABLE_STOCK}) over (partition by o.listing_id order by o.observed_at, o.id) as buyable_before
+			from l join observation o on o.listing_id = l.id and o.observed_at <= l.upto and o.stock <> 'unknown'
+		)
+		select l.id as listing_id, l.upto, k.observed_at, k.stock
+		from l left join known k on k.listing_id = l.id and k.buyable_before is distinct from k.buyable
+		order by l.id, k.observed_at, k.id`);
+	const out = new Map<number, { end: Date; points: StockPoint[] }>();
+	for (const r of rows) {
+		const id = Number(r.listing_id);
+		let listing = out.get(id);
+		if (!listing) out.set(id, (listing = { end: new Date(r.upto), points: [] }));
+		if (r.observed_at != null && r.stock) listing.points.push({ at: new Date(r.observed_at), stock: r.stock });
+	}
+	return out;
+}
+
+/** Restock outlooks of listings; a delisted listing's history ends at its delisting. One statement. */
 export async function listingOutlooks(
 	db: Database,
 	listingIds: number[],
 	now = new Date()
 ): Promise<Map<number, RestockOutlook>> {
 	if (!listingIds.length) return new Map();
-	const [points, rows] = await Promise.all([
-		loadStockPoints(db, listingIds),
-		db
-			.select({ id: listings.id, delistedAt: listings.delistedAt })
-			.from(listings)
-			.where(inArray(listings.id, listingIds))
-	]);
-	const end = new Map(rows.map((r) => [r.id, r.delistedAt && r.delistedAt < now ? r.delistedAt : now]));
-	return new Map(listingIds.map((id) => [id, restockOutlook(points.get(id) ?? [], end.get(id) ?? now)]));
+	const turns = await loadStockTurns(db, listingIds, now);
+	return new Map(
+		listingIds.map((id) => {
+			const t = turns.get(id);
+			return [id, restockOutlook(t?.points ?? [], t?.end ?? now)];
+		})
+	);
 }
 
 /** Shop records for the given shops (all shops when omitted), keyed by shop id. */
