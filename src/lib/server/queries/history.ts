@@ -19,6 +19,7 @@ import { eq, sql } from 'drizzle-orm';
 import type { Database } from '../db/client';
 import { listingStates, listings, shops, type PollOutcome, type StockState } from '../db/schema';
 import {
+	BUYABLE_STOCK,
 	bestOfferByConverter,
 	isBuyable,
 	REGION_CODES,
@@ -214,7 +215,6 @@ export interface ListingHistory {
 	figures: { d30: WindowFigures; d90: WindowFigures };
 }
 
-/** A listing's change points (all of them, oldest first). */
 type PointRow = { at: Date | string; price_minor: number | null; currency: string | null; stock: StockState };
 const toPoint = (r: PointRow): ChangePoint => ({
 	at: new Date(r.at),
@@ -246,13 +246,13 @@ async function figurePoints(
 				(select b.id from observation b where b.listing_id = l.id and b.observed_at < s.since and b.stock <> 'unknown'
 					order by b.observed_at desc, b.id desc limit 1) as known,
 				(select b.id from observation b where b.listing_id = l.id and b.observed_at < s.since
-					and b.stock in ('in_stock', 'preorder') and b.observed_at >= coalesce(down.observed_at, '-infinity')
+					and b.stock in ${BUYABLE_STOCK} and b.observed_at >= coalesce(down.observed_at, '-infinity')
 					order by b.observed_at, b.id limit 1) as restock
 			from listing l
 			cross join lateral (select u.upto, u.upto - make_interval(days => ${FIGURE_DAYS}) as since
 				from (select least(coalesce(l.delisted_at, ${now.toISOString()}::timestamptz), ${now.toISOString()}::timestamptz) as upto) u) s
 			left join lateral (select b.id, b.observed_at from observation b
-				where b.listing_id = l.id and b.observed_at < s.since and b.stock not in ('in_stock', 'preorder', 'unknown')
+				where b.listing_id = l.id and b.observed_at < s.since and b.stock not in ${BUYABLE_STOCK} and b.stock <> 'unknown'
 				order by b.observed_at desc, b.id desc limit 1) down on true
 			where l.id = any(${`{${listingIds.map((id) => Math.trunc(id)).join(',')}}`}::int[]))
 		select w.id as listing_id, w.upto, o.observed_at as at, o.price_minor, o.currency, o.stock
