@@ -7,7 +7,7 @@ export const transport: Transport = {
 		// a placeholder stands for the value, which stays on the server
 		encode: (value) => value instanceof RenderOnly && 1,
 		decode: () => {
-			throw new Error('Render-only page data cannot be hydrated: use renderOnly() only on pages with csr = false.');
+			throw new Error('Render-only page data reached the browser: renderOnly() is for the HTML of csr = false pages.');
 		}
 	}
 };

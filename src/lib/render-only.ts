@@ -5,11 +5,15 @@
  * of garbage per request. Wrapped in RenderOnly, the data reaches the components as it is, and the
  * serializer writes one number in its place (the `transport` hook in src/hooks.ts).
  *
- * Only for pages with `csr = false`: a hydrating page would find nothing to decode.
+ * Only for pages with `csr = false`, and only in their HTML: when the visitor comes from a page that
+ * hydrated, SvelteKit's router fetches the page's data (`__data.json`) and renders it in the browser,
+ * so a data request gets the value itself.
  */
 export class RenderOnly<T> {
 	constructor(readonly value: T) {}
 }
 
 /** A server load's return value for a `csr = false` page: its components read `data.rendered.value`. */
-export const renderOnly = <T>(value: T) => ({ rendered: new RenderOnly(value) });
+export const renderOnly = <T>(value: T, event: { isDataRequest: boolean }): { rendered: { readonly value: T } } => ({
+	rendered: event.isDataRequest ? { value } : new RenderOnly(value)
+});

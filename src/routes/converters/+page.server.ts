@@ -20,7 +20,7 @@ export const csr = false;
 /** Cards per page: a catalogue of thousands stays quick to render and to read on a phone. */
 const PAGE_SIZE = 48;
 
-export const load: PageServerLoad = async ({ url, cookies, request }) => {
+export const load: PageServerLoad = async ({ url, cookies, request, isDataRequest }) => {
 	const { data: params, issues } = parseLenient(catalogueParams, searchObject(url));
 	const view = viewpoint(params, cookies, request.headers.get('accept-language'));
 	const found = await loadCataloguePage(db, view, toCatalogueFilter(params, view.currency), {
@@ -28,14 +28,17 @@ export const load: PageServerLoad = async ({ url, cookies, request }) => {
 		pageSize: PAGE_SIZE,
 		lastChecked: false
 	});
-	return renderOnly({
-		view,
-		params,
-		issues,
-		total: found.total,
-		matching: found.matching,
-		page: found.page,
-		pages: found.pages,
-		converters: found.entries
-	});
+	return renderOnly(
+		{
+			view,
+			params,
+			issues,
+			total: found.total,
+			matching: found.matching,
+			page: found.page,
+			pages: found.pages,
+			converters: found.entries
+		},
+		{ isDataRequest }
+	);
 };

@@ -16,7 +16,7 @@ import type { PageServerLoad } from './$types';
  */
 export const csr = false;
 
-export const load: PageServerLoad = async ({ params, url, cookies, request, locals }) => {
+export const load: PageServerLoad = async ({ params, url, cookies, request, locals, isDataRequest }) => {
 	const { data: p } = parseLenient(catalogueParams.pick({ region: true, currency: true }), searchObject(url));
 	const view = viewpoint(p, cookies, request.headers.get('accept-language'));
 	const detail = await loadConverterDetail(db, params.slug, view);
@@ -44,14 +44,17 @@ export const load: PageServerLoad = async ({ params, url, cookies, request, loca
 			}
 		])
 	);
-	return renderOnly({
-		view,
-		detail: { ...detail, revisions: detail.revisions.map(pageRevision) },
-		figures: d90,
-		notes: Object.fromEntries(
-			[...notes].map(([id, n]) => [id, { outlook: n.outlook.text, shopSlug: n.shop.slug, shopLine: n.shop.line }])
-		),
-		signedIn: locals.user !== null,
-		watchId: watches.find((w) => w.converterSlug === params.slug)?.id ?? null
-	});
+	return renderOnly(
+		{
+			view,
+			detail: { ...detail, revisions: detail.revisions.map(pageRevision) },
+			figures: d90,
+			notes: Object.fromEntries(
+				[...notes].map(([id, n]) => [id, { outlook: n.outlook.text, shopSlug: n.shop.slug, shopLine: n.shop.line }])
+			),
+			signedIn: locals.user !== null,
+			watchId: watches.find((w) => w.converterSlug === params.slug)?.id ?? null
+		},
+		{ isDataRequest }
+	);
 };
