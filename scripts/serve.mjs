@@ -6,6 +6,7 @@
 // ORIGIN, BODY_SIZE_LIMIT and the rest of adapter-node's environment apply as with `node build`.
 // WEB_CONCURRENCY=N (default 1) runs N worker processes sharing the port (node:cluster), one per
 // core in production: each is an ordinary stateless app instance with its own page cache and pool.
+// On glibc the server always runs as a worker under a small primary, which sets its malloc tuning.
 import cluster from 'node:cluster';
 import http from 'node:http';
 import { resolve } from 'node:path';
@@ -14,9 +15,32 @@ import zlib from 'node:zlib';
 import compression from 'compression';
 
 const workers = Math.max(1, Number(process.env.WEB_CONCURRENCY || 1));
-if (workers > 1 && cluster.isPrimary) {
+
+// glibc's malloc adjusts its thresholds as it goes and hands large freed blocks back to the kernel;
+// every response's brotli encoder allocates a few such blocks, so under load each one paid page
+// faults to get its memory back. Fixed thresholds keep the memory in the process (measured with
+// /api/v1/converters at 32 connections: CPU per request 6.4 -> 4.7 ms, kernel time 1.3 -> 0.5 ms,
+// peak RSS +35 MB). The loader reads GLIBC_TUNABLES at process start, so workers get it from the
+// primary; a GLIBC_TUNABLES already set is left as it is, and other C libraries ignore it.
+const MALLOC_TUNABLES = 'glibc.malloc.mmap_threshold=8388608:glibc.malloc.trim_threshold=33554432';
+const tuneMalloc =
+	process.platform === 'linux' &&
+	!process.env.GLIBC_TUNABLES &&
+	Boolean(/** @type {any} */ (process.report.getReport()).header?.glibcVersionRuntime);
+
+if (cluster.isPrimary && (workers > 1 || tuneMalloc)) {
 	let stopping = false;
-	const fork = () => cluster.fork().on('exit', () => !stopping && setTimeout(fork, 1000));
+	const fork = () => {
+		const worker = cluster.fork(tuneMalloc ? { GLIBC_TUNABLES: MALLOC_TUNABLES } : {});
+		let listening = false;
+		worker.on('listening', () => (listening = true));
+		worker.on('exit', (code) => {
+			if (stopping) return;
+			// a worker that never got to listen (port taken, bad settings) would fail again: stop
+			if (!listening) process.exit(code || 1);
+			setTimeout(fork, 1000);
+		});
+	};
 	for (let i = 0; i < workers; i++) fork();
 	const stopAll = () => {
 		stopping = true;
