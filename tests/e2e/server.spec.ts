@@ -1,0 +1,127 @@
+/**
+ * The app's own HTTP server (scripts/serve.mjs): answers compressed as the client negotiates
+ * (RFC 9110 §12.5.3 Accept-Encoding; brotli per RFC 7932, gzip per RFC 1952, checked by decoding
+ * with node:zlib), static assets sent precompressed, and, on glibc, the server running as a
+ * worker under a primary that gives it its malloc tuning and stops with it.
+ */
+import { expect, test } from '@playwright/test';
+import { spawn } from 'node:child_process';
+import { readFileSync, readdirSync } from 'node:fs';
+import http from 'node:http';
+import { resolve } from 'node:path';
+import zlib from 'node:zlib';
+
+const APP_PORT = Number(process.env.PORT || 4400);
+const ORIGIN = `http://127.0.0.1:${APP_PORT}`;
+const BUILD = resolve(process.env.SG_BUILD_DIR || 'build');
+
+/** The raw bytes and headers of one GET (fetch would decode the body). */
+function rawGet(url: string, acceptEncoding: string) {
+	return new Promise<{ status: number; headers: http.IncomingHttpHeaders; body: Buffer }>((ok, fail) => {
+		http
+			.get(url, { headers: { 'accept-encoding': acceptEncoding } }, (res) => {
+				const chunks: Buffer[] = [];
+				res.on('data', (c: Buffer) => chunks.push(c));
+				res.on('end', () => ok({ status: res.statusCode ?? 0, headers: res.headers, body: Buffer.concat(chunks) }));
+				res.on('error', fail);
+			})
+			.on('error', fail);
+	});
+}
+
+function decode(body: Buffer, encoding: string | undefined): string {
+	if (encoding === 'br') return zlib.brotliDecompressSync(body).toString('utf8');
+	if (encoding === 'gzip') return zlib.gunzipSync(body).toString('utf8');
+	return body.toString('utf8');
+}
+
+const GLIBC = Boolean(
+	(process.report.getReport() as { header?: { glibcVersionRuntime?: string } }).header?.glibcVersionRuntime
+);
+
+for (const path of ['/converters', '/api/v1/converters', '/api/v1/export/catalogue.csv', '/restocks/feed.atom']) {
+	test(`${path} goes out as the client negotiates: br, gzip or not at all`, async () => {
+		const plain = await rawGet(ORIGIN + path, 'identity');
+		expect(plain.status).toBe(200);
+		expect(plain.headers['content-encoding']).toBeUndefined();
+		for (const [asked, expected] of [
+			['br, gzip', 'br'],
+			['gzip', 'gzip'],
+			['gzip;q=1, br;q=0', 'gzip']
+		] as const) {
+			const res = await rawGet(ORIGIN + path, asked);
+			expect(res.headers['content-encoding'], asked).toBe(expected);
+			expect(res.headers.vary ?? '').toMatch(/accept-encoding/i);
+			expect(res.body.length, asked).toBeLessThan(plain.body.length);
+			// Same document once decoded (the CSV and the feed carry no per-request parts).
+			const text = decode(res.body, expected);
+			if (path.endsWith('.csv') || path.endsWith('.atom')) expect(text).toBe(plain.body.toString('utf8'));
+			else expect(text.length).toBeGreaterThan(plain.body.length * 0.9);
+		}
+	});
+}
+
+test('static assets are sent precompressed as built', async () => {
+	const dir = resolve(BUILD, 'client/_app/immutable/entry');
+	const js = readdirSync(dir).find((f) => f.endsWith('.js') && readdirSync(dir).includes(`${f}.br`))!;
+	expect(js).toBeTruthy();
+	const res = await rawGet(`${ORIGIN}/_app/immutable/entry/${js}`, 'br, gzip');
+	expect(res.headers['content-encoding']).toBe('br');
+	expect(res.body.equals(readFileSync(resolve(dir, `${js}.br`)))).toBe(true);
+});
+
+test.describe('serve.mjs as a process', () => {
+	test.skip(process.platform !== 'linux' || !GLIBC, 'the malloc tuning is for glibc on Linux');
+
+	const PORT = APP_PORT + 63;
+	const env = { ...process.env, HOST: '127.0.0.1', PORT: String(PORT), ORIGIN: `http://127.0.0.1:${PORT}` };
+	delete env.GLIBC_TUNABLES;
+	delete env.WEB_CONCURRENCY;
+
+	const childrenOf = (pid: number) =>
+		readFileSync(`/proc/${pid}/task/${pid}/children`, 'utf8').trim().split(/\s+/).filter(Boolean).map(Number);
+	const alive = (pid: number) => {
+		try {
+			process.kill(pid, 0);
+			return true;
+		} catch {
+			return false;
+		}
+	};
+
+	test('runs the server as a worker with the malloc tuning; SIGTERM stops both', async () => {
+		test.setTimeout(60_000);
+		const primary = spawn(process.execPath, [resolve('scripts/serve.mjs'), BUILD], { env, stdio: 'ignore' });
+		const exited = new Promise<number | null>((r) => primary.once('exit', (code) => r(code)));
+		try {
+			await expect
+				.poll(async () => (await fetch(`http://127.0.0.1:${PORT}/robots.txt`).catch(() => null))?.status, {
+					timeout: 30_000
+				})
+				.toBe(200);
+			const [worker] = childrenOf(primary.pid!);
+			expect(worker).toBeGreaterThan(0);
+			// glibc keeps the first tunable of the list in the environment it passes on (it parses in place)
+			const environ = readFileSync(`/proc/${worker}/environ`, 'utf8').split('\0');
+			expect(environ.find((v) => v.startsWith('GLIBC_TUNABLES='))).toMatch(/^GLIBC_TUNABLES=glibc\.malloc\./);
+			primary.kill('SIGTERM');
+			expect(await exited).toBe(0);
+			await expect.poll(() => alive(worker), { timeout: 10_000 }).toBe(false);
+		} finally {
+			if (primary.exitCode === null) primary.kill('SIGKILL');
+		}
+	});
+
+	test('a worker that cannot start (its port is taken) ends the process with an error', async () => {
+		test.setTimeout(60_000);
+		const taken = http.createServer();
+		await new Promise<void>((ok) => taken.listen(PORT, '127.0.0.1', ok));
+		try {
+			const primary = spawn(process.execPath, [resolve('scripts/serve.mjs'), BUILD], { env, stdio: 'ignore' });
+			const code = await new Promise<number | null>((r) => primary.once('exit', (c) => r(c)));
+			expect(code).not.toBe(0);
+		} finally {
+			await new Promise((r) => taken.close(r));
+		}
+	});
+});
