@@ -34,6 +34,8 @@ const e2e = {
 const artifacts = resolve(ROOT, 'tests', 'artifacts');
 const children = [];
 let failed = false;
+/** Steps that failed without counting tests (lint, svelte-check, a runner that left no report). */
+const failedSteps = [];
 // Stop only a cluster this run started, never one another run is using.
 let clusterStarted = false;
 const totals = { passed: 0, failed: 0, skipped: 0 };
@@ -55,6 +57,7 @@ async function main() {
 			run('npm', ['run', 'lint', '--silent'], { cwd: ROOT });
 		} catch {
 			failed = true;
+			failedSteps.push('lint');
 		}
 		// Lint alone needs no database or services.
 		if (parts.length === 1) return;
@@ -99,6 +102,7 @@ async function main() {
 			run('npm', ['run', 'check', '--silent'], { cwd: ROOT, env });
 		} catch {
 			failed = true;
+			failedSteps.push('svelte-check');
 		}
 	}
 
@@ -119,7 +123,10 @@ async function main() {
 			totals.passed += r.numPassedTests ?? 0;
 			totals.failed += r.numFailedTests ?? 0;
 			totals.skipped += (r.numPendingTests ?? 0) + (r.numTodoTests ?? 0);
-		} else failed = true;
+		} else {
+			failed = true;
+			failedSteps.push('vitest (no report)');
+		}
 	}
 
 	if (want('e2e')) {
@@ -147,7 +154,10 @@ async function main() {
 			totals.passed += r.stats.expected ?? 0;
 			totals.failed += (r.stats.unexpected ?? 0) + (r.stats.flaky ?? 0);
 			totals.skipped += r.stats.skipped ?? 0;
-		} else failed = true;
+		} else {
+			failed = true;
+			failedSteps.push('playwright (no report)');
+		}
 	}
 }
 
@@ -156,10 +166,14 @@ try {
 } catch (err) {
 	console.error(`\nnpm test could not run: ${err.message}`);
 	failed = true;
+	failedSteps.push('setup');
 } finally {
 	await stopAll(children);
 	if (clusterStarted) stopCluster(p);
 }
 if (totals.failed > 0) failed = true;
-console.log(`\nScopegrade tests: ${totals.passed} passed, ${totals.failed} failed, ${totals.skipped} skipped`);
+console.log(
+	`\nScopegrade tests: ${totals.passed} passed, ${totals.failed} failed, ${totals.skipped} skipped` +
+		(failedSteps.length ? `; also failed: ${failedSteps.join(', ')}` : '')
+);
 process.exit(failed ? 1 : 0);

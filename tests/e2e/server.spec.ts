@@ -74,7 +74,12 @@ test.describe('serve.mjs as a process', () => {
 	test.skip(process.platform !== 'linux' || !GLIBC, 'the malloc tuning is for glibc on Linux');
 
 	const PORT = APP_PORT + 63;
-	const env = { ...process.env, HOST: '127.0.0.1', PORT: String(PORT), ORIGIN: `http://127.0.0.1:${PORT}` };
+	const env: NodeJS.ProcessEnv = {
+		...process.env,
+		HOST: '127.0.0.1',
+		PORT: String(PORT),
+		ORIGIN: `http://127.0.0.1:${PORT}`
+	};
 	delete env.GLIBC_TUNABLES;
 	delete env.WEB_CONCURRENCY;
 
