@@ -19,8 +19,8 @@ const workers = Math.max(1, Number(process.env.WEB_CONCURRENCY || 1));
 // glibc's malloc adjusts its thresholds as it goes and hands large freed blocks back to the kernel;
 // every response's brotli encoder allocates a few such blocks, so under load each one paid page
 // faults to get its memory back. Fixed thresholds keep the memory in the process (measured with
-// /api/v1/converters at 32 connections: CPU per request 6.4 -> 4.7 ms, kernel time 1.3 -> 0.5 ms,
-// peak RSS +35 MB). The loader reads GLIBC_TUNABLES at process start, so workers get it from the
+// /api/v1/converters at 32 connections, cache off: CPU per request 5.3-6.7 -> 4.4-4.5 ms, kernel
+// time 0.9-1.4 -> 0.5 ms, peak RSS about 40 MB more). The loader reads GLIBC_TUNABLES at process start, so workers get it from the
 // primary; a GLIBC_TUNABLES already set is left as it is, and other C libraries ignore it.
 const MALLOC_TUNABLES = 'glibc.malloc.mmap_threshold=8388608:glibc.malloc.trim_threshold=33554432';
 const tuneMalloc =
