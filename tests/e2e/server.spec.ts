@@ -71,6 +71,7 @@ test('static assets are sent precompressed as built', async () => {
 });
 
 test.describe('serve.mjs as a process', () => {
+	// Runs here and in CI (Debian, glibc); on other C libraries serve.mjs has no tuning to give.
 	test.skip(process.platform !== 'linux' || !GLIBC, 'the malloc tuning is for glibc on Linux');
 
 	const PORT = APP_PORT + 63;
