@@ -48,12 +48,15 @@ if (isMain) {
 	const { db, sql } = createDb(process.env.DATABASE_URL, { max: 4 });
 	const { task, poller } = schedulePoller(db);
 	console.log(`poller worker ${poller.workerId} running (${POLLER_SCHEDULE})`);
-	const stop = async () => {
-		await task.destroy();
-		await poller.release().catch(() => 0);
-		await sql.end({ timeout: 5 });
-		process.exit(0);
-	};
+	// one stop however many signals arrive (see jobs/index.ts)
+	let stopping: Promise<void> | null = null;
+	const stop = () =>
+		(stopping ??= (async () => {
+			await task.destroy();
+			await poller.release().catch(() => 0);
+			await sql.end({ timeout: 5 });
+			process.exit(0);
+		})());
 	process.on('SIGINT', stop);
 	process.on('SIGTERM', stop);
 }
