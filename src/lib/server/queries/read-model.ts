@@ -153,12 +153,7 @@ export async function refreshDirtyCards(db: Db): Promise<number> {
 }
 
 /** An entry as stored (priced in its region's currency) re-priced for the visitor's currency. */
-function inCurrency(
-	e: CatalogueEntry,
-	currency: string,
-	rates: RatesPerEur,
-	checked: Record<string, string>
-): CatalogueEntry {
+function inCurrency(e: CatalogueEntry, currency: string, rates: RatesPerEur, checkedAt: string | null): CatalogueEntry {
 	const price = (o: CatalogueOffer): CatalogueOffer => ({
 		...o,
 		displayMinor:
@@ -168,7 +163,7 @@ function inCurrency(
 					? convertMinor(o.priceMinor, o.currency, currency, rates)
 					: null,
 		displayCurrency: currency,
-		lastCheckedAt: checked[o.listingId] ?? o.lastCheckedAt
+		lastCheckedAt: checkedAt ?? o.lastCheckedAt
 	});
 	return { ...e, best: e.best ? price(e.best) : null };
 }
@@ -177,22 +172,20 @@ function inCurrency(
 const rateOf = (currency: string, day: string): SQL => sql`(${ratesSql(day)} ->> ${currency})::float8`;
 
 /**
- * "Last checked" moves on every poll without changing a card: read fresh for the best offers of
- * the cards a statement returns (`cards`: a relation with an `entry` column), once per statement,
- * as { listingId: epoch milliseconds }.
+ * "Last checked" moves on every poll without changing a card: read fresh for the best offer of
+ * each card a statement returns, joined per row (`card`: the alias of a relation with an `entry`
+ * column), as epoch milliseconds (a float8, so the driver hands it over as a number).
  */
-const checkedFor = (cards: SQL) => sql`(select coalesce(jsonb_object_agg(ls.listing_id::text,
-		floor(extract(epoch from ls.last_checked_at) * 1000)::bigint), '{}')
-	from listing_state ls
-	where ls.last_checked_at is not null and ls.listing_id = any(array(
-		select (c.entry -> 'best' ->> 'listingId')::int from ${cards} c)))`;
+const checkedJoin = (card: SQL) => sql`left join listing_state ls
+	on ls.listing_id = (${card}.entry -> 'best' ->> 'listingId')::int`;
+const checkedMs = sql`floor(extract(epoch from ls.last_checked_at) * 1000)::float8`;
 
 interface CardRow {
 	dirty: boolean;
 	rates: RatesPerEur;
 	entry: CatalogueEntry | null;
-	/** On the first row only: { listingId: epoch ms } for the best offer of each of the rows' cards. */
-	checked: Record<string, number> | null;
+	/** The best offer's last-checked time (epoch ms), or null when not read. */
+	checked_ms: number | null;
 }
 
 /**
@@ -208,10 +201,18 @@ async function readCards<T extends CardRow>(db: Db, read: () => Promise<T[]>): P
 }
 
 function hydrate(rows: CardRow[], view: Viewpoint): CatalogueEntry[] {
-	const checked = Object.fromEntries(
-		Object.entries(rows[0]?.checked ?? {}).map(([id, ms]) => [id, new Date(ms).toISOString()])
+	return rows.flatMap((r) =>
+		r.entry
+			? [
+					inCurrency(
+						r.entry,
+						view.currency,
+						r.rates,
+						r.checked_ms == null ? null : new Date(r.checked_ms).toISOString()
+					)
+				]
+			: []
 	);
-	return rows.flatMap((r) => (r.entry ? [inCurrency(r.entry, view.currency, r.rates, checked)] : []));
 }
 
 const dirtySql = sql<boolean>`exists (select 1 from card_dirty)`;
@@ -321,8 +322,9 @@ export async function loadCataloguePage(
 			page as (select ids.n, ${converterCards.entry} as entry from ids
 				join ${converterCards} on ${converterCards.region} = ${view.region} and ${converterCards.converterId} = ids.id)
 			select ${dirtySql} as dirty, ${ratesSql(day)} as rates, counts.total, counts.matching, page.entry,
-				${opts.lastChecked === false ? sql`null` : sql`case when page.n = (select min(n) from page) then ${checkedFor(sql`page`)} end`} as checked
+				${opts.lastChecked === false ? sql`null` : checkedMs} as checked_ms
 			from counts left join page on true
+			${opts.lastChecked === false ? sql`` : checkedJoin(sql`page`)}
 			order by page.n`);
 		return result as unknown as Row[];
 	});
@@ -349,8 +351,8 @@ export async function loadEntries(db: Db, view: Viewpoint, ids: number[]): Promi
 			with cards as (select ${converterCards.converterId} as id, ${converterCards.entry} as entry
 				from ${converterCards}
 				where ${converterCards.region} = ${view.region} and ${converterCards.converterId} = any(${`{${ids.map((id) => Math.trunc(id)).join(',')}}`}::int[]))
-			select ${dirtySql} as dirty, ${ratesSql(day)} as rates, cards.id, cards.entry, ${checkedFor(sql`cards`)} as checked
-			from (select 1) one left join cards on true`);
+			select ${dirtySql} as dirty, ${ratesSql(day)} as rates, cards.id, cards.entry, ${checkedMs} as checked_ms
+			from (select 1) one left join cards on true ${checkedJoin(sql`cards`)}`);
 		return result as unknown as Row[];
 	});
 	const byId = new Map(rows.filter((r) => r.id != null).map((r) => [r.id!, r]));
