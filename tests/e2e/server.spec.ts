@@ -70,6 +70,48 @@ test('static assets are sent precompressed as built', async () => {
 	expect(res.body.equals(readFileSync(resolve(dir, `${js}.br`)))).toBe(true);
 });
 
+test('with the page cache off, public answers keep their caching headers and 304', async () => {
+	test.setTimeout(60_000);
+	const port = APP_PORT + 64;
+	const origin = `http://127.0.0.1:${port}`;
+	const app = spawn(process.execPath, [resolve('scripts/serve.mjs'), BUILD], {
+		env: { ...process.env, HOST: '127.0.0.1', PORT: String(port), ORIGIN: origin, PAGE_CACHE: 'off' },
+		stdio: 'ignore'
+	});
+	try {
+		await expect
+			.poll(async () => (await fetch(`${origin}/robots.txt`).catch(() => null))?.status, { timeout: 30_000 })
+			.toBe(200);
+		for (const path of ['/converters?region=jp', '/api/v1/converters?region=jp']) {
+			const page = await rawGet(origin + path, 'br, gzip');
+			expect(page.status, path).toBe(200);
+			expect(page.headers['x-page-cache'], path).toBe('miss');
+			expect(page.headers['cache-control'], path).toMatch(/^public, .*s-maxage=\d+/);
+			expect(page.headers.vary ?? '', path).toMatch(/accept-encoding/i);
+			// compressed as it streams through, and whole
+			expect(page.headers['content-encoding'], path).toBe('br');
+			const text = decode(page.body, 'br');
+			expect(text, path).toMatch(path.startsWith('/api/') ? /^\{"region":"jp"/ : /<\/html>\s*$/);
+			// a page remembers the region picked in its URL; the API never sets a cookie (RFC 6265)
+			const cookies = page.headers['set-cookie'] ?? [];
+			if (path.startsWith('/api/')) expect(cookies, path).toEqual([]);
+			else
+				expect(
+					cookies.some((c) => c.includes('=jp;')),
+					path
+				).toBe(true);
+			// RFC 9110 §13.1.2: a matching If-None-Match gets 304 and no body
+			const etag = page.headers.etag!;
+			expect(etag, path).toMatch(/^"[^"]+"$/);
+			const again = await fetch(origin + path, { headers: { 'if-none-match': etag } });
+			expect(again.status, path).toBe(304);
+			expect(await again.text(), path).toBe('');
+		}
+	} finally {
+		app.kill('SIGTERM');
+	}
+});
+
 test.describe('serve.mjs as a process', () => {
 	// Runs here and in CI (Debian, glibc); on other C libraries serve.mjs has no tuning to give.
 	test.skip(process.platform !== 'linux' || !GLIBC, 'the malloc tuning is for glibc on Linux');

@@ -327,12 +327,8 @@ export const pageCacheHandle: Handle = async ({ event, resolve }) => {
 		cookie: (name) => cookies.get(name),
 		header: (name) => request.headers.get(name)
 	};
+	if (!enabled) return uncachedAnswer(view, await resolve(event));
 	const key = keyOf(view.url, view.cookie, view.header('accept-language'));
-	if (!enabled) {
-		const response = await resolve(event);
-		const stored = await toStored(response, false);
-		return stored ? answer(view, stored, 'miss') : response;
-	}
 	noteVisit(key, view.url, view.cookie, view.header);
 	const found = servable(key);
 	if (found) return answer(view, found, 'hit');
@@ -361,24 +357,54 @@ export const pageCacheHandle: Handle = async ({ event, resolve }) => {
 	}
 };
 
+/** Could this answer be kept: a 200 that sets no cookie but the viewpoint's? */
+const cacheable = (response: Response) => response.status === 200 && onlyViewpointCookies(response.headers);
+
+/** The headers a public answer goes out with, whether it was stored or not. */
+function publicHeaders(response: Response, etag: string): Headers {
+	const headers = new Headers(response.headers);
+	headers.set('ETag', etag);
+	headers.set('Cache-Control', PUBLIC_CACHE_CONTROL);
+	headers.set('Vary', VARY);
+	headers.delete('content-length');
+	headers.delete('set-cookie');
+	return headers;
+}
+
+/**
+ * With the cache off: the headers and the 304 a stored answer would get, and the body streamed on
+ * as it came (scripts/serve.mjs compresses it), not read into memory first. An answer without an
+ * ETag of its own is read to compute one.
+ */
+async function uncachedAnswer(req: RequestView, response: Response): Promise<Response> {
+	if (!cacheable(response)) return response;
+	const etag = response.headers.get('etag');
+	if (!etag) return answer(req, (await toStored(response, false))!, 'miss');
+	const stored: Stored = {
+		status: response.status,
+		headers: [...publicHeaders(response, etag)],
+		body: EMPTY,
+		br: EMPTY,
+		gzip: EMPTY,
+		etag
+	};
+	const { status, headers, body } = answerParts(req, stored, 'miss');
+	if (!body) await response.body?.cancel();
+	return new Response(body ? response.body : null, { status, headers });
+}
+
 /**
  * A rendered answer as the cache keeps it (compressed once when `compress`), or null when it may
  * not be cached: not a 200, or it sets a cookie other than the viewpoint's.
  */
 async function toStored(response: Response, compress: boolean): Promise<Stored | null> {
-	if (response.status !== 200 || !onlyViewpointCookies(response.headers)) return null;
+	if (!cacheable(response)) return null;
 	const body = new Uint8Array(await response.arrayBuffer());
-	const headers = new Headers(response.headers);
-	headers.set('ETag', response.headers.get('etag') ?? etagOf(body));
-	headers.set('Cache-Control', PUBLIC_CACHE_CONTROL);
-	headers.set('Vary', VARY);
-	headers.delete('content-length');
-	headers.delete('set-cookie');
+	const headers = publicHeaders(response, response.headers.get('etag') ?? etagOf(body));
 	return {
 		status: response.status,
 		headers: [...headers],
 		body,
-		// With the cache off, scripts/serve.mjs compresses per request instead.
 		br: compress
 			? brotliCompressSync(body, {
 					params: { [zlib.constants.BROTLI_PARAM_QUALITY]: 5, [zlib.constants.BROTLI_PARAM_SIZE_HINT]: body.byteLength }
