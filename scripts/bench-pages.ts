@@ -285,6 +285,13 @@ async function main() {
 				for (const [label, path] of TARGETS) {
 					const w = await wireBytes(app.origin + path);
 					console.log(`${label} bytes on the wire ${w.bytes} (${w.encoding})`);
+					// V8 keeps a string with any character past U+00FF at two bytes per character, and a
+					// rendered page past 128 KiB in its large-object space: both cost every request.
+					const text = await (await fetch(app.origin + path)).text();
+					const wide = [...new Set([...text].filter((c) => c.codePointAt(0)! > 0xff))];
+					console.log(
+						`${label} ${text.length} characters, ${wide.length ? `${2 * text.length} bytes in V8 (outside Latin-1: ${wide.join(' ')})` : `${text.length} bytes in V8 (Latin-1)`}`
+					);
 				}
 				const js = await shippedJs(app.origin, '/converters');
 				console.log(
