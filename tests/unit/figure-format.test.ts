@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { figureFormat } from '$lib/components/format';
+import { figureFormat, signedFigure } from '$lib/components/format';
 
 describe('figureFormat (Stat.svelte)', () => {
 	it('makes one formatter per kind of figure and reuses it', () => {
@@ -26,5 +26,19 @@ describe('figureFormat (Stat.svelte)', () => {
 		// from memory of the ECMA-402 rounding (half-expand) and exceptZero rules
 		expect(figureFormat(1, true).format(3.04)).toBe('+3.0');
 		expect(figureFormat(2, true).format(0)).toBe('0.00');
+	});
+});
+
+describe('signedFigure (step tables)', () => {
+	it('signs what it shows, in Latin-1', () => {
+		expect(signedFigure(0.4)).toBe('+0.4');
+		expect(signedFigure(-1.44)).toBe('-1.4');
+		expect(signedFigure(2.06)).toBe('+2.1');
+		expect(signedFigure(-7.1, 0)).toBe('-7');
+		// rounds to zero: no sign, never "-0.0"
+		expect(signedFigure(-0.04)).toBe('0.0');
+		expect(signedFigure(0.04)).toBe('0.0');
+		expect(signedFigure(0)).toBe('0.0');
+		expect(/^[\x20-\x7e]+$/.test(signedFigure(-123.456, 2))).toBe(true);
 	});
 });
