@@ -30,6 +30,7 @@ describe('figureFormat (Stat.svelte)', () => {
 });
 
 describe('signedFigure (step tables)', () => {
+	// common practice in tables of measurements: the sign follows the figure as printed, so no "-0.0"
 	it('signs what it shows, in Latin-1', () => {
 		expect(signedFigure(0.4)).toBe('+0.4');
 		expect(signedFigure(-1.44)).toBe('-1.4');
