@@ -8,6 +8,7 @@ import { spawnSync } from 'node:child_process';
 import { mkdirSync, rmSync, writeFileSync } from 'node:fs';
 import { createRequire } from 'node:module';
 import { resolve } from 'node:path';
+import * as cheerio from 'cheerio';
 import { PUBLIC_PAGES } from './support/public-pages';
 
 const require = createRequire(import.meta.url);
@@ -62,4 +63,21 @@ test('every public page passes the Nu HTML Checker with no errors', async ({ req
 				`${files.get(m.url) ?? m.url}:${m.lastLine ?? '?'} ${m.message}${m.extract ? ` [${m.extract.trim().slice(0, 80)}]` : ''}`
 		);
 	expect(errors, 'Nu HTML Checker errors').toEqual([]);
+});
+
+test('every shared drawing a public page places (<use href="#…">) is on that page, once', async ({ request }) => {
+	for (const path of PUBLIC_PAGES) {
+		const $ = cheerio.load(await (await request.get(path)).text());
+		const refs = new Set(
+			$('use')
+				.map((_, el) => $(el).attr('href') ?? '')
+				.get()
+		);
+		for (const ref of refs) {
+			expect(ref, `${path}: a <use> points inside the page`).toMatch(/^#sg-/);
+			expect($(`[id="${ref.slice(1)}"]`).length, `${path}: ${ref} is drawn once`).toBe(1);
+		}
+		if (path === '/converters')
+			expect(refs.size, 'the catalogue places rulers and stock shapes').toBeGreaterThanOrEqual(2);
+	}
 });

@@ -15,7 +15,9 @@ import {
 	markHidesMarker,
 	markText,
 	reportMark,
-	rulerFraction
+	rulerFraction,
+	rulerGeometry,
+	rulerX
 } from '../../src/lib/components/bands';
 import { analyzeLevels, RUBRIC } from '../../src/lib/levels';
 import { renderAlertMessage, type AlertView } from '../../src/lib/server/alerts/message';
@@ -53,6 +55,25 @@ describe('the deviation ruler', () => {
 		expect(bandForDeviation(1)).toBe('exact');
 		expect(bandForDeviation(1.01)).toBe('close');
 		expect(bandForDeviation(6.5)).toBe('failing');
+	});
+});
+
+describe("the ruler's shared drawing", () => {
+	it('puts a tick at 0 and at each band limit, and the dashed part from the last limit to the end', () => {
+		for (const size of ['sm', 'md'] as const) {
+			const g = rulerGeometry(size);
+			const ticks = [...g.rules.matchAll(/M([\d.]+) [\d.]+V/g)].map((m) => Number(m[1]));
+			expect(ticks).toEqual([0, ...RULER_TICKS_IRE].map((ire) => rulerX(g, ire)));
+			expect(ticks[0]).toBe(g.pad);
+			const last = rulerX(g, RULER_TICKS_IRE[RULER_TICKS_IRE.length - 1]);
+			expect(g.beyond).toBe(`M${last} ${g.base}H${g.pad + g.w}`);
+			// the right end of the ruler is where a deviation past RULER_END_IRE sits
+			expect(rulerX(g, RULER_END_IRE * 3)).toBe(g.pad + g.w);
+		}
+	});
+	it('is the same drawing on every call, so marks of one size share it', () => {
+		expect(rulerGeometry('sm')).toBe(rulerGeometry('sm'));
+		expect(rulerGeometry('md').w).toBeGreaterThan(rulerGeometry('sm').w);
 	});
 });
 

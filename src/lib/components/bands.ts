@@ -73,6 +73,50 @@ export function rulerFraction(deviationIre: number): number {
 	return Math.min(deviationIre, RULER_END_IRE) / RULER_END_IRE;
 }
 
+/** A band mark's ruler drawing at one size: every mark of that size draws the same ruler. */
+export interface RulerGeometry {
+	/** ruler length, drawing height, baseline y, tick height, marker half-width (px) */
+	w: number;
+	h: number;
+	base: number;
+	tick: number;
+	m: number;
+	/** room for half the marker at either end of the ruler */
+	pad: number;
+	/** the baseline and a tick at 0 and at each band limit, as one path */
+	rules: string;
+	/** the baseline past the last tick ("beyond 6 IRE"), drawn dashed */
+	beyond: string;
+}
+
+export type RulerSize = 'sm' | 'md';
+
+/** The x of a deviation on a ruler (px). */
+export function rulerX(g: RulerGeometry, ire: number): number {
+	return g.pad + rulerFraction(ire) * g.w;
+}
+
+function buildRuler(size: RulerSize): RulerGeometry {
+	const d = size === 'sm' ? { w: 64, h: 14, base: 10, tick: 4, m: 4.5 } : { w: 96, h: 18, base: 13, tick: 5, m: 5.5 };
+	const g: RulerGeometry = { ...d, pad: d.m + 1, rules: '', beyond: '' };
+	const ticks = RULER_TICKS_IRE.map((ire) => rulerX(g, ire));
+	const last = ticks[ticks.length - 1];
+	g.rules =
+		[g.pad, ...ticks].map((x) => `M${x} ${d.base - d.tick}V${d.h - 1}`).join('') + `M${g.pad} ${d.base}H${last}`;
+	g.beyond = `M${last} ${d.base}H${g.pad + d.w}`;
+	return Object.freeze(g);
+}
+
+// built once: a catalogue page draws about 70 marks
+const RULERS: Readonly<Record<RulerSize, RulerGeometry>> = { sm: buildRuler('sm'), md: buildRuler('md') };
+
+export function rulerGeometry(size: RulerSize): RulerGeometry {
+	return RULERS[size];
+}
+
+/** The id of the shared drawing of a ruler (GlyphSprite.svelte), for `<use href="#…">`. */
+export const rulerGlyphId = (size: RulerSize) => `sg-ruler-${size}`;
+
 /** The deviation zone a band covers on the ruler, [from, to] in IRE (Failing: past 6 IRE). */
 export function bandZoneIre(band: Band): [number, number] {
 	const i = BANDS.indexOf(band);

@@ -19,3 +19,6 @@ export function isStockState(value: unknown): value is StockState {
 export function stockLabel(state: string | null | undefined): string {
 	return isStockState(state) ? STOCK_LABELS[state] : STOCK_LABELS.unknown;
 }
+
+/** The id of a stock state's shared glyph (GlyphSprite.svelte), for `<use href="#…">`. */
+export const stockGlyphId = (state: StockState) => `sg-stock-${state}`;
