@@ -13,6 +13,7 @@ import { and, asc, eq, inArray, isNull, sql } from 'drizzle-orm';
 import type { Db } from './db/client';
 import { RUBRIC_VERSION, backtestExpected, expectedGrade, type BacktestResult, type ChipRun } from '../levels/index';
 import * as t from './db/schema';
+import { idArray, inIdList, preparedFor } from './db/prepared';
 
 export const BACKTEST_SNAPSHOT = 'expected-backtest';
 
@@ -130,11 +131,14 @@ export async function refreshAllExpected(db: Db, now = new Date()) {
 /** A revision's grade history, oldest first. */
 export async function gradeHistoryOf(db: Db, revisionIds: number[]) {
 	if (revisionIds.length === 0) return [];
-	return db
-		.select()
-		.from(t.gradeHistory)
-		.where(inArray(t.gradeHistory.revisionId, revisionIds))
-		.orderBy(asc(t.gradeHistory.at), asc(t.gradeHistory.id));
+	return preparedFor(db, 'grade_history_of', () =>
+		db
+			.select()
+			.from(t.gradeHistory)
+			.where(inIdList(t.gradeHistory.revisionId, 'ids'))
+			.orderBy(asc(t.gradeHistory.at), asc(t.gradeHistory.id))
+			.prepare('grade_history_of')
+	).execute({ ids: idArray(revisionIds) });
 }
 
 /** Leave-one-out backtest over every measured live revision of the catalogue. */

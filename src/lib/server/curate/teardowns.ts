@@ -4,10 +4,11 @@
  * a reason. Verified reports feed the revision odds, so they are queryable by converter,
  * revision and shop.
  */
-import { and, desc, eq, type SQL } from 'drizzle-orm';
+import { and, desc, eq, sql, type SQL } from 'drizzle-orm';
 import type { z } from 'zod';
 import { audit } from '../audit';
 import * as t from '../db/schema';
+import { preparedFor } from '../db/prepared';
 import { FieldError, type Actor, type Database } from './common';
 import type { teardownReviewSchema, teardownSchema } from './schemas';
 import { ownFile, setFilesStatus } from './uploads';
@@ -151,13 +152,26 @@ export function teardownsBy(db: Database, userId: string) {
  * Verified reports, optionally for one converter, revision or shop, newest purchase first:
  * the one source of the teardowns a converter page lists and of its revision odds.
  */
-export function verifiedTeardowns(
+export async function verifiedTeardowns(
 	db: Database,
 	filter: { converterId?: number; revisionId?: number; shopId?: number } = {}
 ) {
+	const newestFirst = [desc(t.teardownReports.purchaseMonth), desc(t.teardownReports.id)];
+	// one converter's (its page): built once
+	if (filter.converterId !== undefined && filter.revisionId === undefined && filter.shopId === undefined)
+		return preparedFor(db, 'verified_teardowns_of', () =>
+			reports(
+				db,
+				and(
+					eq(t.teardownReports.status, 'verified'),
+					eq(t.teardownReports.converterId, sql.placeholder('converterId'))
+				),
+				newestFirst
+			).prepare('verified_teardowns_of')
+		).execute({ converterId: filter.converterId });
 	const conds: SQL[] = [eq(t.teardownReports.status, 'verified')];
 	if (filter.converterId !== undefined) conds.push(eq(t.teardownReports.converterId, filter.converterId));
 	if (filter.revisionId !== undefined) conds.push(eq(t.teardownReports.revisionId, filter.revisionId));
 	if (filter.shopId !== undefined) conds.push(eq(t.teardownReports.shopId, filter.shopId));
-	return reports(db, and(...conds), [desc(t.teardownReports.purchaseMonth), desc(t.teardownReports.id)]);
+	return reports(db, and(...conds), newestFirst);
 }

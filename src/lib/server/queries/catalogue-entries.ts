@@ -3,7 +3,7 @@
  * viewpoint) from the catalogue tables through the pure rules in $lib/finder and $lib/pricing.
  * The read model (read-model.ts) stores what this builds; pages read the stored result.
  */
-import { asc, eq, inArray } from 'drizzle-orm';
+import { asc, eq, inArray, sql, type SQL } from 'drizzle-orm';
 import { chips, converters, revisions } from '../db/schema';
 import {
 	leadExpected,
@@ -25,6 +25,7 @@ import {
 
 /** The pool-level client or a transaction: every read here works inside a writer's transaction too. */
 import type { Db } from '../db/client';
+import { preparedFor } from '../db/prepared';
 export type { Db };
 
 export const iso = (d: Date | string | null | undefined): string | null =>
@@ -73,37 +74,45 @@ export function groupBy<T, K>(xs: T[], key: (x: T) => K): Map<K, T[]> {
 
 export async function revisionsFor(db: Db, converterIds: number[] | 'all') {
 	if (converterIds !== 'all' && converterIds.length === 0) return [];
-	return db
-		.select({
-			id: revisions.id,
-			converterId: revisions.converterId,
-			code: revisions.code,
-			chip: chips.name,
-			chipSlug: chips.slug,
-			chipMaker: chips.maker,
-			chipNotes: chips.notes,
-			boardMarking: revisions.boardMarking,
-			band: revisions.band,
-			score: revisions.score,
-			scoreMin: revisions.scoreMin,
-			scoreMax: revisions.scoreMax,
-			deviationIre: revisions.deviationIre,
-			bandReason: revisions.bandReason,
-			expected: revisions.expectedBand,
-			expectedBasis: revisions.expectedBasis,
-			expectedDeviationIre: revisions.expectedDeviationIre,
-			runs: revisions.runCount,
-			rubricVersion: revisions.rubricVersion,
-			gradedAt: revisions.gradedAt,
-			retiredAt: revisions.retiredAt,
-			seenFrom: revisions.seenFrom,
-			seenTo: revisions.seenTo,
-			notes: revisions.notes
-		})
-		.from(revisions)
-		.innerJoin(chips, eq(chips.id, revisions.chipId))
-		.where(converterIds === 'all' ? undefined : inArray(revisions.converterId, converterIds))
-		.orderBy(asc(revisions.converterId), asc(revisions.code));
+	const query = (where: SQL | undefined) =>
+		db
+			.select({
+				id: revisions.id,
+				converterId: revisions.converterId,
+				code: revisions.code,
+				chip: chips.name,
+				chipSlug: chips.slug,
+				chipMaker: chips.maker,
+				chipNotes: chips.notes,
+				boardMarking: revisions.boardMarking,
+				band: revisions.band,
+				score: revisions.score,
+				scoreMin: revisions.scoreMin,
+				scoreMax: revisions.scoreMax,
+				deviationIre: revisions.deviationIre,
+				bandReason: revisions.bandReason,
+				expected: revisions.expectedBand,
+				expectedBasis: revisions.expectedBasis,
+				expectedDeviationIre: revisions.expectedDeviationIre,
+				runs: revisions.runCount,
+				rubricVersion: revisions.rubricVersion,
+				gradedAt: revisions.gradedAt,
+				retiredAt: revisions.retiredAt,
+				seenFrom: revisions.seenFrom,
+				seenTo: revisions.seenTo,
+				notes: revisions.notes
+			})
+			.from(revisions)
+			.innerJoin(chips, eq(chips.id, revisions.chipId))
+			.where(where)
+			.orderBy(asc(revisions.converterId), asc(revisions.code));
+	if (converterIds === 'all') return query(undefined);
+	// one converter's (its page): built once
+	if (converterIds.length === 1)
+		return preparedFor(db, 'revisions_of', () =>
+			query(eq(revisions.converterId, sql.placeholder('id'))).prepare('revisions_of')
+		).execute({ id: converterIds[0] });
+	return query(inArray(revisions.converterId, converterIds));
 }
 
 export function buildEntries(

@@ -17,6 +17,7 @@
  */
 import { eq, sql } from 'drizzle-orm';
 import type { Database } from '../db/client';
+import { idArray } from '../db/prepared';
 import { listingStates, listings, shops, type PollOutcome, type StockState } from '../db/schema';
 import {
 	BUYABLE_STOCK,
@@ -254,7 +255,7 @@ async function figurePoints(
 			left join lateral (select b.id, b.observed_at from observation b
 				where b.listing_id = l.id and b.observed_at < s.since and b.stock not in ${BUYABLE_STOCK} and b.stock <> 'unknown'
 				order by b.observed_at desc, b.id desc limit 1) down on true
-			where l.id = any(${`{${listingIds.map((id) => Math.trunc(id)).join(',')}}`}::int[]))
+			where l.id = any(${idArray(listingIds)}::int[]))
 		select w.id as listing_id, w.upto, o.observed_at as at, o.price_minor, o.currency, o.stock
 		from w left join observation o on o.listing_id = w.id and o.observed_at <= w.upto
 			and (o.observed_at >= w.since or o.id in (w.carried, w.known, w.down, w.restock))

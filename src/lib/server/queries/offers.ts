@@ -3,6 +3,7 @@ import { and, eq, inArray, isNull, sql, type SQL } from 'drizzle-orm';
 import type { Db } from './catalogue-entries';
 import { listingStates, listings, shops } from '../db/schema';
 import type { CurrentOffer, RatesPerEur, Region } from '../../pricing';
+import { preparedFor } from '../db/prepared';
 
 /**
  * The SQL of the latest EUR-based rate per currency on or before `day` (YYYY-MM-DD), as a JSON
@@ -29,32 +30,36 @@ export async function loadRates(db: Db, day = rateDay()): Promise<RatesPerEur> {
  * only at shops based in or shipping to a region (filtered in SQL so a large catalogue reads less).
  */
 export async function currentOffers(db: Db, converterIds?: number[], region?: Region): Promise<CurrentOffer[]> {
-	const rows = await db
-		.select({
-			listingId: listings.id,
-			converterId: listings.converterId,
-			shopSlug: shops.slug,
-			shopName: shops.name,
-			shopRegion: shops.region,
-			shipsTo: shops.shipsTo,
-			url: listings.url,
-			priceMinor: listingStates.currentPriceMinor,
-			currency: listingStates.currentCurrency,
-			stock: sql<CurrentOffer['stock']>`coalesce(${listingStates.currentStock}, 'unknown')`,
-			lastCheckedAt: listingStates.lastCheckedAt,
-			lastSuccessAt: listingStates.lastSuccessAt
-		})
-		.from(listings)
-		.innerJoin(shops, eq(shops.id, listings.shopId))
-		.leftJoin(listingStates, eq(listingStates.listingId, listings.id))
-		.where(
-			and(
-				eq(listings.active, true),
-				isNull(listings.delistedAt),
-				eq(shops.active, true),
-				converterIds ? inArray(listings.converterId, converterIds.length ? converterIds : [-1]) : undefined,
-				region ? sql`(${shops.region} = ${region} or ${region} = any(${shops.shipsTo}))` : undefined
-			)
-		);
-	return rows;
+	const query = (where: SQL | undefined) =>
+		db
+			.select({
+				listingId: listings.id,
+				converterId: listings.converterId,
+				shopSlug: shops.slug,
+				shopName: shops.name,
+				shopRegion: shops.region,
+				shipsTo: shops.shipsTo,
+				url: listings.url,
+				priceMinor: listingStates.currentPriceMinor,
+				currency: listingStates.currentCurrency,
+				stock: sql<CurrentOffer['stock']>`coalesce(${listingStates.currentStock}, 'unknown')`,
+				lastCheckedAt: listingStates.lastCheckedAt,
+				lastSuccessAt: listingStates.lastSuccessAt
+			})
+			.from(listings)
+			.innerJoin(shops, eq(shops.id, listings.shopId))
+			.leftJoin(listingStates, eq(listingStates.listingId, listings.id))
+			.where(and(eq(listings.active, true), isNull(listings.delistedAt), eq(shops.active, true), where));
+	// one converter's offers in every region (its page): built once. By its id, not an id list:
+	// a generic plan for `= any(list)` guesses 100 listings and reads every listing state.
+	if (converterIds?.length === 1 && !region)
+		return preparedFor(db, 'current_offers_of', () =>
+			query(eq(listings.converterId, sql.placeholder('id'))).prepare('current_offers_of')
+		).execute({ id: converterIds[0] });
+	return query(
+		and(
+			converterIds ? inArray(listings.converterId, converterIds.length ? converterIds : [-1]) : undefined,
+			region ? sql`(${shops.region} = ${region} or ${region} = any(${shops.shipsTo}))` : undefined
+		)
+	);
 }

@@ -3,7 +3,7 @@
  * cached aggregates and the bench runs' stored level reports; prices from the listing states
  * through the pricing helpers. Nothing here recomputes a grade or converts money by hand.
  */
-import { and, asc, desc, eq, inArray, isNull, sql } from 'drizzle-orm';
+import { and, asc, desc, eq, isNull, sql } from 'drizzle-orm';
 import type { Database } from '../db/client';
 import {
 	benchReadings,
@@ -26,6 +26,7 @@ import type { Band } from '../../components/bands';
 import { verifiedTeardowns } from '../curate/teardowns';
 import { revisionOdds, type ShopRevisionOdds } from '../../odds';
 import { gradeHistoryOf } from '../expected';
+import { idArray, inIdList, preparedFor } from '../db/prepared';
 import { groupBy } from './catalogue-entries';
 
 export type { Viewpoint } from './catalogue-entries';
@@ -122,22 +123,23 @@ export interface ConverterDetail {
 /** Accepted bench runs (with readings and stored reports) for some revisions. */
 async function runsFor(db: Database, revisionIds: number[]) {
 	if (revisionIds.length === 0) return new Map<number, PublicBenchRun[]>();
-	const runs = await db
-		.select()
-		.from(benchRuns)
-		.where(and(inArray(benchRuns.revisionId, revisionIds), eq(benchRuns.status, 'accepted')))
-		.orderBy(asc(benchRuns.measuredOn), asc(benchRuns.id));
+	const runs = await preparedFor(db, 'accepted_runs', () =>
+		db
+			.select()
+			.from(benchRuns)
+			.where(and(inIdList(benchRuns.revisionId, 'ids'), eq(benchRuns.status, 'accepted')))
+			.orderBy(asc(benchRuns.measuredOn), asc(benchRuns.id))
+			.prepare('accepted_runs')
+	).execute({ ids: idArray(revisionIds) });
 	const readings = runs.length
-		? await db
-				.select()
-				.from(benchReadings)
-				.where(
-					inArray(
-						benchReadings.benchRunId,
-						runs.map((r) => r.id)
-					)
-				)
-				.orderBy(asc(benchReadings.benchRunId), asc(benchReadings.ire))
+		? await preparedFor(db, 'run_readings', () =>
+				db
+					.select()
+					.from(benchReadings)
+					.where(inIdList(benchReadings.benchRunId, 'ids'))
+					.orderBy(asc(benchReadings.benchRunId), asc(benchReadings.ire))
+					.prepare('run_readings')
+			).execute({ ids: idArray(runs.map((r) => r.id)) })
 		: [];
 	const out = new Map<number, PublicBenchRun[]>();
 	for (const r of runs) {
@@ -218,10 +220,13 @@ export async function loadConverterDetail(
 	slug: string,
 	view: Viewpoint
 ): Promise<ConverterDetail | null> {
-	const [row] = await db
-		.select()
-		.from(converters)
-		.where(and(eq(converters.slug, slug), isNull(converters.retiredAt)));
+	const [row] = await preparedFor(db, 'live_converter_by_slug', () =>
+		db
+			.select()
+			.from(converters)
+			.where(and(eq(converters.slug, sql.placeholder('slug')), isNull(converters.retiredAt)))
+			.prepare('live_converter_by_slug')
+	).execute({ slug });
 	if (!row) return null;
 	// two rounds of reads at once (each only needs what the one before found), not one after another
 	const [revs, offers, rates, [entry], teardownRows] = await Promise.all([

@@ -16,6 +16,7 @@ import { and, asc, desc, eq, inArray, isNull, notInArray, sql, type SQL } from '
 import { cardDirty, converterCards, converters, listings } from '../db/schema';
 import { buildEntries, revisionsFor, type Db, type Viewpoint } from './catalogue-entries';
 import { currentOffers, loadRates, rateDay, ratesSql } from './offers';
+import { idArray } from '../db/prepared';
 import { BANDS, bandRank } from '../../components/bands';
 import { minorDigits } from '../../feeds/currency';
 import { convertMinor, REGION_CODES, REGION_CURRENCY, type RatesPerEur } from '../../pricing';
@@ -350,7 +351,7 @@ export async function loadEntries(db: Db, view: Viewpoint, ids: number[]): Promi
 		const result = await db.execute(sql`
 			with cards as (select ${converterCards.converterId} as id, ${converterCards.entry} as entry
 				from ${converterCards}
-				where ${converterCards.region} = ${view.region} and ${converterCards.converterId} = any(${`{${ids.map((id) => Math.trunc(id)).join(',')}}`}::int[]))
+				where ${converterCards.region} = ${view.region} and ${converterCards.converterId} = any(${idArray(ids)}::int[]))
 			select ${dirtySql} as dirty, ${ratesSql(day)} as rates, cards.id, cards.entry, ${checkedMs} as checked_ms
 			from (select 1) one left join cards on true ${checkedJoin(sql`cards`)}`);
 		return result as unknown as Row[];

@@ -12,6 +12,7 @@
  */
 import { and, asc, desc, eq, gte, inArray, isNull, lte, sql } from 'drizzle-orm';
 import type { Database } from '../db/client';
+import { idArray, inIdList, preparedFor } from '../db/prepared';
 import {
 	listingStates,
 	listings,
@@ -238,7 +239,7 @@ async function loadStockTurns(
 	}>(sql`
 		with l as (
 			select id, least(coalesce(delisted_at, ${now.toISOString()}::timestamptz), ${now.toISOString()}::timestamptz) as upto
-			from listing where id = any(${`{${listingIds.map((id) => Math.trunc(id)).join(',')}}`}::int[])
+			from listing where id = any(${idArray(listingIds)}::int[])
 		),
 		known as (
 			select o.id, o.listing_id, o.observed_at, o.stock, o.stock in ${BUYABLE_STOCK} as buyable,
@@ -419,12 +420,15 @@ export async function listingNotes(
 ): Promise<Map<number, ListingNote>> {
 	if (!listingIds.length) return new Map();
 	const [rows, outlooks] = await Promise.all([
-		db
-			.select({ id: listings.id, shopSlug: shops.slug, line: shopRecordRows.line })
-			.from(listings)
-			.innerJoin(shops, eq(shops.id, listings.shopId))
-			.leftJoin(shopRecordRows, eq(shopRecordRows.shopId, listings.shopId))
-			.where(inArray(listings.id, listingIds)),
+		preparedFor(db, 'listing_shop_lines', () =>
+			db
+				.select({ id: listings.id, shopSlug: shops.slug, line: shopRecordRows.line })
+				.from(listings)
+				.innerJoin(shops, eq(shops.id, listings.shopId))
+				.leftJoin(shopRecordRows, eq(shopRecordRows.shopId, listings.shopId))
+				.where(inIdList(listings.id, 'ids'))
+				.prepare('listing_shop_lines')
+		).execute({ ids: idArray(listingIds) }),
 		listingOutlooks(db, listingIds, now)
 	]);
 	return new Map(rows.map((r) => [r.id, { outlook: outlooks.get(r.id)!, shop: { slug: r.shopSlug, line: r.line } }]));
