@@ -17,7 +17,8 @@ import {
 	reportMark,
 	rulerFraction,
 	rulerGeometry,
-	rulerX
+	rulerX,
+	bandMarkView
 } from '../../src/lib/components/bands';
 import { analyzeLevels, RUBRIC } from '../../src/lib/levels';
 import { renderAlertMessage, type AlertView } from '../../src/lib/server/alerts/message';
@@ -74,6 +75,41 @@ describe("the ruler's shared drawing", () => {
 	it('is the same drawing on every call, so marks of one size share it', () => {
 		expect(rulerGeometry('sm')).toBe(rulerGeometry('sm'));
 		expect(rulerGeometry('md').w).toBeGreaterThan(rulerGeometry('sm').w);
+	});
+});
+
+describe('what a band mark draws', () => {
+	it('puts the marker at the worst deviation, inside the band zone it shades', () => {
+		const v = bandMarkView({ band: 'close', deviationIre: 1.3, size: 'sm' });
+		const g = rulerGeometry('sm');
+		expect(v.markerX).toBeCloseTo(rulerX(g, 1.3), 2);
+		expect(v.zone!.x).toBe(rulerX(g, RULER_TICKS_IRE[0]));
+		expect(v.zone!.x + v.zone!.width).toBe(rulerX(g, RULER_TICKS_IRE[1]));
+		expect(v.text).toBe('Close · 1.3 IRE');
+		expect(v.beyond).toBe(false);
+	});
+	it('draws no marker when a rule set the band, and an arrow past the ruler end', () => {
+		const crushed = bandMarkView({ band: 'failing', deviationIre: 9, reason: 'crushed', size: 'md' });
+		expect(crushed.markerX).toBeNull();
+		expect(crushed.zone).toBeNull();
+		expect(crushed.text).toBe('Failing · crushed');
+		const far = bandMarkView({ band: 'failing', deviationIre: RULER_END_IRE + 4, size: 'md' });
+		expect(far.beyond).toBe(true);
+		expect(far.markerX).toBe(rulerX(rulerGeometry('md'), RULER_END_IRE));
+	});
+	it('describes a zone in words for a watch ("this band or better") and a legend', () => {
+		const watch = bandMarkView({ band: 'fair', zone: 'at-least', size: 'sm' });
+		expect(watch.text).toBe('Fair or better');
+		expect(watch.aria).toBe(`Level grade Fair or better: worst deviation up to ${RULER_TICKS_IRE[2]} IRE`);
+		expect(watch.zone!.x).toBe(rulerGeometry('sm').pad);
+		expect(watch.markerX).toBeNull();
+		const legend = bandMarkView({ band: 'failing', zone: 'band', size: 'sm' });
+		expect(legend.aria).toBe(`Level grade Failing: worst deviation from over ${RULER_TICKS_IRE[3]} IRE`);
+	});
+	it('uses a given label as its accessible name', () => {
+		expect(bandMarkView({ band: 'exact', deviationIre: 0.2, size: 'sm', label: '50 IRE step' }).aria).toBe(
+			'50 IRE step'
+		);
 	});
 });
 

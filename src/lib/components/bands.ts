@@ -200,6 +200,66 @@ export function markAriaLabel(m: GradeMark): string {
 	return reason === 'spread' ? `Level grade: ${figure} · spread: the channels disagree` : `Level grade: ${figure}`;
 }
 
+/** How a band mark is asked to draw: a grade, or (zone) a band's range with no measurement. */
+export interface BandMarkInput extends GradeMark {
+	/** 'band' shades the band's own zone (legends), 'at-least' everything up to its limit (a watch) */
+	zone?: 'band' | 'at-least';
+	size: RulerSize;
+	/** accessible label in place of the grade's words */
+	label?: string;
+}
+
+/** Everything a band mark draws, worked out once per mark (BandMark.svelte renders it). */
+export interface BandMarkView {
+	ruler: RulerGeometry;
+	text: string;
+	aria: string;
+	/** the shaded zone on the ruler, as x and width (px), or null */
+	zone: { x: number; width: number } | null;
+	/** the marker's x (px) at the worst deviation, or null when a rule or no grade hides it */
+	markerX: number | null;
+	/** the deviation is past the ruler's end: an arrow at the right end */
+	beyond: boolean;
+}
+
+function zoneWords(band: Band, zone: 'band' | 'at-least'): string {
+	const [from, to] = bandZoneIre(band);
+	if (zone === 'at-least') return band === 'failing' ? 'any amount' : `${to} IRE`;
+	return band === 'failing' ? `over ${from} IRE` : `${from} to ${to} IRE`;
+}
+
+export function bandMarkView(m: BandMarkInput): BandMarkView {
+	const ruler = rulerGeometry(m.size);
+	const { band, zone } = m;
+	const text =
+		zone === 'at-least' && band ? `${bandLabel(band)} or better` : zone === 'band' ? bandLabel(band) : markText(m);
+	const aria = m.label
+		? m.label
+		: zone && band
+			? `Level grade ${text}: worst deviation ${zone === 'at-least' ? 'up to' : 'from'} ${zoneWords(band, zone)}`
+			: markAriaLabel(m);
+	const showMarker = !zone && !markHidesMarker(m);
+	const deviation = showMarker ? (m.deviationIre as number) : 0;
+	const range = !band
+		? null
+		: zone === 'at-least'
+			? [0, bandZoneIre(band)[1]]
+			: zone === 'band' || showMarker
+				? bandZoneIre(band)
+				: null;
+	const zoneBox = range
+		? { x: rulerX(ruler, range[0]), width: Math.max(1, rulerX(ruler, range[1]) - rulerX(ruler, range[0])) }
+		: null;
+	return {
+		ruler,
+		text,
+		aria,
+		zone: zoneBox,
+		markerX: showMarker ? Math.round(rulerX(ruler, deviation) * 100) / 100 : null,
+		beyond: showMarker && deviation > RULER_END_IRE
+	};
+}
+
 /** Band mark props for one engine level report (a bench run, a what-if result). */
 export function reportMark(report: {
 	band: Band | null;
