@@ -16,9 +16,9 @@ import {
 	stockEvents,
 	revisions
 } from '../db/schema';
-import { currentOffers, loadRates } from './offers';
+import { currentOffers } from './offers';
 import { iso, revisionsFor, toOffer, type Viewpoint } from './catalogue-entries';
-import { loadCataloguePage, loadEntries } from './read-model';
+import { loadCataloguePage, loadEntries, loadEntriesAndRates } from './read-model';
 import { aggregateRuns, type LevelInput, type LevelReport } from '../../levels/index';
 import { leadGrade, type CatalogueEntry, type CatalogueOffer, type CatalogueRevision } from '../../finder';
 import { isBuyable, servesRegion, type Region } from '../../pricing';
@@ -229,14 +229,14 @@ export async function loadConverterDetail(
 	).execute({ slug });
 	if (!row) return null;
 	// two rounds of reads at once (each only needs what the one before found), not one after another
-	const [revs, offers, rates, [entry], teardownRows] = await Promise.all([
+	const [revs, offers, { entries, rates }, teardownRows] = await Promise.all([
 		revisionsFor(db, [row.id]),
 		currentOffers(db, [row.id]),
-		loadRates(db),
-		loadEntries(db, view, [row.id]),
+		loadEntriesAndRates(db, view, [row.id]),
 		verifiedTeardowns(db, { converterId: row.id })
 	]);
-	if (!entry) return null;
+	const entry = entries[0];
+	if (!entry || !rates) return null;
 	const revisionIds = revs.map((r) => r.id);
 	const [runs, historyRows] = await Promise.all([runsFor(db, revisionIds), gradeHistoryOf(db, revisionIds)]);
 	const history = groupBy(historyRows, (h) => h.revisionId);

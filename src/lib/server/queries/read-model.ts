@@ -342,9 +342,16 @@ export async function loadCataloguePage(
 	};
 }
 
-/** Some converters' entries for a viewpoint, in the order asked (missing or retired ones left out), in one statement. */
-export async function loadEntries(db: Db, view: Viewpoint, ids: number[]): Promise<CatalogueEntry[]> {
-	if (!ids.length) return [];
+/**
+ * Some converters' entries for a viewpoint, in the order asked (missing or retired ones left out),
+ * and the exchange rates they were priced with, in one statement.
+ */
+export async function loadEntriesAndRates(
+	db: Db,
+	view: Viewpoint,
+	ids: number[]
+): Promise<{ entries: CatalogueEntry[]; rates: RatesPerEur | null }> {
+	if (!ids.length) return { entries: [], rates: null };
 	const day = rateDay();
 	type Row = CardRow & { id: number | null };
 	const rows = await readCards(db, async () => {
@@ -357,10 +364,18 @@ export async function loadEntries(db: Db, view: Viewpoint, ids: number[]): Promi
 		return result as unknown as Row[];
 	});
 	const byId = new Map(rows.filter((r) => r.id != null).map((r) => [r.id!, r]));
-	return hydrate(
-		ids.filter((id) => byId.has(id)).map((id) => byId.get(id)!),
-		view
-	);
+	return {
+		entries: hydrate(
+			ids.filter((id) => byId.has(id)).map((id) => byId.get(id)!),
+			view
+		),
+		rates: rows[0]?.rates ?? null
+	};
+}
+
+/** Some converters' entries for a viewpoint, in the order asked (missing or retired ones left out), in one statement. */
+export async function loadEntries(db: Db, view: Viewpoint, ids: number[]): Promise<CatalogueEntry[]> {
+	return (await loadEntriesAndRates(db, view, ids)).entries;
 }
 
 /** Finder results shown at most: the best matches of a catalogue of thousands, ranked. */
