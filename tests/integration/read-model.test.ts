@@ -29,12 +29,20 @@ describe('public read model', () => {
 	let h: Awaited<ReturnType<typeof freshDatabase>>;
 	let counted: ReturnType<typeof postgres>;
 	let statements = 0;
+	let lastStatement: { query: string; params: unknown[] } | null = null;
 	let cdb: ReturnType<typeof drizzle<typeof schema>>;
 
 	beforeAll(async () => {
 		h = await freshDatabase('sg_it_read_model');
 		// postgres.js calls `debug` once per statement sent: the counter the scaling test reads.
-		counted = postgres(h.url, { max: 2, onnotice: () => {}, debug: () => void statements++ });
+		counted = postgres(h.url, {
+			max: 2,
+			onnotice: () => {},
+			debug: (_c, query, params) => {
+				statements++;
+				lastStatement = { query, params: params as unknown[] };
+			}
+		});
 		cdb = drizzle(counted, { schema });
 		await loadBenchCatalogue(h.sql, { converters: 50, per: 3, historyPoints: 3 });
 	}, 120_000);
@@ -90,6 +98,17 @@ describe('public read model', () => {
 		expect(page.total).toBe(2000);
 		expect(page.entries).toHaveLength(48);
 	}, 300_000);
+
+	it('pages the default order by walking the band index, not by sorting a whole band (2,000 converters)', async () => {
+		await loadCataloguePage(cdb, { region: 'eu', currency: 'EUR' }, { sort: 'band' }, { pageSize: 48 });
+		const { query, params } = lastStatement!;
+		const plan = (await h.sql.unsafe(`explain ${query}`, params as never[]))
+			.map((r) => String(r['QUERY PLAN']))
+			.join('\n');
+		expect(plan).toContain('converter_card_band_idx');
+		// band, score and price come in index order; only ties are sorted, by name
+		expect(plan).toMatch(/Presorted Key: [\w.]*band_rank, [\w.]*score, [\w.]*best_eur/);
+	}, 60_000);
 
 	/** The catalogue rules applied to entries built straight from the tables (no cards). */
 	async function direct(region: Region, currency: string): Promise<CatalogueEntry[]> {

@@ -12,7 +12,7 @@
  * commit; any other writer (a curator's edit) is caught by `refreshDirtyCards`, which a read runs
  * when its own statement found a dirty card (`readCards`), then reads again.
  */
-import { and, asc, desc, eq, inArray, isNull, notInArray, sql, type SQL } from 'drizzle-orm';
+import { and, asc, eq, inArray, isNull, notInArray, sql, type SQL } from 'drizzle-orm';
 import { cardDirty, converterCards, converters, listings } from '../db/schema';
 import { buildEntries, revisionsFor, type Db, type Viewpoint } from './catalogue-entries';
 import { currentOffers, loadRates, rateDay, ratesSql } from './offers';
@@ -222,6 +222,13 @@ const dirtySql = sql<boolean>`exists (select 1 from card_dirty)`;
 const byName = [sql`${converterCards.brand} collate "und-x-icu"`, sql`${converterCards.model} collate "und-x-icu"`];
 const priceNullsLast = sql`${converterCards.bestEur} asc nulls last`;
 
+/**
+ * Score, highest first, in the order of converter_card_band_idx (`score DESC NULLS LAST`; a card
+ * without a score stores -1, never null). A plain `desc` sorts nulls first, which the index does
+ * not match: each page then read every card of the region's best band to sort them.
+ */
+const scoreDesc = sql`${converterCards.score} desc nulls last`;
+
 export type CardOrder = CatalogueSort | 'finder';
 
 /**
@@ -241,8 +248,8 @@ const rankWith = (includeExpected: boolean | undefined) =>
 function orderFor(sort: CardOrder, includeExpected?: boolean): SQL[] {
 	// at the same band a measured grade goes before an expected one
 	const band = includeExpected
-		? [asc(rankWith(true)), asc(converterCards.bandRank), desc(converterCards.score)]
-		: [asc(converterCards.bandRank), desc(converterCards.score)];
+		? [asc(rankWith(true)), asc(converterCards.bandRank), scoreDesc]
+		: [asc(converterCards.bandRank), scoreDesc];
 	switch (sort) {
 		case 'name':
 			return byName;
@@ -253,7 +260,7 @@ function orderFor(sort: CardOrder, includeExpected?: boolean): SQL[] {
 				...(includeExpected ? [asc(rankWith(true))] : []),
 				asc(converterCards.bandRank),
 				asc(converterCards.buyable),
-				desc(converterCards.score),
+				scoreDesc,
 				priceNullsLast,
 				...byName
 			];
