@@ -11,6 +11,7 @@ import {
 	bestOffersByRegion,
 	downsampleSteps,
 	listingFigures,
+	listing90DayFigures,
 	listingHistory,
 	windowFigures,
 	type ChangePoint
@@ -160,6 +161,10 @@ describe('listing history', () => {
 		const many = await listingFigures(w.db, [dense, listingId], NOW);
 		expect(many.get(dense)).toEqual(h.figures);
 		expect(many.get(listingId)).toEqual((await listingHistory(w.db, listingId, { now: NOW }))!.figures);
+		// and the page's 90-day figures alone are those same ones
+		const d90 = await listing90DayFigures(w.db, [dense, listingId], NOW);
+		expect(d90.get(dense)).toEqual(h.figures.d90);
+		expect(d90.get(listingId)).toEqual(many.get(listingId)!.d90);
 
 		// Restock outlooks read only the stock turns (SQL) and come out as over the whole year in memory,
 		// with price-only changes and 'unknown' readings left out; a delisting ends the history.

@@ -414,6 +414,19 @@ export async function listingFigures(
 	return out;
 }
 
+/** The 90-day figures alone for many listings (the converter page shows no others), in one statement. */
+export async function listing90DayFigures(
+	db: Database,
+	listingIds: number[],
+	now = new Date()
+): Promise<Map<number, WindowFigures>> {
+	const windows = await figurePoints(db, listingIds, now);
+	const out = new Map<number, WindowFigures>();
+	for (const [id, { to, points }] of windows)
+		out.set(id, windowFigures(points, new Date(to.getTime() - FIGURE_DAYS * DAY), to));
+	return out;
+}
+
 /**
  * Per converter, the best buyable offer in every region, priced in the region's currency through the
  * latest exchange rates (bestOfferByConverter over currentOffers). A region without one maps to null.

@@ -2,7 +2,7 @@ import { error } from '@sveltejs/kit';
 import { db } from '$lib/server/db';
 import { listWatches } from '$lib/server/alerts/watches';
 import { loadConverterDetail, pageRevision } from '$lib/server/queries/public';
-import { listingFigures } from '$lib/server/queries/history';
+import { listing90DayFigures } from '$lib/server/queries/history';
 import { listingNotes } from '$lib/server/queries/shops';
 import { renderOnly } from '$lib/render-only';
 import { catalogueParams, parseLenient, searchObject, viewpoint } from '$lib/server/queries/public-params';
@@ -22,7 +22,7 @@ export const load: PageServerLoad = async ({ params, url, cookies, request, loca
 	const detail = await loadConverterDetail(db, params.slug, view);
 	if (!detail) error(404, 'No converter by that name in the catalogue.');
 	const [figures, notes, watches] = await Promise.all([
-		listingFigures(
+		listing90DayFigures(
 			db,
 			detail.listings.map((l) => l.listingId)
 		),
@@ -36,11 +36,11 @@ export const load: PageServerLoad = async ({ params, url, cookies, request, loca
 		[...figures].map(([id, f]) => [
 			id,
 			{
-				lowestMinor: f.d90.lowestMinor,
-				currency: f.d90.currency,
-				buyableShare: f.d90.buyableShare,
-				restocks: f.d90.restocks,
-				typicalRestockHours: f.d90.typicalRestockHours
+				lowestMinor: f.lowestMinor,
+				currency: f.currency,
+				buyableShare: f.buyableShare,
+				restocks: f.restocks,
+				typicalRestockHours: f.typicalRestockHours
 			}
 		])
 	);
