@@ -74,6 +74,9 @@ async function load() {
 		if (row) {
 			await admin.end();
 			await applyMigrations(url);
+			const app = createDb(url, { max: 1 });
+			await refreshDirtyCards(app.db); // an interrupted load may have left cards to build
+			await app.sql.end();
 			await settle();
 			return;
 		}

@@ -42,7 +42,7 @@ export function createDb(url: string | undefined, options: { max?: number; gener
  * run: on a converter page that was 9 of the database's 11 ms. postgres.js keeps one named
  * statement per query text on each connection, so every query Drizzle sends through the pool is
  * prepared once per connection. (Statements inside a transaction run on the transaction's own
- * handle and stay unnamed.)
+ * handle and stay unnamed, except queries built with `.prepare(name)`, as `preparedFor` builds.)
  */
 function preparedByDefault(sql: postgres.Sql): postgres.Sql {
 	return new Proxy(sql, {
