@@ -10,6 +10,7 @@ import { audit } from '../audit';
 import * as t from '../db/schema';
 import { preparedFor } from '../db/prepared';
 import { FieldError, type Actor, type Database } from './common';
+import type { Db } from '../db/client';
 import type { teardownReviewSchema, teardownSchema } from './schemas';
 import { ownFile, setFilesStatus } from './uploads';
 
@@ -125,7 +126,7 @@ const reportColumns = {
 	reviewedAt: t.teardownReports.reviewedAt
 };
 
-function reports(db: Database, where: SQL | undefined, order: SQL[] = [desc(t.teardownReports.createdAt)]) {
+function reports(db: Db, where: SQL | undefined, order: SQL[] = [desc(t.teardownReports.createdAt)]) {
 	return db
 		.select(reportColumns)
 		.from(t.teardownReports)
@@ -153,7 +154,7 @@ export function teardownsBy(db: Database, userId: string) {
  * the one source of the teardowns a converter page lists and of its revision odds.
  */
 export async function verifiedTeardowns(
-	db: Database,
+	db: Db,
 	filter: { converterId?: number; revisionId?: number; shopId?: number } = {}
 ) {
 	const newestFirst = [desc(t.teardownReports.purchaseMonth), desc(t.teardownReports.id)];

@@ -13,12 +13,14 @@ import {
 	bigint,
 	bigserial,
 	boolean,
+	customType,
 	char,
 	check,
 	date,
 	doublePrecision,
 	index,
 	integer,
+	json,
 	jsonb,
 	numeric,
 	pgEnum,
@@ -733,6 +735,40 @@ export const converterCards = pgTable(
 export const cardDirty = pgTable('card_dirty', {
 	converterId: integer('converter_id').primaryKey()
 });
+
+/** PostgreSQL's pg_snapshot and xid8, kept as their text forms (compared in SQL only). */
+const pgSnapshot = customType<{ data: string }>({ dataType: () => 'pg_snapshot' });
+const xid8 = customType<{ data: string }>({ dataType: () => 'xid8' });
+
+/**
+ * The converter page's read model (src/lib/server/queries/converter-doc.ts): per live converter,
+ * what its page and /api/v1/converters/{slug} show whatever the visitor's region and currency,
+ * with the snapshot it was built from.
+ */
+export const converterDetails = pgTable('converter_detail', {
+	converterId: integer('converter_id')
+		.primaryKey()
+		.references(() => converters.id, { onDelete: 'cascade' }),
+	doc: json('doc').notNull(),
+	snapshot: pgSnapshot('snapshot').notNull(),
+	builtAt: timestamp('built_at', { withTimezone: true }).notNull()
+});
+
+/**
+ * Writes to a converter's page inputs, one row per converter and writing transaction (filled by
+ * triggers, migration 0012): a document whose snapshot does not see the transaction is stale.
+ */
+export const detailStale = pgTable(
+	'detail_stale',
+	{
+		converterId: integer('converter_id').notNull(),
+		xid: xid8('xid')
+			.notNull()
+			.default(sql`pg_current_xact_id()`),
+		at: timestamp('at', { withTimezone: true }).notNull().defaultNow()
+	},
+	(t) => [primaryKey({ columns: [t.converterId, t.xid] })]
+);
 
 /**
  * Each shop's public record (90 days of all its listings' history, src/lib/server/queries/shops.ts)

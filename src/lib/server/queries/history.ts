@@ -16,7 +16,7 @@
  *   are not yet measurable).
  */
 import { eq, sql } from 'drizzle-orm';
-import type { Database } from '../db/client';
+import type { Db } from '../db/client';
 import { idArray } from '../db/prepared';
 import { listingStates, listings, shops, type PollOutcome, type StockState } from '../db/schema';
 import {
@@ -233,7 +233,7 @@ const toPoint = (r: PointRow): ChangePoint => ({
  * the window holds.
  */
 async function figurePoints(
-	db: Database,
+	db: Db,
 	listingIds: number[],
 	now: Date
 ): Promise<Map<number, { to: Date; points: ChangePoint[] }>> {
@@ -277,7 +277,7 @@ async function figurePoints(
  * (at `from`). At most `maxPoints` rows whatever the length of the history.
  */
 async function chartPoints(
-	db: Database,
+	db: Db,
 	listingId: number,
 	from: Date,
 	to: Date,
@@ -333,7 +333,7 @@ async function chartPoints(
  * of rows.
  */
 export async function listingHistory(
-	db: Database,
+	db: Db,
 	listingId: number,
 	opts: { range?: HistoryRange; points?: number; now?: Date } = {}
 ): Promise<ListingHistory | null> {
@@ -399,7 +399,7 @@ export async function listingHistory(
 
 /** 30- and 90-day figures for many listings at once (the converter page), in one statement. */
 export async function listingFigures(
-	db: Database,
+	db: Db,
 	listingIds: number[],
 	now = new Date()
 ): Promise<Map<number, { d30: WindowFigures; d90: WindowFigures }>> {
@@ -416,7 +416,7 @@ export async function listingFigures(
 
 /** The 90-day figures alone for many listings (the converter page shows no others), in one statement. */
 export async function listing90DayFigures(
-	db: Database,
+	db: Db,
 	listingIds: number[],
 	now = new Date()
 ): Promise<Map<number, WindowFigures>> {
@@ -432,7 +432,7 @@ export async function listing90DayFigures(
  * latest exchange rates (bestOfferByConverter over currentOffers). A region without one maps to null.
  */
 export async function bestOffersByRegion(
-	db: Database,
+	db: Db,
 	converterIds?: number[],
 	now = new Date()
 ): Promise<Map<number, Record<Region, PricedOffer | null>>> {

@@ -16,18 +16,14 @@ import {
 	stockEvents,
 	revisions
 } from '../db/schema';
-import { currentOffers } from './offers';
 import { iso, revisionsFor, toOffer, type Viewpoint } from './catalogue-entries';
 import { loadCataloguePage, loadEntries, loadEntriesAndRates } from './read-model';
-import { aggregateRuns, type LevelInput, type LevelReport } from '../../levels/index';
+import type { LevelInput, LevelReport } from '../../levels/index';
 import { leadGrade, type CatalogueEntry, type CatalogueOffer, type CatalogueRevision } from '../../finder';
 import { isBuyable, servesRegion, type Region } from '../../pricing';
 import type { Band } from '../../components/bands';
-import { verifiedTeardowns } from '../curate/teardowns';
-import { revisionOdds, type ShopRevisionOdds } from '../../odds';
-import { gradeHistoryOf } from '../expected';
-import { idArray, inIdList, preparedFor } from '../db/prepared';
-import { groupBy } from './catalogue-entries';
+import type { ShopRevisionOdds } from '../../odds';
+import { publicRevision, readConverterDoc, runsFor, type ConverterDoc } from './converter-doc';
 
 export type { Viewpoint } from './catalogue-entries';
 
@@ -118,152 +114,40 @@ export interface ConverterDetail {
 	listings: PublicListing[];
 	teardowns: TeardownRow[];
 	odds: ShopRevisionOdds[];
+	/** Each listing's 90-day figures and notes, by listing id. */
+	figures: ConverterDoc['figures'];
+	notes: ConverterDoc['notes'];
 }
 
-/** Accepted bench runs (with readings and stored reports) for some revisions. */
-async function runsFor(db: Database, revisionIds: number[]) {
-	if (revisionIds.length === 0) return new Map<number, PublicBenchRun[]>();
-	const runs = await preparedFor(db, 'accepted_runs', () =>
-		db
-			.select()
-			.from(benchRuns)
-			.where(and(inIdList(benchRuns.revisionId, 'ids'), eq(benchRuns.status, 'accepted')))
-			.orderBy(asc(benchRuns.measuredOn), asc(benchRuns.id))
-			.prepare('accepted_runs')
-	).execute({ ids: idArray(revisionIds) });
-	const readings = runs.length
-		? await preparedFor(db, 'run_readings', () =>
-				db
-					.select()
-					.from(benchReadings)
-					.where(inIdList(benchReadings.benchRunId, 'ids'))
-					.orderBy(asc(benchReadings.benchRunId), asc(benchReadings.ire))
-					.prepare('run_readings')
-			).execute({ ids: idArray(runs.map((r) => r.id)) })
-		: [];
-	const out = new Map<number, PublicBenchRun[]>();
-	for (const r of runs) {
-		if (!r.report) continue; // a run without its engine report is not shown
-		const steps = readings
-			.filter((x) => x.benchRunId === r.id)
-			.map((x) => ({ ire: x.ire, r: x.rMv, g: x.gMv, b: x.bMv }));
-		const list = out.get(r.revisionId) ?? [];
-		list.push({
-			id: r.id,
-			measuredBy: r.measuredBy,
-			measuredOn: r.measuredOn,
-			testSource: r.testSource,
-			pattern: r.pattern,
-			instrument: r.instrument,
-			termination: r.termination,
-			fullScaleMv: r.fullScaleMv,
-			band: r.band,
-			score: r.score,
-			input: { steps, fullScaleMv: r.fullScaleMv },
-			report: r.report as LevelReport
-		});
-		out.set(r.revisionId, list);
-	}
-	return out;
-}
-
-function medianRunIndex(runs: PublicBenchRun[]): number | null {
-	if (runs.length === 0) return null;
-	try {
-		return aggregateRuns(runs.map((r) => r.report)).medianRunIndex;
-	} catch {
-		return runs.length - 1; // mixed rubric versions: show the newest run
-	}
-}
-
-type GradeHistoryRow = Awaited<ReturnType<typeof gradeHistoryOf>>[number];
-
-function publicRevision(
-	r: Awaited<ReturnType<typeof revisionsFor>>[number],
-	runs: PublicBenchRun[],
-	history: GradeHistoryRow[] = []
-): PublicRevision {
-	return {
-		id: r.id,
-		code: r.code,
-		chip: r.chip,
-		chipSlug: r.chipSlug,
-		chipMaker: r.chipMaker,
-		chipNotes: r.chipNotes,
-		boardMarking: r.boardMarking,
-		band: r.band,
-		score: r.score,
-		deviationIre: r.deviationIre,
-		bandReason: r.bandReason,
-		expected: r.expected,
-		expectedBasis: r.expectedBasis,
-		expectedDeviationIre: r.expectedDeviationIre,
-		scoreMin: r.scoreMin,
-		scoreMax: r.scoreMax,
-		runs: r.runs,
-		retired: r.retiredAt !== null,
-		seenFrom: r.seenFrom,
-		seenTo: r.seenTo,
-		notes: r.notes,
-		rubricVersion: r.rubricVersion,
-		gradedAt: iso(r.gradedAt),
-		runsDetail: runs,
-		medianRun: medianRunIndex(runs),
-		measuredBy: [...new Set(runs.map((x) => x.measuredBy))],
-		gradeHistory: history.map((h) => ({ kind: h.kind, band: h.band, detail: h.detail, at: iso(h.at)! }))
-	};
-}
-
-/** One converter with everything its page shows, or null when there is no such live converter. */
+/**
+ * One converter with everything its page shows, or null when there is no such live converter:
+ * its document (converter-doc.ts) with the offers priced for the viewpoint, the region's card and
+ * the listings' last-checked times.
+ */
 export async function loadConverterDetail(
 	db: Database,
 	slug: string,
 	view: Viewpoint
 ): Promise<ConverterDetail | null> {
-	const [row] = await preparedFor(db, 'live_converter_by_slug', () =>
-		db
-			.select()
-			.from(converters)
-			.where(and(eq(converters.slug, sql.placeholder('slug')), isNull(converters.retiredAt)))
-			.prepare('live_converter_by_slug')
-	).execute({ slug });
-	if (!row) return null;
-	// two rounds of reads at once (each only needs what the one before found), not one after another
-	const [revs, offers, { entries, rates }, teardownRows] = await Promise.all([
-		revisionsFor(db, [row.id]),
-		currentOffers(db, [row.id]),
-		loadEntriesAndRates(db, view, [row.id]),
-		verifiedTeardowns(db, { converterId: row.id })
-	]);
+	const read = await readConverterDoc(db, slug);
+	if (!read) return null;
+	const { entries, rates } = await loadEntriesAndRates(db, view, [read.converterId]);
 	const entry = entries[0];
 	if (!entry || !rates) return null;
-	const revisionIds = revs.map((r) => r.id);
-	const [runs, historyRows] = await Promise.all([runsFor(db, revisionIds), gradeHistoryOf(db, revisionIds)]);
-	const history = groupBy(historyRows, (h) => h.revisionId);
-	const teardowns: TeardownRow[] = teardownRows.map((t) => ({
-		id: t.id,
-		revisionCode: t.revision,
-		chip: t.chip ?? t.chipText,
-		boardMarking: t.boardMarking,
-		shopSlug: t.shopSlug,
-		shopName: t.shop ?? t.shopNameOther ?? 'another shop',
-		purchaseMonth: t.purchaseMonth,
-		notes: t.notes,
-		photoFileId: t.photoFileId
-	}));
-	const odds = revisionOdds(
-		teardowns
-			.filter((t) => t.shopSlug && t.revisionCode)
-			.map((t) => ({ shopSlug: t.shopSlug!, shopName: t.shopName, revisionCode: t.revisionCode! })),
-		revs.map((r) => r.code)
-	);
-	const shipsBySlug = new Map(offers.map((o) => [o.shopSlug, o.shipsTo] as const));
-	const listingsOut: PublicListing[] = offers
-		.map((o) => ({
-			...toOffer(o, view.currency, rates),
-			shipsTo: shipsBySlug.get(o.shopSlug) ?? [],
-			servesViewer: servesRegion(o, view.region)
-		}))
+	const { doc, checkedMs } = read;
+	const listingsOut: PublicListing[] = doc.offers
+		.map((o) => {
+			const checked = checkedMs[o.listingId];
+			return {
+				...toOffer(
+					{ ...o, lastCheckedAt: checked != null ? new Date(checked) : null, lastSuccessAt: null },
+					view.currency,
+					rates
+				),
+				shipsTo: o.shipsTo,
+				servesViewer: servesRegion(o, view.region)
+			};
+		})
 		.sort(
 			(a, b) =>
 				Number(b.servesViewer) - Number(a.servesViewer) ||
@@ -272,10 +156,12 @@ export async function loadConverterDetail(
 		);
 	return {
 		entry,
-		revisions: revs.map((r) => publicRevision(r, runs.get(r.id) ?? [], history.get(r.id))),
+		revisions: doc.revisions,
 		listings: listingsOut,
-		teardowns,
-		odds
+		teardowns: doc.teardowns,
+		odds: doc.odds,
+		figures: doc.figures,
+		notes: doc.notes
 	};
 }
 

@@ -11,7 +11,7 @@
  * - `listingOutlooks`: the restock outlook ($lib/restock) of listings from their own change points.
  */
 import { and, asc, desc, eq, gte, inArray, isNull, lte, sql } from 'drizzle-orm';
-import type { Database } from '../db/client';
+import type { Db } from '../db/client';
 import { idArray, inIdList, preparedFor } from '../db/prepared';
 import {
 	listingStates,
@@ -88,7 +88,7 @@ export function healthWindow(now: Date, days: number): { from: string; to: strin
 
 /** The poller's health per shop over the last `days` UTC days (today included). */
 export async function shopHealth(
-	db: Database,
+	db: Db,
 	opts: { now?: Date; days?: number; shopIds?: number[] } = {}
 ): Promise<{ from: string; to: string; shops: ShopHealth[] }> {
 	const now = opts.now ?? new Date();
@@ -198,7 +198,7 @@ interface ListingRow {
 }
 
 async function loadStockPoints(
-	db: Database,
+	db: Db,
 	listingIds: number[]
 ): Promise<Map<number, Array<StockPoint & { priceMinor: number | null; currency: string | null }>>> {
 	const out = new Map<number, Array<StockPoint & { priceMinor: number | null; currency: string | null }>>(
@@ -227,16 +227,11 @@ async function loadStockPoints(
  * spell), so it finds the same spells as in the whole history, from a fraction of the rows.
  */
 async function loadStockTurns(
-	db: Database,
+	db: Db,
 	listingIds: number[],
 	now: Date
 ): Promise<Map<number, { end: Date; points: StockPoint[] }>> {
-	const rows = await db.execute<{
-		listing_id: number;
-		upto: string | Date;
-		observed_at: string | Date | null;
-		stock: StockState | null;
-	}>(sql`
+	const rows = (await db.execute(sql`
 		with l as (
 			select id, least(coalesce(delisted_at, ${now.toISOString()}::timestamptz), ${now.toISOString()}::timestamptz) as upto
 			from listing where id = any(${idArray(listingIds)}::int[])
@@ -248,7 +243,12 @@ async function loadStockTurns(
 		)
 		select l.id as listing_id, l.upto, k.observed_at, k.stock
 		from l left join known k on k.listing_id = l.id and k.buyable_before is distinct from k.buyable
-		order by l.id, k.observed_at, k.id`);
+		order by l.id, k.observed_at, k.id`)) as unknown as Array<{
+		listing_id: number;
+		upto: string | Date;
+		observed_at: string | Date | null;
+		stock: StockState | null;
+	}>;
 	const out = new Map<number, { end: Date; points: StockPoint[] }>();
 	for (const r of rows) {
 		const id = Number(r.listing_id);
@@ -261,7 +261,7 @@ async function loadStockTurns(
 
 /** Restock outlooks of listings; a delisted listing's history ends at its delisting. One statement. */
 export async function listingOutlooks(
-	db: Database,
+	db: Db,
 	listingIds: number[],
 	now = new Date()
 ): Promise<Map<number, RestockOutlook>> {
@@ -277,7 +277,7 @@ export async function listingOutlooks(
 
 /** Shop records for the given shops (all shops when omitted), keyed by shop id. */
 export async function shopRecords(
-	db: Database,
+	db: Db,
 	opts: { shopIds?: number[]; now?: Date } = {}
 ): Promise<Map<number, ShopRecord>> {
 	const now = opts.now ?? new Date();
@@ -388,7 +388,7 @@ export interface ListingNote {
  * large catalogue never holds more than one shop's history. The jobs process runs this on a
  * schedule; the seed runs it once. Pages that changed line are told through sg_public.
  */
-export async function refreshShopRecords(db: Database, now = new Date()): Promise<{ shops: number; changed: number }> {
+export async function refreshShopRecords(db: Db, now = new Date()): Promise<{ shops: number; changed: number }> {
 	const all = await db
 		.select({ id: shops.id, line: shopRecordRows.line, stored: shopRecordRows.shopId })
 		.from(shops)
@@ -413,11 +413,7 @@ export interface ListingNote {
 }
 
 /** What a listing row shows beside price and stock: its restock outlook and its shop's record line. */
-export async function listingNotes(
-	db: Database,
-	listingIds: number[],
-	now = new Date()
-): Promise<Map<number, ListingNote>> {
+export async function listingNotes(db: Db, listingIds: number[], now = new Date()): Promise<Map<number, ListingNote>> {
 	if (!listingIds.length) return new Map();
 	const [rows, outlooks] = await Promise.all([
 		preparedFor(db, 'listing_shop_lines', () =>

@@ -2,8 +2,6 @@ import { error } from '@sveltejs/kit';
 import { db } from '$lib/server/db';
 import { listWatches } from '$lib/server/alerts/watches';
 import { loadConverterDetail, pageRevision } from '$lib/server/queries/public';
-import { listing90DayFigures } from '$lib/server/queries/history';
-import { listingNotes } from '$lib/server/queries/shops';
 import { renderOnly } from '$lib/render-only';
 import { catalogueParams, parseLenient, searchObject, viewpoint } from '$lib/server/queries/public-params';
 import type { PageServerLoad } from './$types';
@@ -21,37 +19,13 @@ export const load: PageServerLoad = async ({ params, url, cookies, request, loca
 	const view = viewpoint(p, cookies, request.headers.get('accept-language'));
 	const detail = await loadConverterDetail(db, params.slug, view);
 	if (!detail) error(404, 'No converter by that name in the catalogue.');
-	const [figures, notes, watches] = await Promise.all([
-		listing90DayFigures(
-			db,
-			detail.listings.map((l) => l.listingId)
-		),
-		listingNotes(
-			db,
-			detail.listings.map((l) => l.listingId)
-		),
-		locals.user ? listWatches(db, locals.user.id) : Promise.resolve([])
-	]);
-	const d90 = Object.fromEntries(
-		[...figures].map(([id, f]) => [
-			id,
-			{
-				lowestMinor: f.lowestMinor,
-				currency: f.currency,
-				buyableShare: f.buyableShare,
-				restocks: f.restocks,
-				typicalRestockHours: f.typicalRestockHours
-			}
-		])
-	);
+	const watches = locals.user ? await listWatches(db, locals.user.id) : [];
 	return renderOnly(
 		{
 			view,
 			detail: { ...detail, revisions: detail.revisions.map(pageRevision) },
-			figures: d90,
-			notes: Object.fromEntries(
-				[...notes].map(([id, n]) => [id, { outlook: n.outlook.text, shopSlug: n.shop.slug, shopLine: n.shop.line }])
-			),
+			figures: detail.figures,
+			notes: detail.notes,
 			signedIn: locals.user !== null,
 			watchId: watches.find((w) => w.converterSlug === params.slug)?.id ?? null
 		},

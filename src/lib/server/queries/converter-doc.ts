@@ -1,0 +1,307 @@
+/**
+ * The converter page's read model: one `converter_detail` row per converter holding what its page
+ * and /api/v1/converters/{slug} show whatever the visitor's region and currency: the revisions with
+ * their accepted runs (readings, stored reports) and grade history, the listings' offers in their
+ * own currency, the verified teardowns and the odds drawn from them, and each listing's 90-day
+ * figures, restock outlook and shop line. A page reads it in one statement, with each listing's
+ * last-checked time (every poll moves it); the region's card and the rates come from the cards.
+ *
+ * Keeping it current: every write to one of its inputs leaves a mark (converter, writing
+ * transaction) in `detail_stale` from the writing transaction itself (triggers, migration 0012).
+ * A document is built in one repeatable-read snapshot and stored with it; it is stale while a mark
+ * exists that its snapshot does not see, or once it is DOC_MAX_AGE_SECONDS old (the 90-day window
+ * and the outlooks move with the clock). A read that finds it stale builds it again. Marks are
+ * plain inserts and documents replace only older ones, so writers never wait for each other or for
+ * readers, and a slow rebuild from an older snapshot cannot overwrite a newer one.
+ */
+import { and, asc, eq, isNull, sql } from 'drizzle-orm';
+import type { Db } from '../db/client';
+import { benchReadings, benchRuns, converterDetails, converters } from '../db/schema';
+import { idArray, inIdList, preparedFor } from '../db/prepared';
+import { groupBy, iso, revisionsFor } from './catalogue-entries';
+import { currentOffers } from './offers';
+import { listing90DayFigures } from './history';
+import { listingNotes } from './shops';
+import { verifiedTeardowns } from '../curate/teardowns';
+import { gradeHistoryOf } from '../expected';
+import { aggregateRuns, type LevelReport } from '../../levels/index';
+import { revisionOdds, type ShopRevisionOdds } from '../../odds';
+import type { CurrentOffer } from '../../pricing';
+import type { PublicBenchRun, PublicRevision, TeardownRow } from './public';
+
+/** How long a document stands without a write: the page cache keeps a page as long (PAGE_CACHE_TTL_SECONDS). */
+export const DOC_MAX_AGE_SECONDS = 60;
+
+/** A listing's 90-day figures as the page shows them. */
+export interface ListingDayFigures {
+	lowestMinor: number | null;
+	currency: string | null;
+	buyableShare: number | null;
+	restocks: number;
+	typicalRestockHours: number | null;
+}
+
+/** A listing's restock outlook in words and its shop's record line. */
+export interface ListingNoteView {
+	outlook: string | null;
+	shopSlug: string;
+	shopLine: string | null;
+}
+
+/** An offer as stored: everything but the times each poll moves. */
+export type StoredOffer = Omit<CurrentOffer, 'lastCheckedAt' | 'lastSuccessAt'>;
+
+export interface ConverterDoc {
+	revisions: PublicRevision[];
+	offers: StoredOffer[];
+	teardowns: TeardownRow[];
+	odds: ShopRevisionOdds[];
+	/** By listing id. */
+	figures: Record<number, ListingDayFigures>;
+	notes: Record<number, ListingNoteView>;
+}
+
+/** Accepted bench runs (with readings and stored reports) for some revisions. */
+export async function runsFor(db: Db, revisionIds: number[]) {
+	if (revisionIds.length === 0) return new Map<number, PublicBenchRun[]>();
+	const runs = await preparedFor(db, 'accepted_runs', () =>
+		db
+			.select()
+			.from(benchRuns)
+			.where(and(inIdList(benchRuns.revisionId, 'ids'), eq(benchRuns.status, 'accepted')))
+			.orderBy(asc(benchRuns.measuredOn), asc(benchRuns.id))
+			.prepare('accepted_runs')
+	).execute({ ids: idArray(revisionIds) });
+	const readings = runs.length
+		? await preparedFor(db, 'run_readings', () =>
+				db
+					.select()
+					.from(benchReadings)
+					.where(inIdList(benchReadings.benchRunId, 'ids'))
+					.orderBy(asc(benchReadings.benchRunId), asc(benchReadings.ire))
+					.prepare('run_readings')
+			).execute({ ids: idArray(runs.map((r) => r.id)) })
+		: [];
+	const out = new Map<number, PublicBenchRun[]>();
+	for (const r of runs) {
+		if (!r.report) continue; // a run without its engine report is not shown
+		const steps = readings
+			.filter((x) => x.benchRunId === r.id)
+			.map((x) => ({ ire: x.ire, r: x.rMv, g: x.gMv, b: x.bMv }));
+		const list = out.get(r.revisionId) ?? [];
+		list.push({
+			id: r.id,
+			measuredBy: r.measuredBy,
+			measuredOn: r.measuredOn,
+			testSource: r.testSource,
+			pattern: r.pattern,
+			instrument: r.instrument,
+			termination: r.termination,
+			fullScaleMv: r.fullScaleMv,
+			band: r.band,
+			score: r.score,
+			input: { steps, fullScaleMv: r.fullScaleMv },
+			report: r.report as LevelReport
+		});
+		out.set(r.revisionId, list);
+	}
+	return out;
+}
+
+function medianRunIndex(runs: PublicBenchRun[]): number | null {
+	if (runs.length === 0) return null;
+	try {
+		return aggregateRuns(runs.map((r) => r.report)).medianRunIndex;
+	} catch {
+		return runs.length - 1; // mixed rubric versions: show the newest run
+	}
+}
+
+type GradeHistoryRow = Awaited<ReturnType<typeof gradeHistoryOf>>[number];
+
+export function publicRevision(
+	r: Awaited<ReturnType<typeof revisionsFor>>[number],
+	runs: PublicBenchRun[],
+	history: GradeHistoryRow[] = []
+): PublicRevision {
+	return {
+		id: r.id,
+		code: r.code,
+		chip: r.chip,
+		chipSlug: r.chipSlug,
+		chipMaker: r.chipMaker,
+		chipNotes: r.chipNotes,
+		boardMarking: r.boardMarking,
+		band: r.band,
+		score: r.score,
+		deviationIre: r.deviationIre,
+		bandReason: r.bandReason,
+		expected: r.expected,
+		expectedBasis: r.expectedBasis,
+		expectedDeviationIre: r.expectedDeviationIre,
+		scoreMin: r.scoreMin,
+		scoreMax: r.scoreMax,
+		runs: r.runs,
+		retired: r.retiredAt !== null,
+		seenFrom: r.seenFrom,
+		seenTo: r.seenTo,
+		notes: r.notes,
+		rubricVersion: r.rubricVersion,
+		gradedAt: iso(r.gradedAt),
+		runsDetail: runs,
+		medianRun: medianRunIndex(runs),
+		measuredBy: [...new Set(runs.map((x) => x.measuredBy))],
+		gradeHistory: history.map((h) => ({ kind: h.kind, band: h.band, detail: h.detail, at: iso(h.at)! }))
+	};
+}
+
+/** Work out one converter's document from the catalogue tables (inside the caller's snapshot). */
+export async function buildConverterDoc(db: Db, converterId: number, now = new Date()): Promise<ConverterDoc> {
+	const [revs, offers, teardownRows] = await Promise.all([
+		revisionsFor(db, [converterId]),
+		currentOffers(db, [converterId]),
+		verifiedTeardowns(db, { converterId })
+	]);
+	const revisionIds = revs.map((r) => r.id);
+	const listingIds = offers.map((o) => o.listingId);
+	const [runs, historyRows, figures, notes] = await Promise.all([
+		runsFor(db, revisionIds),
+		gradeHistoryOf(db, revisionIds),
+		listing90DayFigures(db, listingIds, now),
+		listingNotes(db, listingIds, now)
+	]);
+	const history = groupBy(historyRows, (h) => h.revisionId);
+	const teardowns: TeardownRow[] = teardownRows.map((t) => ({
+		id: t.id,
+		revisionCode: t.revision,
+		chip: t.chip ?? t.chipText,
+		boardMarking: t.boardMarking,
+		shopSlug: t.shopSlug,
+		shopName: t.shop ?? t.shopNameOther ?? 'another shop',
+		purchaseMonth: t.purchaseMonth,
+		notes: t.notes,
+		photoFileId: t.photoFileId
+	}));
+	const odds = revisionOdds(
+		teardowns
+			.filter((t) => t.shopSlug && t.revisionCode)
+			.map((t) => ({ shopSlug: t.shopSlug!, shopName: t.shopName, revisionCode: t.revisionCode! })),
+		revs.map((r) => r.code)
+	);
+	return {
+		revisions: revs.map((r) => publicRevision(r, runs.get(r.id) ?? [], history.get(r.id))),
+		offers: offers.map(({ lastCheckedAt: _checked, lastSuccessAt: _success, ...o }) => o),
+		teardowns,
+		odds,
+		figures: Object.fromEntries(
+			[...figures].map(([id, f]) => [
+				id,
+				{
+					lowestMinor: f.lowestMinor,
+					currency: f.currency,
+					buyableShare: f.buyableShare,
+					restocks: f.restocks,
+					typicalRestockHours: f.typicalRestockHours
+				}
+			])
+		),
+		notes: Object.fromEntries(
+			[...notes].map(([id, n]) => [id, { outlook: n.outlook.text, shopSlug: n.shop.slug, shopLine: n.shop.line }])
+		)
+	};
+}
+
+/**
+ * Build a converter's document in one snapshot and store it unless a document from a later
+ * snapshot got there first; then drop the marks the stored document has seen. (`build`: tests
+ * commit a write in the middle of it.)
+ */
+export async function rebuildConverterDoc(
+	db: Db,
+	converterId: number,
+	build: typeof buildConverterDoc = buildConverterDoc
+): Promise<ConverterDoc> {
+	const built = await db.transaction(
+		async (tx) => {
+			// the transaction's first statement takes its snapshot; the clock is read after it
+			const [row] = (await tx.execute(
+				sql`select pg_current_snapshot()::text as snapshot, clock_timestamp()::text as built_at`
+			)) as unknown as Array<{ snapshot: string; built_at: string }>;
+			return { ...row, doc: await build(tx, converterId) };
+		},
+		{ isolationLevel: 'repeatable read', accessMode: 'read only' }
+	);
+	await db.execute(sql`
+		with stored as (
+			insert into converter_detail (converter_id, doc, snapshot, built_at)
+			select id, ${JSON.stringify(built.doc)}::json, ${built.snapshot}::pg_snapshot, ${built.built_at}::timestamptz
+			from converter where id = ${converterId}
+			on conflict (converter_id) do update
+				set doc = excluded.doc, snapshot = excluded.snapshot, built_at = excluded.built_at
+				where converter_detail.built_at < excluded.built_at
+			returning snapshot)
+		delete from detail_stale m using stored
+		where m.converter_id = ${converterId} and pg_visible_in_snapshot(m.xid, stored.snapshot)`);
+	return built.doc;
+}
+
+/** What a page reads: the document (built again first when stale) and the listings' last-checked times. */
+export interface ConverterDocRead {
+	converterId: number;
+	doc: ConverterDoc;
+	/** Epoch milliseconds by listing id; a listing never checked is missing. */
+	checkedMs: Record<number, number>;
+}
+
+// Requests in this process that find one converter's document stale wait for one rebuild.
+const rebuilding = new Map<number, Promise<ConverterDoc>>();
+
+function rebuildOnce(db: Db, converterId: number): Promise<ConverterDoc> {
+	let flight = rebuilding.get(converterId);
+	if (!flight) {
+		flight = rebuildConverterDoc(db, converterId).finally(() => rebuilding.delete(converterId));
+		rebuilding.set(converterId, flight);
+	}
+	return flight;
+}
+
+/** A live converter's document by slug, or null when there is no such live converter. */
+export async function readConverterDoc(db: Db, slug: string): Promise<ConverterDocRead | null> {
+	const [row] = await preparedFor(db, 'converter_doc_by_slug', () =>
+		db
+			.select({
+				id: converters.id,
+				doc: converterDetails.doc,
+				stale: sql<boolean>`(${converterDetails.builtAt} is null
+					or ${converterDetails.builtAt} < now() - ${sql.raw(`interval '${DOC_MAX_AGE_SECONDS} seconds'`)}
+					or exists (select 1 from detail_stale m where m.converter_id = ${converters.id}
+						and not pg_visible_in_snapshot(m.xid, ${converterDetails.snapshot})))`,
+				checked: sql<Record<number, number> | null>`(select json_object_agg(ls.listing_id,
+					floor(extract(epoch from ls.last_checked_at) * 1000)::float8)
+					from listing l join listing_state ls on ls.listing_id = l.id
+					where l.converter_id = ${converters.id} and ls.last_checked_at is not null)`
+			})
+			.from(converters)
+			.leftJoin(converterDetails, eq(converterDetails.converterId, converters.id))
+			.where(and(eq(converters.slug, sql.placeholder('slug')), isNull(converters.retiredAt)))
+			.prepare('converter_doc_by_slug')
+	).execute({ slug });
+	if (!row) return null;
+	const doc = row.stale ? await rebuildOnce(db, row.id) : (row.doc as ConverterDoc);
+	return { converterId: row.id, doc, checkedMs: row.checked ?? {} };
+}
+
+/**
+ * Marks no document needs any more (the jobs process's housekeeping): those the stored document has
+ * seen, and those of converters without a document that are older than any rebuild takes.
+ */
+export async function pruneDetailMarks(db: Db): Promise<number> {
+	const rows = (await db.execute(sql`
+		delete from detail_stale m
+		where exists (select 1 from converter_detail d where d.converter_id = m.converter_id
+				and pg_visible_in_snapshot(m.xid, d.snapshot))
+			or (m.at < now() - interval '1 hour'
+				and not exists (select 1 from converter_detail d where d.converter_id = m.converter_id))
+		returning 1`)) as unknown as unknown[];
+	return rows.length;
+}

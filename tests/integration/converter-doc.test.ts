@@ -1,0 +1,207 @@
+/**
+ * The converter page's read model (src/lib/server/queries/converter-doc.ts): a stored document says
+ * what one built from the tables says; a write to any of its inputs, by any path, shows on the next
+ * read; a write committed while a document is being built is not lost; an old document is built
+ * again; and housekeeping drops only the marks a stored document has seen.
+ */
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { eq, sql } from 'drizzle-orm';
+import * as schema from '../../src/lib/server/db/schema';
+import { freshDatabase } from './helpers/db';
+import { loadBenchCatalogue } from '../../scripts/lib/bench-catalogue';
+import {
+	buildConverterDoc,
+	DOC_MAX_AGE_SECONDS,
+	pruneDetailMarks,
+	readConverterDoc,
+	rebuildConverterDoc,
+	type ConverterDoc
+} from '../../src/lib/server/queries/converter-doc';
+import { loadConverterDetail } from '../../src/lib/server/queries/public';
+
+describe('converter page read model', () => {
+	let h: Awaited<ReturnType<typeof freshDatabase>>;
+	const SLUG = 'bench-box-3';
+	let id: number;
+
+	beforeAll(async () => {
+		h = await freshDatabase('sg_it_converter_doc');
+		await loadBenchCatalogue(h.sql, { converters: 8, per: 3, historyPoints: 6 });
+		[{ id }] = await h.db
+			.select({ id: schema.converters.id })
+			.from(schema.converters)
+			.where(eq(schema.converters.slug, SLUG));
+	}, 120_000);
+	afterAll(async () => {
+		await h?.close();
+	});
+
+	const builtAt = async () =>
+		(
+			await h.db
+				.select({ at: schema.converterDetails.builtAt })
+				.from(schema.converterDetails)
+				.where(eq(schema.converterDetails.converterId, id))
+		)[0]?.at.getTime() ?? null;
+	const read = async () => (await readConverterDoc(h.db, SLUG))!.doc;
+	/** Figures move with the clock (the buyable share of a window ending now): compared apart. */
+	const withoutFigures = ({ figures: _f, ...rest }: ConverterDoc) => rest;
+
+	it('stores a document equal to one built from the tables, and serves it until something changes', async () => {
+		expect(await builtAt()).toBeNull();
+		const first = await read();
+		const stored = await builtAt();
+		expect(stored).not.toBeNull();
+		const again = await read();
+		expect(await builtAt()).toBe(stored); // served, not built again
+		// The JSON round trip keeps every value and type (a Date would not equal its string).
+		const fresh = await buildConverterDoc(h.db, id);
+		expect(withoutFigures(again)).toEqual(withoutFigures(fresh));
+		expect(Object.keys(again.figures).sort()).toEqual(Object.keys(fresh.figures).sort());
+		for (const [listing, f] of Object.entries(fresh.figures)) {
+			expect(again.figures[Number(listing)].restocks).toBe(f.restocks);
+			expect(again.figures[Number(listing)].lowestMinor).toBe(f.lowestMinor);
+		}
+		expect(first.offers.length).toBeGreaterThan(0);
+		expect(first.revisions.some((r) => r.runsDetail.length > 0)).toBe(true);
+		// The page's detail is the document priced for the viewpoint.
+		const detail = (await loadConverterDetail(h.db, SLUG, { region: 'eu', currency: 'EUR' }))!;
+		expect(detail.revisions).toEqual(again.revisions);
+		expect(detail.listings.map((l) => l.listingId).sort()).toEqual(again.offers.map((o) => o.listingId).sort());
+	});
+
+	// One write per input the page shows, as any writer (poller, curator, jobs) would make it in SQL.
+	const writes: Array<[string, () => Promise<unknown>, (doc: ConverterDoc) => void]> = [
+		[
+			"a listing's price",
+			() =>
+				h.sql`update listing_state set current_price_minor = 123457
+					where listing_id = (select min(id) from listing where converter_id = ${id})`,
+			(doc) => expect(doc.offers.some((o) => o.priceMinor === 123457)).toBe(true)
+		],
+		[
+			'a new observation (the 90-day figures)',
+			() =>
+				h.sql`insert into observation (listing_id, observed_at, price_minor, currency, stock)
+					select l.id, now() - interval '1 hour', 101, ls.current_currency, 'in_stock'
+					from listing l join listing_state ls on ls.listing_id = l.id
+					where l.id = (select min(id) from listing where converter_id = ${id})`,
+			(doc) => expect(Object.values(doc.figures).some((f) => f.lowestMinor === 101)).toBe(true)
+		],
+		[
+			'a stock event (the restock outlook)',
+			() =>
+				h.sql`insert into stock_event (listing_id, observation_id, kind, at, previous_stock)
+					select o.listing_id, o.id, 'sellout', o.observed_at, 'in_stock' from observation o
+					join listing l on l.id = o.listing_id where l.converter_id = ${id}
+					order by o.id desc limit 1`,
+			() => {}
+		],
+		[
+			"a shop's record line",
+			() =>
+				h.sql`insert into shop_record (shop_id, line, computed_at)
+					select shop_id, 'a line written by the jobs process', now() from listing where converter_id = ${id} limit 1
+					on conflict (shop_id) do update set line = excluded.line`,
+			(doc) =>
+				expect(Object.values(doc.notes).some((n) => n.shopLine === 'a line written by the jobs process')).toBe(true)
+		],
+		[
+			'a grade history entry',
+			() =>
+				h.sql`insert into grade_history (revision_id, kind, band, detail, at)
+					select id, 'measured', 'fair', 'written by a test', now() from revision where converter_id = ${id} limit 1`,
+			(doc) =>
+				expect(doc.revisions.some((r) => r.gradeHistory.some((g) => g.detail === 'written by a test'))).toBe(true)
+		],
+		[
+			"a bench run's reading",
+			() =>
+				h.sql`update bench_reading set r_mv = 351.5 where ire = 50 and bench_run_id = (
+					select min(b.id) from bench_run b join revision r on r.id = b.revision_id
+					where r.converter_id = ${id} and b.status = 'accepted')`,
+			(doc) =>
+				expect(
+					doc.revisions.some((r) =>
+						r.runsDetail.some((run) => run.input.steps.some((s) => s.ire === 50 && s.r === 351.5))
+					)
+				).toBe(true)
+		],
+		[
+			'a verified teardown',
+			() =>
+				h.sql`insert into teardown_report (converter_id, purchase_month, chip_text, board_marking, notes, status)
+					values (${id}, '2026-01-01', 'a chip', 'BOARD-T1', 'opened by a test', 'verified')`,
+			(doc) => expect(doc.teardowns.some((t) => t.boardMarking === 'BOARD-T1')).toBe(true)
+		],
+		[
+			"a revision's notes",
+			() => h.sql`update revision set notes = 'revised by a test' where converter_id = ${id}`,
+			(doc) => expect(doc.revisions.every((r) => r.notes === 'revised by a test')).toBe(true)
+		]
+	];
+
+	it.each(writes)('shows %s on the next read', async (_name, write, check) => {
+		await read(); // current before the write
+		const before = await builtAt();
+		await write();
+		const doc = await read();
+		expect(await builtAt()).toBeGreaterThan(before!);
+		check(doc);
+		expect(withoutFigures(doc)).toEqual(withoutFigures(await buildConverterDoc(h.db, id)));
+	});
+
+	it('does not lose a write that commits while a document is being built', async () => {
+		await read();
+		// The rebuild's snapshot is taken; a poll commits a new price; then the rebuild reads and stores.
+		const during = await rebuildConverterDoc(h.db, id, async (tx, converterId) => {
+			await h.sql`update listing_state set current_price_minor = 98765
+				where listing_id = (select min(id) from listing where converter_id = ${id})`;
+			return buildConverterDoc(tx, converterId);
+		});
+		expect(during.offers.some((o) => o.priceMinor === 98765)).toBe(false);
+		// The stored document's snapshot did not see the write, so its mark survived: the next read builds again.
+		expect((await read()).offers.some((o) => o.priceMinor === 98765)).toBe(true);
+	});
+
+	it(`builds a document again once it is ${DOC_MAX_AGE_SECONDS} s old (its figures move with the clock)`, async () => {
+		await read();
+		await h.sql`update converter_detail set built_at = built_at - make_interval(secs => ${DOC_MAX_AGE_SECONDS + 1})
+			where converter_id = ${id}`;
+		const aged = await builtAt();
+		await read();
+		expect(await builtAt()).toBeGreaterThan(aged!);
+	});
+
+	it('housekeeping drops the marks no document needs, and keeps the others', async () => {
+		const [other] = await h.db
+			.select({ id: schema.converters.id })
+			.from(schema.converters)
+			.where(eq(schema.converters.slug, 'bench-box-5'));
+		await read();
+		await h.sql`delete from converter_detail where converter_id = ${other.id}`;
+		await h.sql`delete from detail_stale`;
+		// seen by the stored document: the oldest transaction id there is
+		await h.sql`insert into detail_stale (converter_id, xid) values (${id}, '3')`;
+		// not seen by it: a transaction still running
+		const running = h.db.transaction(async (tx) => {
+			await tx.execute(sql`update revision set notes = 'still being written' where converter_id = ${id}`);
+			await new Promise((r) => setTimeout(r, 300));
+		});
+		await new Promise((r) => setTimeout(r, 100));
+		// no document: an old mark goes, a recent one (a rebuild may be reading) stays
+		await h.sql`insert into detail_stale (converter_id, xid, at) values (${other.id}, '4', now() - interval '2 hours')`;
+		await h.sql`insert into detail_stale (converter_id, xid) values (${other.id}, '5')`;
+		expect(await pruneDetailMarks(h.db)).toBe(2);
+		await running;
+		const marks = await h.sql<Array<{ converter_id: number; xid: string }>>`
+			select converter_id, xid::text from detail_stale order by converter_id, xid`;
+		expect(marks.map((m) => [m.converter_id, m.xid === '5' ? 'recent' : 'writer'])).toEqual(
+			[
+				[id, 'writer'],
+				[other.id, 'recent']
+			].sort((a, b) => Number(a[0]) - Number(b[0]))
+		);
+		expect((await read()).revisions.every((r) => r.notes === 'still being written')).toBe(true);
+	});
+});
