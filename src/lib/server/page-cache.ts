@@ -33,7 +33,7 @@ import { env } from '$env/dynamic/private';
 import { building } from '$app/environment';
 import { sql } from '$lib/server/db';
 import {
-	catalogueParams,
+	viewpointParams,
 	CURRENCY_COOKIE,
 	parseLenient,
 	REGION_COOKIE,
@@ -232,7 +232,7 @@ function viewpointCookies(url: URL, cookie: CookieGet, acceptLanguage: string | 
 	const region = url.searchParams.get('region') || undefined;
 	const currency = url.searchParams.get('currency') || undefined;
 	if (!region && !currency) return [];
-	const { data } = parseLenient(catalogueParams.pick({ region: true, currency: true }), {
+	const { data } = parseLenient(viewpointParams, {
 		...(region && { region }),
 		...(currency && { currency })
 	});

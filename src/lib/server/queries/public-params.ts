@@ -42,6 +42,12 @@ export const catalogueParams = z.object({
 });
 export type CatalogueParams = z.infer<typeof catalogueParams>;
 
+/**
+ * The viewpoint alone (region, currency). Built once: zod compiles each schema object on its first
+ * parse, so a `.pick()` made per request compiled a new parser on every request.
+ */
+export const viewpointParams = catalogueParams.pick({ region: true, currency: true });
+
 export const finderParams = z.object({
 	region: z.preprocess(blank, regionSchema.optional()),
 	currency: z.preprocess(blank, currencySchema.optional()),

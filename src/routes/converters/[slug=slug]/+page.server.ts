@@ -3,7 +3,7 @@ import { db } from '$lib/server/db';
 import { listWatches } from '$lib/server/alerts/watches';
 import { loadConverterDetail, pageRevision } from '$lib/server/queries/public';
 import { renderOnly } from '$lib/render-only';
-import { catalogueParams, parseLenient, searchObject, viewpoint } from '$lib/server/queries/public-params';
+import { parseLenient, searchObject, viewpoint, viewpointParams } from '$lib/server/queries/public-params';
 import type { PageServerLoad } from './$types';
 
 /**
@@ -15,7 +15,7 @@ import type { PageServerLoad } from './$types';
 export const csr = false;
 
 export const load: PageServerLoad = async ({ params, url, cookies, request, locals, isDataRequest }) => {
-	const { data: p } = parseLenient(catalogueParams.pick({ region: true, currency: true }), searchObject(url));
+	const { data: p } = parseLenient(viewpointParams, searchObject(url));
 	const view = viewpoint(p, cookies, request.headers.get('accept-language'));
 	const detail = await loadConverterDetail(db, params.slug, view);
 	if (!detail) error(404, 'No converter by that name in the catalogue.');
