@@ -18,6 +18,7 @@ import {
 	type ConverterDoc
 } from '../../src/lib/server/queries/converter-doc';
 import { loadConverterDetail } from '../../src/lib/server/queries/public';
+import { loadEntriesAndRates } from '../../src/lib/server/queries/read-model';
 
 describe('converter page read model', () => {
 	let h: Awaited<ReturnType<typeof freshDatabase>>;
@@ -43,7 +44,7 @@ describe('converter page read model', () => {
 				.from(schema.converterDetails)
 				.where(eq(schema.converterDetails.converterId, id))
 		)[0]?.at.getTime() ?? null;
-	const read = async () => (await readConverterDoc(h.db, SLUG))!.doc;
+	const read = async () => (await readConverterDoc(h.db, SLUG, 'eu'))!.doc;
 	/** Figures move with the clock (the buyable share of a window ending now): compared apart. */
 	const withoutFigures = ({ figures: _f, ...rest }: ConverterDoc) => rest;
 
@@ -68,6 +69,22 @@ describe('converter page read model', () => {
 		const detail = (await loadConverterDetail(h.db, SLUG, { region: 'eu', currency: 'EUR' }))!;
 		expect(detail.revisions).toEqual(again.revisions);
 		expect(detail.listings.map((l) => l.listingId).sort()).toEqual(again.offers.map((o) => o.listingId).sort());
+	});
+
+	it("reads the region's card and the rates in the same statement, as the card read prices them", async () => {
+		for (const view of [
+			{ region: 'eu', currency: 'EUR' },
+			{ region: 'uk', currency: 'USD' }
+		] as const) {
+			const viaCards = await loadEntriesAndRates(h.db, view, [id]);
+			const detail = (await loadConverterDetail(h.db, SLUG, view))!;
+			expect(detail.entry).toEqual(viaCards.entries[0]);
+			if (detail.entry.best) expect(detail.entry.best.lastCheckedAt).not.toBeNull();
+			// with a card waiting for its rebuild, the page reads through the cards, which build it first
+			await h.sql`insert into card_dirty (converter_id) values (${id}) on conflict do nothing`;
+			expect((await loadConverterDetail(h.db, SLUG, view))!.entry).toEqual(viaCards.entries[0]);
+			expect(await h.sql`select 1 from card_dirty`).toHaveLength(0);
+		}
 	});
 
 	// One write per input the page shows, as any writer (poller, curator, jobs) would make it in SQL.

@@ -4,7 +4,7 @@
  * their accepted runs (readings, stored reports) and grade history, the listings' offers in their
  * own currency, the verified teardowns and the odds drawn from them, and each listing's 90-day
  * figures, restock outlook and shop line. A page reads it in one statement, with each listing's
- * last-checked time (every poll moves it); the region's card and the rates come from the cards.
+ * last-checked time (every poll moves it), the converter's card in the visitor's region and the rates.
  *
  * Keeping it current: every write to one of its inputs leaves a mark (converter, writing
  * transaction) in `detail_stale` from the writing transaction itself (triggers, migration 0012).
@@ -19,14 +19,16 @@ import type { Db } from '../db/client';
 import { benchReadings, benchRuns, converterDetails, converters } from '../db/schema';
 import { idArray, inIdList, preparedFor } from '../db/prepared';
 import { groupBy, iso, revisionsFor } from './catalogue-entries';
-import { currentOffers } from './offers';
+import { currentOffers, rateDay, ratesSql } from './offers';
+import { dirtySql } from './read-model';
 import { listing90DayFigures } from './history';
 import { listingNotes } from './shops';
 import { verifiedTeardowns } from '../curate/teardowns';
 import { gradeHistoryOf } from '../expected';
 import { aggregateRuns, type LevelReport } from '../../levels/index';
 import { revisionOdds, type ShopRevisionOdds } from '../../odds';
-import type { CurrentOffer } from '../../pricing';
+import type { CurrentOffer, RatesPerEur, Region } from '../../pricing';
+import type { CatalogueEntry } from '../../finder';
 import type { PublicBenchRun, PublicRevision, TeardownRow } from './public';
 
 /** How long a document stands without a write: the page cache keeps a page as long (PAGE_CACHE_TTL_SECONDS). */
@@ -251,6 +253,8 @@ export interface ConverterDocRead {
 	doc: ConverterDoc;
 	/** Epoch milliseconds by listing id; a listing never checked is missing. */
 	checkedMs: Record<number, number>;
+	/** The converter's card in the region asked, as stored, with today's rates; `dirty` when some card waits for a rebuild. */
+	card: { entry: CatalogueEntry | null; rates: RatesPerEur; dirty: boolean };
 }
 
 // Requests in this process that find one converter's document stale wait for one rebuild.
@@ -265,8 +269,11 @@ function rebuildOnce(db: Db, converterId: number): Promise<ConverterDoc> {
 	return flight;
 }
 
-/** A live converter's document by slug, or null when there is no such live converter. */
-export async function readConverterDoc(db: Db, slug: string): Promise<ConverterDocRead | null> {
+/**
+ * A live converter's document by slug, with its card in one region and today's rates, in one
+ * statement; null when there is no such live converter.
+ */
+export async function readConverterDoc(db: Db, slug: string, region: Region): Promise<ConverterDocRead | null> {
 	const [row] = await preparedFor(db, 'converter_doc_by_slug', () =>
 		db
 			.select({
@@ -279,16 +286,25 @@ export async function readConverterDoc(db: Db, slug: string): Promise<ConverterD
 				checked: sql<Record<number, number> | null>`(select json_object_agg(ls.listing_id,
 					floor(extract(epoch from ls.last_checked_at) * 1000)::float8)
 					from listing l join listing_state ls on ls.listing_id = l.id
-					where l.converter_id = ${converters.id} and ls.last_checked_at is not null)`
+					where l.converter_id = ${converters.id} and ls.last_checked_at is not null)`,
+				entry: sql<CatalogueEntry | null>`(select cc.entry from converter_card cc
+					where cc.region = ${sql.placeholder('region')} and cc.converter_id = ${converters.id})`,
+				rates: sql<RatesPerEur>`${ratesSql(sql.placeholder('day'))}`,
+				cardsDirty: dirtySql
 			})
 			.from(converters)
 			.leftJoin(converterDetails, eq(converterDetails.converterId, converters.id))
 			.where(and(eq(converters.slug, sql.placeholder('slug')), isNull(converters.retiredAt)))
 			.prepare('converter_doc_by_slug')
-	).execute({ slug });
+	).execute({ slug, region, day: rateDay() });
 	if (!row) return null;
 	const doc = row.stale ? await rebuildOnce(db, row.id) : (row.doc as ConverterDoc);
-	return { converterId: row.id, doc, checkedMs: row.checked ?? {} };
+	return {
+		converterId: row.id,
+		doc,
+		checkedMs: row.checked ?? {},
+		card: { entry: row.entry, rates: row.rates, dirty: row.cardsDirty }
+	};
 }
 
 /**

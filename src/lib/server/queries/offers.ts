@@ -1,5 +1,5 @@
 /** Current offers and exchange rates from the database, for the pricing helpers in $lib/pricing. */
-import { and, eq, inArray, isNull, sql, type SQL } from 'drizzle-orm';
+import { and, eq, inArray, isNull, sql, type Placeholder, type SQL } from 'drizzle-orm';
 import type { Db } from './catalogue-entries';
 import { listingStates, listings, shops } from '../db/schema';
 import type { CurrentOffer, RatesPerEur, Region } from '../../pricing';
@@ -10,7 +10,7 @@ import { preparedFor } from '../db/prepared';
  * object { "EUR": 1, "USD": 1.0845, ... }: the one definition of "today's rates", read on its own
  * (loadRates) or inside the read model's statements.
  */
-export function ratesSql(day: string): SQL {
+export function ratesSql(day: string | Placeholder): SQL {
 	return sql`(select jsonb_build_object('EUR', 1) || coalesce(jsonb_object_agg(trim(r.quote), r.rate), '{}')
 		from (select distinct on (quote) quote, rate from exchange_rate
 			where base = 'EUR' and day <= ${day} order by quote, day desc) r)`;

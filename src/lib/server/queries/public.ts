@@ -17,10 +17,10 @@ import {
 	revisions
 } from '../db/schema';
 import { iso, revisionsFor, toOffer, type Viewpoint } from './catalogue-entries';
-import { loadCataloguePage, loadEntries, loadEntriesAndRates } from './read-model';
+import { inCurrency, loadCataloguePage, loadEntries, loadEntriesAndRates } from './read-model';
 import type { LevelInput, LevelReport } from '../../levels/index';
 import { leadGrade, type CatalogueEntry, type CatalogueOffer, type CatalogueRevision } from '../../finder';
-import { isBuyable, servesRegion, type Region } from '../../pricing';
+import { isBuyable, servesRegion, type RatesPerEur, type Region } from '../../pricing';
 import type { Band } from '../../components/bands';
 import type { ShopRevisionOdds } from '../../odds';
 import { publicRevision, readConverterDoc, runsFor, type ConverterDoc } from './converter-doc';
@@ -122,19 +122,29 @@ export interface ConverterDetail {
 /**
  * One converter with everything its page shows, or null when there is no such live converter:
  * its document (converter-doc.ts) with the offers priced for the viewpoint, the region's card and
- * the listings' last-checked times.
+ * the listings' last-checked times, read in one statement.
  */
 export async function loadConverterDetail(
 	db: Database,
 	slug: string,
 	view: Viewpoint
 ): Promise<ConverterDetail | null> {
-	const read = await readConverterDoc(db, slug);
+	const read = await readConverterDoc(db, slug, view.region);
 	if (!read) return null;
-	const { entries, rates } = await loadEntriesAndRates(db, view, [read.converterId]);
-	const entry = entries[0];
+	const { doc, checkedMs, card } = read;
+	let entry: CatalogueEntry | undefined;
+	let rates: RatesPerEur | null = card.rates;
+	if (card.entry && !card.dirty) {
+		const checked = card.entry.best ? checkedMs[card.entry.best.listingId] : undefined;
+		entry = inCurrency(card.entry, view.currency, rates, checked != null ? new Date(checked).toISOString() : null);
+	} else {
+		// some card waits for its rebuild (a curator's edit): the card read builds them first
+		({
+			entries: [entry],
+			rates
+		} = await loadEntriesAndRates(db, view, [read.converterId]));
+	}
 	if (!entry || !rates) return null;
-	const { doc, checkedMs } = read;
 	const listingsOut: PublicListing[] = doc.offers
 		.map((o) => {
 			const checked = checkedMs[o.listingId];

@@ -154,7 +154,12 @@ export async function refreshDirtyCards(db: Db): Promise<number> {
 }
 
 /** An entry as stored (priced in its region's currency) re-priced for the visitor's currency. */
-function inCurrency(e: CatalogueEntry, currency: string, rates: RatesPerEur, checkedAt: string | null): CatalogueEntry {
+export function inCurrency(
+	e: CatalogueEntry,
+	currency: string,
+	rates: RatesPerEur,
+	checkedAt: string | null
+): CatalogueEntry {
 	const price = (o: CatalogueOffer): CatalogueOffer => ({
 		...o,
 		displayMinor:
@@ -216,7 +221,8 @@ function hydrate(rows: CardRow[], view: Viewpoint): CatalogueEntry[] {
 	);
 }
 
-const dirtySql = sql<boolean>`exists (select 1 from card_dirty)`;
+/** Whether any card waits for a rebuild (a read that finds one runs refreshDirtyCards and reads again). */
+export const dirtySql = sql<boolean>`exists (select 1 from card_dirty)`;
 
 /** ICU root collation: the order of String.localeCompare, whatever the cluster's locale. */
 const byName = [sql`${converterCards.brand} collate "und-x-icu"`, sql`${converterCards.model} collate "und-x-icu"`];
