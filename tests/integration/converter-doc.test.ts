@@ -206,10 +206,12 @@ describe('converter page read model', () => {
 			await new Promise((r) => setTimeout(r, 300));
 		});
 		await new Promise((r) => setTimeout(r, 100));
+		// an hour old: it goes, seen or not (the document's age limit covers it)
+		await h.sql`insert into detail_stale (converter_id, xid, at) values (${id}, '999999999', now() - interval '2 hours')`;
 		// no document: an old mark goes, a recent one (a rebuild may be reading) stays
 		await h.sql`insert into detail_stale (converter_id, xid, at) values (${other.id}, '4', now() - interval '2 hours')`;
 		await h.sql`insert into detail_stale (converter_id, xid) values (${other.id}, '5')`;
-		expect(await pruneDetailMarks(h.db)).toBe(2);
+		expect(await pruneDetailMarks(h.db)).toBe(3);
 		await running;
 		const marks = await h.sql<Array<{ converter_id: number; xid: string }>>`
 			select converter_id, xid::text from detail_stale order by converter_id, xid`;

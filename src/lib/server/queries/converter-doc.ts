@@ -308,16 +308,18 @@ export async function readConverterDoc(db: Db, slug: string, region: Region): Pr
 }
 
 /**
- * Marks no document needs any more (the jobs process's housekeeping): those the stored document has
- * seen, and those of converters without a document that are older than any rebuild takes.
+ * Marks no document needs any more (the jobs process's housekeeping): those the stored document's
+ * snapshot sees, and any older than an hour. A document is built again after DOC_MAX_AGE_SECONDS
+ * anyway, so an old mark can only matter to a document a minute old whose writer ran for an hour:
+ * at worst that document stands until its age runs out. Without the second rule the marks of a
+ * converter nobody reads would pile up with every poll.
  */
 export async function pruneDetailMarks(db: Db): Promise<number> {
 	const rows = (await db.execute(sql`
 		delete from detail_stale m
-		where exists (select 1 from converter_detail d where d.converter_id = m.converter_id
+		where m.at < now() - interval '1 hour'
+			or exists (select 1 from converter_detail d where d.converter_id = m.converter_id
 				and pg_visible_in_snapshot(m.xid, d.snapshot))
-			or (m.at < now() - interval '1 hour'
-				and not exists (select 1 from converter_detail d where d.converter_id = m.converter_id))
 		returning 1`)) as unknown as unknown[];
 	return rows.length;
 }
