@@ -750,6 +750,8 @@ export const converterDetails = pgTable('converter_detail', {
 		.primaryKey()
 		.references(() => converters.id, { onDelete: 'cascade' }),
 	doc: json('doc').notNull(),
+	/** DOC_SHAPE of the code that built it: a document from older code is built again. */
+	shape: integer('shape').notNull().default(0),
 	snapshot: pgSnapshot('snapshot').notNull(),
 	builtAt: timestamp('built_at', { withTimezone: true }).notNull()
 });
@@ -765,7 +767,10 @@ export const detailStale = pgTable(
 		xid: xid8('xid')
 			.notNull()
 			.default(sql`pg_current_xact_id()`),
-		at: timestamp('at', { withTimezone: true }).notNull().defaultNow()
+		/** When the writing statement ran (not its transaction's start: pruning goes by age). */
+		at: timestamp('at', { withTimezone: true })
+			.notNull()
+			.default(sql`statement_timestamp()`)
 	},
 	(t) => [primaryKey({ columns: [t.converterId, t.xid] })]
 );

@@ -9,10 +9,11 @@
  * Keeping it current: every write to one of its inputs leaves a mark (converter, writing
  * transaction) in `detail_stale` from the writing transaction itself (triggers, migration 0012).
  * A document is built in one repeatable-read snapshot and stored with it; it is stale while a mark
- * exists that its snapshot does not see, or once it is DOC_MAX_AGE_SECONDS old (the 90-day window
- * and the outlooks move with the clock). A read that finds it stale builds it again. Marks are
- * plain inserts and documents replace only older ones, so writers never wait for each other or for
- * readers, and a slow rebuild from an older snapshot cannot overwrite a newer one.
+ * exists that its snapshot does not see, once it is DOC_MAX_AGE_SECONDS old (the 90-day window
+ * and the outlooks move with the clock), or when older code built it (DOC_SHAPE). A read that finds
+ * it stale builds it again. Marks are plain inserts, so writers never wait for each other or for
+ * readers; a document replaces the stored one only when its snapshot sees everything the stored
+ * one's saw, so a slow rebuild from an older snapshot cannot overwrite a newer document.
  */
 import { and, asc, eq, isNull, sql } from 'drizzle-orm';
 import type { Db } from '../db/client';
@@ -33,6 +34,9 @@ import type { PublicBenchRun, PublicRevision, TeardownRow } from './public';
 
 /** How long a document stands without a write: the page cache keeps a page as long (PAGE_CACHE_TTL_SECONDS). */
 export const DOC_MAX_AGE_SECONDS = 60;
+
+/** Raise it with any change to ConverterDoc or to what buildConverterDoc puts in it: stored documents are then built again. */
+export const DOC_SHAPE = 1;
 
 /** A listing's 90-day figures as the page shows them. */
 export interface ListingDayFigures {
@@ -214,9 +218,9 @@ export async function buildConverterDoc(db: Db, converterId: number, now = new D
 }
 
 /**
- * Build a converter's document in one snapshot and store it unless a document from a later
- * snapshot got there first; then drop the marks the stored document has seen. (`build`: tests
- * commit a write in the middle of it.)
+ * Build a converter's document in one snapshot and store it unless the stored one saw something this
+ * snapshot does not; then drop the marks the stored document has seen. (`build`: tests commit a
+ * write, or run another rebuild, in the middle of it.)
  */
 export async function rebuildConverterDoc(
 	db: Db,
@@ -235,12 +239,16 @@ export async function rebuildConverterDoc(
 	);
 	await db.execute(sql`
 		with stored as (
-			insert into converter_detail (converter_id, doc, snapshot, built_at)
-			select id, ${JSON.stringify(built.doc)}::json, ${built.snapshot}::pg_snapshot, ${built.built_at}::timestamptz
+			insert into converter_detail (converter_id, doc, shape, snapshot, built_at)
+			select id, ${JSON.stringify(built.doc)}::json, ${DOC_SHAPE}::int, ${built.snapshot}::pg_snapshot,
+				${built.built_at}::timestamptz
 			from converter where id = ${converterId}
 			on conflict (converter_id) do update
-				set doc = excluded.doc, snapshot = excluded.snapshot, built_at = excluded.built_at
-				where converter_detail.built_at < excluded.built_at
+				set doc = excluded.doc, shape = excluded.shape, snapshot = excluded.snapshot, built_at = excluded.built_at
+				-- the new snapshot sees every transaction the stored one saw (clock order is not snapshot order)
+				where pg_snapshot_xmax(converter_detail.snapshot) <= pg_snapshot_xmax(excluded.snapshot)
+					and not exists (select 1 from pg_snapshot_xip(excluded.snapshot) x
+						where pg_visible_in_snapshot(x, converter_detail.snapshot))
 			returning snapshot)
 		delete from detail_stale m using stored
 		where m.converter_id = ${converterId} and pg_visible_in_snapshot(m.xid, stored.snapshot)`);
@@ -257,16 +265,32 @@ export interface ConverterDocRead {
 	card: { entry: CatalogueEntry | null; rates: RatesPerEur; dirty: boolean };
 }
 
-// Requests in this process that find one converter's document stale wait for one rebuild.
-const rebuilding = new Map<number, Promise<ConverterDoc>>();
+/**
+ * Requests in this process that find one converter's document stale share a rebuild, but only one
+ * whose snapshot comes after their own read: a request that saw a write's mark must get a document
+ * with that write, so it never joins a rebuild that had already started. It queues one after it.
+ */
+interface Flight {
+	/** performance.now() when the rebuild started (took its snapshot); Infinity while it waits its turn. */
+	startedAt: number;
+	doc: Promise<ConverterDoc>;
+}
+const rebuilding = new Map<number, Flight>();
 
-function rebuildOnce(db: Db, converterId: number): Promise<ConverterDoc> {
-	let flight = rebuilding.get(converterId);
-	if (!flight) {
-		flight = rebuildConverterDoc(db, converterId).finally(() => rebuilding.delete(converterId));
-		rebuilding.set(converterId, flight);
-	}
-	return flight;
+function rebuildAfter(db: Db, converterId: number, readAt: number): Promise<ConverterDoc> {
+	const current = rebuilding.get(converterId);
+	if (current && current.startedAt >= readAt) return current.doc;
+	const flight = { startedAt: Infinity } as Flight;
+	flight.doc = (current ? current.doc.catch(() => undefined) : Promise.resolve(undefined))
+		.then(() => {
+			flight.startedAt = performance.now();
+			return rebuildConverterDoc(db, converterId);
+		})
+		.finally(() => {
+			if (rebuilding.get(converterId) === flight) rebuilding.delete(converterId);
+		});
+	rebuilding.set(converterId, flight);
+	return flight.doc;
 }
 
 /**
@@ -274,12 +298,14 @@ function rebuildOnce(db: Db, converterId: number): Promise<ConverterDoc> {
  * statement; null when there is no such live converter.
  */
 export async function readConverterDoc(db: Db, slug: string, region: Region): Promise<ConverterDocRead | null> {
+	const readAt = performance.now();
 	const [row] = await preparedFor(db, 'converter_doc_by_slug', () =>
 		db
 			.select({
 				id: converters.id,
 				doc: converterDetails.doc,
 				stale: sql<boolean>`(${converterDetails.builtAt} is null
+					or ${converterDetails.shape} <> ${sql.raw(String(DOC_SHAPE))}
 					or ${converterDetails.builtAt} < now() - ${sql.raw(`interval '${DOC_MAX_AGE_SECONDS} seconds'`)}
 					or exists (select 1 from detail_stale m where m.converter_id = ${converters.id}
 						and not pg_visible_in_snapshot(m.xid, ${converterDetails.snapshot})))`,
@@ -298,7 +324,7 @@ export async function readConverterDoc(db: Db, slug: string, region: Region): Pr
 			.prepare('converter_doc_by_slug')
 	).execute({ slug, region, day: rateDay() });
 	if (!row) return null;
-	const doc = row.stale ? await rebuildOnce(db, row.id) : (row.doc as ConverterDoc);
+	const doc = row.stale ? await rebuildAfter(db, row.id, readAt) : (row.doc as ConverterDoc);
 	return {
 		converterId: row.id,
 		doc,

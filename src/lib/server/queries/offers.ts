@@ -1,5 +1,5 @@
 /** Current offers and exchange rates from the database, for the pricing helpers in $lib/pricing. */
-import { and, eq, inArray, isNull, sql, type Placeholder, type SQL } from 'drizzle-orm';
+import { and, asc, eq, inArray, isNull, sql, type Placeholder, type SQL } from 'drizzle-orm';
 import type { Db } from './catalogue-entries';
 import { listingStates, listings, shops } from '../db/schema';
 import type { CurrentOffer, RatesPerEur, Region } from '../../pricing';
@@ -49,7 +49,9 @@ export async function currentOffers(db: Db, converterIds?: number[], region?: Re
 			.from(listings)
 			.innerJoin(shops, eq(shops.id, listings.shopId))
 			.leftJoin(listingStates, eq(listingStates.listingId, listings.id))
-			.where(and(eq(listings.active, true), isNull(listings.delistedAt), eq(shops.active, true), where));
+			.where(and(eq(listings.active, true), isNull(listings.delistedAt), eq(shops.active, true), where))
+			// a stable order: the converter page's document, and its rows that tie, keep it
+			.orderBy(asc(listings.id));
 	// one converter's offers in every region (its page): built once. By its id, not an id list:
 	// a generic plan for `= any(list)` guesses 100 listings and reads every listing state.
 	if (converterIds?.length === 1 && !region)
