@@ -3,6 +3,10 @@
  * what one built from the tables says; a write to any of its inputs, by any path, shows on the next
  * read; a write committed while a document is being built is not lost; an old document is built
  * again; and housekeeping drops only the marks a stored document has seen.
+ * The reference for every check is the same document built straight from the tables
+ * (buildConverterDoc), not a published figure. Snapshot visibility is PostgreSQL's
+ * (PostgreSQL 15 documentation, "System Information Functions and Operators", table "Snapshot
+ * Information Functions": pg_current_snapshot, pg_visible_in_snapshot, pg_snapshot_xmax, pg_snapshot_xip).
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { eq } from 'drizzle-orm';
