@@ -6,7 +6,8 @@
 // ORIGIN, BODY_SIZE_LIMIT and the rest of adapter-node's environment apply as with `node build`.
 // WEB_CONCURRENCY=N (default 1) runs N worker processes sharing the port (node:cluster), one per
 // core in production: each is an ordinary stateless app instance with its own page cache and pool.
-// On glibc the server always runs as a worker under a small primary, which sets its malloc tuning.
+// The server runs as a worker under a small primary, which starts it with a larger young generation
+// for V8 and, on glibc, fixed malloc thresholds.
 import cluster from 'node:cluster';
 import http from 'node:http';
 import { resolve } from 'node:path';
@@ -28,7 +29,19 @@ const tuneMalloc =
 	!process.env.GLIBC_TUNABLES &&
 	Boolean(/** @type {any} */ (process.report.getReport()).header?.glibcVersionRuntime);
 
-if (cluster.isPrimary && (workers > 1 || tuneMalloc)) {
+// V8's young generation: every page render leaves about a megabyte of short-lived objects, and
+// with 32 requests in flight the default 16 MB semi-space fills several times a second, each
+// scavenge copying what the requests still hold and promoting much of it into the old generation
+// (cache off, 32 connections: garbage collection was a fifth of the CPU). 64 MB lets most of it die
+// young, for up to about 200 MB more memory under load. A size given in NODE_OPTIONS or on the
+// command line is kept.
+const SEMI_SPACE = '--max-semi-space-size=64';
+const tuneHeap = ![...process.execArgv, process.env.NODE_OPTIONS ?? ''].some((a) =>
+	a.includes('--max-semi-space-size')
+);
+
+if (cluster.isPrimary && (workers > 1 || tuneMalloc || tuneHeap)) {
+	if (tuneHeap) cluster.setupPrimary({ execArgv: [...process.execArgv, SEMI_SPACE] });
 	let stopping = false;
 	const fork = () => {
 		const worker = cluster.fork(tuneMalloc ? { GLIBC_TUNABLES: MALLOC_TUNABLES } : {});

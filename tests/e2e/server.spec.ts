@@ -137,7 +137,7 @@ test.describe('serve.mjs as a process', () => {
 		}
 	};
 
-	test('runs the server as a worker with the malloc tuning; SIGTERM stops both', async () => {
+	test('runs the server as a worker with the malloc and young-generation tuning; SIGTERM stops both', async () => {
 		test.setTimeout(60_000);
 		const primary = spawn(process.execPath, [resolve('scripts/serve.mjs'), BUILD], { env, stdio: 'ignore' });
 		const exited = new Promise<number | null>((r) => primary.once('exit', (code) => r(code)));
@@ -152,6 +152,8 @@ test.describe('serve.mjs as a process', () => {
 			// glibc keeps the first tunable of the list in the environment it passes on (it parses in place)
 			const environ = readFileSync(`/proc/${worker}/environ`, 'utf8').split('\0');
 			expect(environ.find((v) => v.startsWith('GLIBC_TUNABLES='))).toMatch(/^GLIBC_TUNABLES=glibc\.malloc\./);
+			// and V8's larger young generation, as no size was given
+			expect(readFileSync(`/proc/${worker}/cmdline`, 'utf8').split('\0')).toContain('--max-semi-space-size=64');
 			primary.kill('SIGTERM');
 			expect(await exited).toBe(0);
 			await expect.poll(() => alive(worker), { timeout: 10_000 }).toBe(false);
