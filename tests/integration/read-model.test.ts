@@ -12,6 +12,8 @@ import * as schema from '../../src/lib/server/db/schema';
 import { freshDatabase } from './helpers/db';
 import { loadBenchCatalogue } from '../../scripts/lib/bench-catalogue';
 import {
+	apiItemText,
+	loadApiCataloguePage,
 	loadCataloguePage,
 	loadEntries,
 	refreshCards,
@@ -21,6 +23,7 @@ import { buildEntries, revisionsFor } from '../../src/lib/server/queries/catalog
 import { currentOffers, loadRates } from '../../src/lib/server/queries/offers';
 import { regradeRevision } from '../../src/lib/server/grading';
 import { loadConverterDetail } from '../../src/lib/server/queries/public';
+import { apiConverter } from '../../src/lib/server/queries/public-api';
 import { filterCatalogue, type CatalogueEntry, type CatalogueFilter } from '../../src/lib/finder';
 import { bandRank } from '../../src/lib/components/bands';
 import { REGION_CODES, type Region } from '../../src/lib/pricing';
@@ -225,6 +228,74 @@ describe('public read model', () => {
 		// a page that does not show the time skips the read: the card's own (older) time
 		const quick = await loadCataloguePage(h.db, view, { sort: 'name' }, { pageSize: 2000, lastChecked: false });
 		expect(quick.entries.find((e) => e.id === box.id)!.best!.lastCheckedAt).not.toBe(at.toISOString());
+	});
+
+	describe('stored API items', () => {
+		// The reference: the list as the API built it before items were stored, entries through apiConverter.
+		const reference = async (view: { region: Region; currency: string }, f: CatalogueFilter, page = 1) =>
+			(await loadCataloguePage(h.db, view, f, { page, pageSize: 40 })).entries.map((e) =>
+				JSON.stringify(apiConverter(e))
+			);
+		const stored = async (view: { region: Region; currency: string }, f: CatalogueFilter, page = 1) =>
+			(await loadApiCataloguePage(h.db, view, f, { page, pageSize: 40 })).items;
+
+		it.each([
+			['eu', 'EUR', { sort: 'name' }, 1],
+			['na', 'USD', { sort: 'name' }, 2],
+			['eu', 'EUR', { sort: 'band', inStock: true }, 1],
+			// not the region's currency: built from the entries
+			['eu', 'GBP', { sort: 'name' }, 1],
+			['au', 'EUR', { sort: 'price' }, 2]
+		] as Array<[Region, string, CatalogueFilter, number]>)(
+			'are byte for byte what apiConverter makes of the entries (%s in %s, %j, page %i)',
+			async (region, currency, f, page) => {
+				const want = await reference({ region, currency }, f, page);
+				expect(want.length).toBeGreaterThan(0);
+				expect(await stored({ region, currency }, f, page)).toEqual(want);
+			}
+		);
+
+		it("carry the best offer's fresh last-checked time, and the card's own when none is read", async () => {
+			const view = { region: 'eu' as Region, currency: 'EUR' };
+			const listed = await loadCataloguePage(h.db, view, { sort: 'name' }, { pageSize: 40 });
+			const entry = listed.entries.filter((e) => e.best)[2];
+			const at = new Date(Date.UTC(2032, 5, 6, 7, 8, 9, 10));
+			await h.db
+				.update(schema.listingStates)
+				.set({ lastCheckedAt: at })
+				.where(eq(schema.listingStates.listingId, entry.best!.listingId));
+			const items = await stored(view, { sort: 'name' });
+			const item = items.map((t) => JSON.parse(t)).find((x) => x.slug === entry.slug);
+			expect(item.bestOffer.lastCheckedAt).toBe(at.toISOString());
+			expect(items).toEqual(await reference(view, { sort: 'name' }));
+
+			// a card whose best listing has no state row: the time stored with the card
+			const text = apiItemText({ ...entry, best: { ...entry.best!, lastCheckedAt: '2030-01-01T00:00:00.000Z' } });
+			expect(text).toContain('\u0001"2030-01-01T00:00:00.000Z"\u0001');
+			expect(JSON.parse(text.replaceAll('\u0001', '')).bestOffer.lastCheckedAt).toBe('2030-01-01T00:00:00.000Z');
+		});
+
+		it('a name with the bracket character in it stays in the text as an escape, never as the bracket', async () => {
+			const listed = await loadCataloguePage(
+				h.db,
+				{ region: 'eu', currency: 'EUR' },
+				{ sort: 'name' },
+				{ pageSize: 40 }
+			);
+			const entry = listed.entries.find((e) => e.best)!;
+			const text = apiItemText({ ...entry, model: 'odd\u0001name', best: { ...entry.best!, shopName: '\u0001' } });
+			expect(text.split('\u0001')).toHaveLength(3);
+			expect(JSON.parse(text.replaceAll('\u0001', '')).model).toBe('odd\u0001name');
+		});
+
+		it('a card built by code of another item shape is listed from its entry until rebuilt', async () => {
+			const view = { region: 'eu' as Region, currency: 'EUR' };
+			const { slug } = JSON.parse((await reference(view, { sort: 'name' }))[5]);
+			await h.sql`update converter_card set api_shape = 0, api_item = '{"stale":true}' where slug = ${slug}`;
+			const items = await stored(view, { sort: 'name' });
+			expect(items.some((t) => t.includes('"stale"'))).toBe(false);
+			expect(items).toEqual(await reference(view, { sort: 'name' }));
+		});
 	});
 
 	it('shows a new price, a new grade and a new exchange rate on the next read', async () => {

@@ -721,6 +721,15 @@ export const converterCards = pgTable(
 		buyable: smallint('buyable').notNull(),
 		inStockShops: integer('in_stock_shops').notNull(),
 		entry: jsonb('entry').notNull(),
+		/**
+		 * The entry as /api/v1/converters lists it, as JSON text (read-model.ts, `apiItemText`), so the
+		 * list is sent without parsing and serialising every entry; null until built.
+		 */
+		apiItem: text('api_item'),
+		/** API_ITEM_SHAPE of the code that built api_item: items of another shape are built from `entry` on read. */
+		apiShape: smallint('api_shape'),
+		/** The best offer's listing (entry.best.listingId), whose last-checked time reads join on. */
+		bestListingId: integer('best_listing_id'),
 		refreshedAt: timestamp('refreshed_at', { withTimezone: true }).notNull().defaultNow()
 	},
 	(t) => [

@@ -50,9 +50,11 @@ export function cachedResponse(
 	return new Response(body, { status: 200, headers: { 'Content-Type': contentType, ...headers } });
 }
 
+export const JSON_TYPE = 'application/json; charset=utf-8';
+
 /** JSON with an ETag. */
 export function cachedJson(request: Request, data: unknown, extra: Record<string, string> = {}): Response {
-	return cachedResponse(request, JSON.stringify(data), 'application/json; charset=utf-8', extra);
+	return cachedResponse(request, JSON.stringify(data), JSON_TYPE, extra);
 }
 
 /** 400 problem details (RFC 9457) with the field messages in `errors`. */

@@ -17,6 +17,8 @@ import { cardDirty, converterCards, converters, listings } from '../db/schema';
 import { buildEntries, revisionsFor, type Db, type Viewpoint } from './catalogue-entries';
 import { currentOffers, loadRates, rateDay, ratesSql } from './offers';
 import { idArray } from '../db/prepared';
+import { apiConverter } from './public-api';
+import { randomUUID } from 'node:crypto';
 import { BANDS, bandRank } from '../../components/bands';
 import { minorDigits } from '../../feeds/currency';
 import { convertMinor, REGION_CODES, REGION_CURRENCY, type RatesPerEur } from '../../pricing';
@@ -79,6 +81,9 @@ export async function rebuildCards(db: Db, ids: number[] | 'all'): Promise<numbe
 			buyable: e.inStockShops > 0 ? 0 : e.best ? 1 : 2,
 			inStockShops: e.inStockShops,
 			entry: e,
+			apiItem: apiItemText(e),
+			apiShape: API_ITEM_SHAPE,
+			bestListingId: e.best?.listingId ?? null,
 			refreshedAt: now
 		}))
 	);
@@ -101,6 +106,9 @@ export async function rebuildCards(db: Db, ids: number[] | 'all'): Promise<numbe
 						'buyable',
 						'in_stock_shops',
 						'entry',
+						'api_item',
+						'api_shape',
+						'best_listing_id',
 						'refreshed_at'
 					].map((c) => [c.replace(/_(\w)/g, (_, x: string) => x.toUpperCase()), sql.raw(`excluded.${c}`)])
 				)
@@ -153,6 +161,40 @@ export async function refreshDirtyCards(db: Db): Promise<number> {
 	});
 }
 
+/**
+ * Version of the stored API items: bump it when apiConverter's output changes, with a migration
+ * that marks every card dirty (as 0014 does). Cards built by older code are listed from their
+ * `entry` (as in any currency but the region's) until rebuilt.
+ */
+export const API_ITEM_SHAPE = 1;
+
+/**
+ * Brackets the best offer's last-checked time in a stored API item: it moves on every poll without
+ * changing the card, so the list puts in the fresh time on read (`withChecked`). JSON.stringify
+ * escapes every control character, so this one never occurs in an item but as the bracket.
+ */
+const CHECKED_MARK = '\u0001';
+
+/** A card's /api/v1/converters item as JSON text, its best offer's last-checked time bracketed. */
+export function apiItemText(e: CatalogueEntry): string {
+	const item = apiConverter(e);
+	if (!item.bestOffer) return JSON.stringify(item);
+	// a token no stored text can contain stands in for the time, then gives way to the bracketed JSON
+	const token = randomUUID();
+	const text = JSON.stringify({ ...item, bestOffer: { ...item.bestOffer, lastCheckedAt: token } });
+	const stored = JSON.stringify(item.bestOffer.lastCheckedAt);
+	return text.replace(`"${token}"`, () => CHECKED_MARK + stored + CHECKED_MARK);
+}
+
+/** A stored item with the best offer's fresh last-checked time (epoch ms), or the stored one when none was read. */
+function withChecked(text: string, checkedMs: number | null): string {
+	const open = text.indexOf(CHECKED_MARK);
+	if (open < 0) return text;
+	const close = text.indexOf(CHECKED_MARK, open + 1);
+	const time = checkedMs == null ? text.slice(open + 1, close) : `"${new Date(checkedMs).toISOString()}"`;
+	return text.slice(0, open) + time + text.slice(close + 1);
+}
+
 /** An entry as stored (priced in its region's currency) re-priced for the visitor's currency. */
 export function inCurrency(
 	e: CatalogueEntry,
@@ -179,11 +221,10 @@ const rateOf = (currency: string, day: string): SQL => sql`(${ratesSql(day)} ->>
 
 /**
  * "Last checked" moves on every poll without changing a card: read fresh for the best offer of
- * each card a statement returns, joined per row (`card`: the alias of a relation with an `entry`
- * column), as epoch milliseconds (a float8, so the driver hands it over as a number).
+ * each card a statement returns, joined per row (`card`: the alias of a relation with the card's
+ * `best_listing_id`), as epoch milliseconds (a float8, so the driver hands it over as a number).
  */
-const checkedJoin = (card: SQL) => sql`left join listing_state ls
-	on ls.listing_id = (${card}.entry -> 'best' ->> 'listingId')::int`;
+const checkedJoin = (card: SQL) => sql`left join listing_state ls on ls.listing_id = ${card}.best_listing_id`;
 const checkedMs = sql`floor(extract(epoch from ls.last_checked_at) * 1000)::float8`;
 
 interface CardRow {
@@ -318,12 +359,61 @@ export async function loadCataloguePage(
 		lastChecked?: boolean;
 	}
 ): Promise<CataloguePage> {
+	const { rows, ...counts } = await readCataloguePage(db, view, filter, opts, sql`${converterCards.entry} as entry`);
+	return { entries: hydrate(rows, view), ...counts };
+}
+
+/**
+ * A page of /api/v1/converters items as JSON texts, in the order of loadCataloguePage (its
+ * entries through apiConverter, JSON.stringify'd). In the region's own currency the stored items
+ * are sent as they are, with fresh last-checked times; in another currency, or for a card built
+ * by code of another API_ITEM_SHAPE, the item is built from the entry.
+ */
+export async function loadApiCataloguePage(
+	db: Db,
+	view: Viewpoint,
+	filter: CatalogueFilter & { order?: CardOrder },
+	opts: { page?: number; pageSize: number }
+): Promise<Omit<CataloguePage, 'entries'> & { items: string[] }> {
+	const stored =
+		view.currency === REGION_CURRENCY[view.region]
+			? sql`${converterCards.apiShape} = ${API_ITEM_SHAPE}::smallint`
+			: sql`false`;
+	const { rows, ...counts } = await readCataloguePage<{ api_item: string | null }>(
+		db,
+		view,
+		filter,
+		opts,
+		sql`case when ${stored} then ${converterCards.apiItem} end as api_item,
+			case when ${stored} then null else ${converterCards.entry} end as entry`
+	);
+	const items = rows.flatMap((r) =>
+		r.api_item != null
+			? [withChecked(r.api_item, r.checked_ms)]
+			: hydrate([r], view).map((e) => JSON.stringify(apiConverter(e)))
+	);
+	return { items, ...counts };
+}
+
+/**
+ * One page of cards for a viewpoint: filter, order and page in SQL over the region's cards, in
+ * one statement whatever the catalogue's size (counts, the page's cards with `columns` read from
+ * converter_card, their best offers' last-checked times, the rates and the dirty probe); a page
+ * past the last one shows the last.
+ */
+async function readCataloguePage<Extra extends object = object>(
+	db: Db,
+	view: Viewpoint,
+	filter: CatalogueFilter & { order?: CardOrder },
+	opts: { page?: number; pageSize: number; lastChecked?: boolean },
+	columns: SQL
+): Promise<Omit<CataloguePage, 'entries'> & { rows: (CardRow & Extra)[] }> {
 	const day = rateDay();
 	const where = whereFor(view, filter, day);
 	const size = opts.pageSize;
 	const asked = Math.max(1, opts.page ?? 1);
 	const order = orderFor(filter.order ?? filter.sort ?? 'band', filter.includeExpected);
-	type Row = CardRow & { total: number; matching: number };
+	type Row = CardRow & Extra & { total: number; matching: number; converter_id: number | null };
 	const rows = await readCards(db, async () => {
 		const shownPage = sql`(least(${asked}::int, greatest(1, ceil((select matching from counts) / ${size}::float8)::int)) - 1) * ${size}::int`;
 		// array(subquery) keeps the subquery's order and `with ordinality` numbers it, so the page's
@@ -333,9 +423,9 @@ export async function loadCataloguePage(
 				from ${converterCards} where ${eq(converterCards.region, view.region)}),
 			ids as (select id, n from unnest(array(select ${converterCards.converterId} from ${converterCards} where ${where}
 					order by ${sql.join(order, sql`, `)} limit ${size}::int offset ${shownPage})) with ordinality as t(id, n)),
-			page as (select ids.n, ${converterCards.entry} as entry from ids
-				join ${converterCards} on ${converterCards.region} = ${view.region} and ${converterCards.converterId} = ids.id)
-			select ${dirtySql} as dirty, ${ratesSql(day)} as rates, counts.total, counts.matching, page.entry,
+			page as (select ids.n, ${converterCards.converterId} as converter_id, ${converterCards.bestListingId}, ${columns}
+				from ids join ${converterCards} on ${converterCards.region} = ${view.region} and ${converterCards.converterId} = ids.id)
+			select ${dirtySql} as dirty, ${ratesSql(day)} as rates, counts.total, counts.matching, page.*,
 				${opts.lastChecked === false ? sql`null` : checkedMs} as checked_ms
 			from counts left join page on true
 			${opts.lastChecked === false ? sql`` : checkedJoin(sql`page`)}
@@ -346,7 +436,7 @@ export async function loadCataloguePage(
 	const matching = rows[0]?.matching ?? 0;
 	const pages = Math.max(1, Math.ceil(matching / size));
 	return {
-		entries: hydrate(rows, view),
+		rows: rows.filter((r) => r.converter_id != null),
 		total,
 		matching,
 		page: Math.min(asked, pages),
@@ -369,7 +459,7 @@ export async function loadEntriesAndRates(
 	type Row = CardRow & { id: number | null };
 	const rows = await readCards(db, async () => {
 		const result = await db.execute(sql`
-			with cards as (select ${converterCards.converterId} as id, ${converterCards.entry} as entry
+			with cards as (select ${converterCards.converterId} as id, ${converterCards.entry} as entry, ${converterCards.bestListingId}
 				from ${converterCards}
 				where ${converterCards.region} = ${view.region} and ${converterCards.converterId} = any(${idArray(ids)}::int[]))
 			select ${dirtySql} as dirty, ${ratesSql(day)} as rates, cards.id, cards.entry, ${checkedMs} as checked_ms
