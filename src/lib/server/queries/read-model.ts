@@ -12,13 +12,13 @@
  * commit; any other writer (a curator's edit) is caught by `refreshDirtyCards`, which a read runs
  * when its own statement found a dirty card (`readCards`), then reads again.
  */
+import { randomUUID } from 'node:crypto';
 import { and, asc, eq, inArray, isNull, notInArray, sql, type SQL } from 'drizzle-orm';
 import { cardDirty, converterCards, converters, listings } from '../db/schema';
 import { buildEntries, revisionsFor, type Db, type Viewpoint } from './catalogue-entries';
 import { currentOffers, loadRates, rateDay, ratesSql } from './offers';
 import { idArray } from '../db/prepared';
 import { apiConverter } from './public-api';
-import { randomUUID } from 'node:crypto';
 import { BANDS, bandRank } from '../../components/bands';
 import { minorDigits } from '../../feeds/currency';
 import { convertMinor, REGION_CODES, REGION_CURRENCY, type RatesPerEur } from '../../pricing';
@@ -191,6 +191,7 @@ function withChecked(text: string, checkedMs: number | null): string {
 	const open = text.indexOf(CHECKED_MARK);
 	if (open < 0) return text;
 	const close = text.indexOf(CHECKED_MARK, open + 1);
+	if (close < 0) return text;
 	const time = checkedMs == null ? text.slice(open + 1, close) : `"${new Date(checkedMs).toISOString()}"`;
 	return text.slice(0, open) + time + text.slice(close + 1);
 }
