@@ -78,7 +78,7 @@ test('finder API ranks and explains', async ({ request }) => {
 	expect(body.results[0].explanation).toBe('Exact band; in stock at 1 shop in your region; lowest 22.90 EUR');
 });
 
-test('exports state their licence; OpenAPI 3.1 lists the routes', async ({ request }) => {
+test('exports state their licence; OpenAPI 3.1 lists the routes', async ({ request, baseURL }) => {
 	const csv = await request.get('/api/v1/export/catalogue.csv');
 	expect(csv.headers()['content-type']).toContain('text/csv');
 	expect(csv.headers()['link']).toContain('creativecommons.org/licenses/by/4.0');
@@ -95,6 +95,10 @@ test('exports state their licence; OpenAPI 3.1 lists the routes', async ({ reque
 	expect((await request.get('/api/v1/export/other.csv')).status()).toBe(404);
 	const doc = await (await request.get('/api/v1/openapi.json')).json();
 	expect(doc.openapi).toBe('3.1.0');
+	// the server URL is the configured origin's, whatever Host the request names
+	expect(doc.servers).toEqual([{ url: `${new URL(baseURL!).origin}/api/v1` }]);
+	const forged = await request.get('/api/v1/openapi.json', { headers: { host: 'attacker.example' } });
+	expect((await forged.json()).servers).toEqual(doc.servers);
 	expect(Object.keys(doc.paths)).toEqual(
 		expect.arrayContaining([
 			'/converters',

@@ -62,6 +62,14 @@ describe('the OpenAPI description', () => {
 		expect((await new Validator().validate(broken as Spec)).valid).toBe(false);
 	});
 
+	it('names the configured origin as its server, or a relative URL when none is configured', async () => {
+		expect((doc as unknown as { servers: unknown }).servers).toEqual([{ url: 'https://scopegrade.test/api/v1' }]);
+		const relative = openApiDocument(null);
+		expect(relative.servers).toEqual([{ url: '/api/v1' }]);
+		// a relative server URL is valid OpenAPI 3.1 too
+		expect((await new Validator().validate(structuredClone(relative) as unknown as Spec)).valid).toBe(true);
+	});
+
 	it('describes every /api/v1 route file and each method it exports', () => {
 		const files = serverFiles(API_DIR);
 		expect(files.length).toBeGreaterThanOrEqual(12);

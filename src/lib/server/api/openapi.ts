@@ -97,7 +97,12 @@ const problemResponse = (description: string) => ({
 	content: { 'application/problem+json': { schema: { $ref: '#/components/schemas/Problem' } } }
 });
 
-export function openApiDocument(origin: string) {
+/**
+ * The API description. `origin` is the configured public origin (security/public-origin.ts), never
+ * one taken from a request; without one the server URL is relative (OpenAPI 3.1, Server Object: a
+ * relative URL resolves against the location the document was served from).
+ */
+export function openApiDocument(origin: string | null) {
 	const paths: Record<string, Json> = {};
 	for (const op of API_OPERATIONS) (paths[op.path] ??= {})[op.method] = operation(op);
 	return {
@@ -109,7 +114,7 @@ export function openApiDocument(origin: string) {
 				"Level grades of HDMI-to-analog converters by chip revision, with live price and stock, members' watches and curators' queues. Grades use Scopegrade's own rubric, not a published standard.",
 			license: { name: 'CC BY 4.0 (data)', url: 'https://creativecommons.org/licenses/by/4.0/' }
 		},
-		servers: [{ url: `${origin}/api/v1` }],
+		servers: [{ url: `${origin ?? ''}/api/v1` }],
 		paths,
 		components: {
 			securitySchemes: {
