@@ -14,10 +14,12 @@ import { loadBenchCatalogue } from '../../scripts/lib/bench-catalogue';
 import {
 	apiItemText,
 	loadApiCataloguePage,
+	loadCatalogueHtmlPage,
 	loadCataloguePage,
 	loadEntries,
 	refreshCards,
-	refreshListingCards
+	refreshListingCards,
+	storeCardHtml
 } from '../../src/lib/server/queries/read-model';
 import { buildEntries, revisionsFor } from '../../src/lib/server/queries/catalogue-entries';
 import { currentOffers, loadRates } from '../../src/lib/server/queries/offers';
@@ -295,6 +297,105 @@ describe('public read model', () => {
 			const items = await stored(view, { sort: 'name' });
 			expect(items.some((t) => t.includes('"stale"'))).toBe(false);
 			expect(items).toEqual(await reference(view, { sort: 'name' }));
+		});
+	});
+
+	describe('stored card HTML', () => {
+		// A stand-in for CatalogueCard (whose own output tests/unit/server/card-html.test.ts checks):
+		// what matters here is which entry each card was rendered from.
+		const cardOf = (e: CatalogueEntry) =>
+			`<li>${e.slug} ${e.best?.displayMinor ?? '-'} ${e.best?.displayCurrency ?? ''} ${e.revisions.map((r) => r.band).join(',')}</li>`;
+		const renderer = (build: string | null) => {
+			const rendered: string[] = [];
+			return { build, rendered, render: (e: CatalogueEntry) => (rendered.push(e.slug), cardOf(e)) };
+		};
+		const f: CatalogueFilter = { sort: 'name' };
+		const eur = { region: 'eu' as Region, currency: 'EUR' };
+		// The reference: the same page's entries, rendered now.
+		const reference = async (view: { region: Region; currency: string }, page = 1) =>
+			(await loadCataloguePage(h.db, view, f, { page, pageSize: 20 })).entries.map(cardOf);
+		const cards = (view: { region: Region; currency: string }, r: ReturnType<typeof renderer>, page = 1) =>
+			loadCatalogueHtmlPage(h.db, view, f, { page, pageSize: 20 }, r);
+		const storedHtml = async (slug: string, region: Region = 'eu') =>
+			(
+				await h.sql<{ card_html: string | null; card_html_build: string | null }[]>`
+					select card_html, card_html_build from converter_card where slug = ${slug} and region = ${region}`
+			)[0];
+
+		it('are rendered once per build, then read as stored, in the order of the entries', async () => {
+			const first = renderer('build-1');
+			const page = await cards(eur, first, 2);
+			expect(page.cards).toEqual(await reference(eur, 2));
+			expect(first.rendered).toHaveLength(20);
+			expect(await storedHtml(first.rendered[3])).toEqual({ card_html: page.cards[3], card_html_build: 'build-1' });
+
+			const again = renderer('build-1');
+			expect((await cards(eur, again, 2)).cards).toEqual(page.cards);
+			expect(again.rendered).toEqual([]);
+
+			// another build may render cards differently: it renders them afresh
+			const next = renderer('build-2');
+			expect((await cards(eur, next, 2)).cards).toEqual(page.cards);
+			expect(next.rendered).toHaveLength(20);
+		});
+
+		it('a rebuilt card is rendered again; the others stay as stored', async () => {
+			await cards(eur, renderer('build-3'));
+			const [entry] = (await loadCataloguePage(h.db, eur, f, { pageSize: 20 })).entries.filter((e) => e.best).slice(4);
+			await h.db.transaction(async (tx) => {
+				await tx
+					.update(schema.listingStates)
+					.set({ currentPriceMinor: entry.best!.priceMinor! + 100 })
+					.where(eq(schema.listingStates.listingId, entry.best!.listingId));
+				await refreshListingCards(tx, [entry.best!.listingId]);
+			});
+			expect(await storedHtml(entry.slug)).toEqual({ card_html: null, card_html_build: null });
+
+			const r = renderer('build-3');
+			const page = await cards(eur, r);
+			expect(r.rendered).toEqual([entry.slug]);
+			expect(page.cards).toEqual(await reference(eur));
+			expect(page.cards.find((c) => c.startsWith(`<li>${entry.slug} `))).not.toBe(cardOf(entry));
+		});
+
+		it("in a currency not the region's, cards are rendered per request and nothing is stored", async () => {
+			await cards(eur, renderer('build-4'));
+			const gbp = { region: 'eu' as Region, currency: 'GBP' };
+			for (let i = 0; i < 2; i++) {
+				const r = renderer('build-4');
+				const page = await cards(gbp, r);
+				expect(page.cards).toEqual(await reference(gbp));
+				expect(page.cards.join('')).toContain(' GBP ');
+				expect(r.rendered).toHaveLength(20);
+			}
+			const [first] = (await loadCataloguePage(h.db, eur, f, { pageSize: 20 })).entries;
+			expect((await storedHtml(first.slug))?.card_html).toBe(cardOf(first));
+		});
+
+		it('without a build name (dev) nothing is stored', async () => {
+			const before = await h.sql`select count(*)::int as n from converter_card where card_html is not null`;
+			const r = renderer(null);
+			expect((await cards({ region: 'jp', currency: 'JPY' }, r)).cards).toEqual(
+				await reference({ region: 'jp', currency: 'JPY' })
+			);
+			expect(r.rendered).toHaveLength(20);
+			expect(await h.sql`select count(*)::int as n from converter_card where card_html is not null`).toEqual(before);
+		});
+
+		it('a render is never stored over a card rebuilt since its entry was read', async () => {
+			const [e] = (await loadCataloguePage(h.db, eur, f, { pageSize: 20 })).entries.slice(7);
+			const row = async () =>
+				(
+					await h.sql<{ xmin: string }[]>`
+						select xmin::text as xmin from converter_card where slug = ${e.slug} and region = 'eu'`
+				)[0].xmin;
+			const seen = await row();
+			await h.db.transaction((tx) => refreshCards(tx, [e.id])); // a new version of the row
+			await storeCardHtml(h.db, 'eu', 'build-5', [{ id: e.id, seen, html: '<li>stale</li>' }]);
+			expect(await storedHtml(e.slug)).toEqual({ card_html: null, card_html_build: null });
+
+			await storeCardHtml(h.db, 'eu', 'build-5', [{ id: e.id, seen: await row(), html: '<li>fresh</li>' }]);
+			expect(await storedHtml(e.slug)).toEqual({ card_html: '<li>fresh</li>', card_html_build: 'build-5' });
 		});
 	});
 

@@ -1,6 +1,7 @@
 import { db } from '$lib/server/db';
 import { renderOnly } from '$lib/render-only';
-import { loadCataloguePage } from '$lib/server/queries/read-model';
+import { catalogueCards } from '$lib/server/card-html';
+import { loadCatalogueHtmlPage } from '$lib/server/queries/read-model';
 import {
 	catalogueParams,
 	parseLenient,
@@ -23,11 +24,13 @@ const PAGE_SIZE = 48;
 export const load: PageServerLoad = async ({ url, cookies, request, isDataRequest }) => {
 	const { data: params, issues } = parseLenient(catalogueParams, searchObject(url));
 	const view = viewpoint(params, cookies, request.headers.get('accept-language'));
-	const found = await loadCataloguePage(db, view, toCatalogueFilter(params, view.currency), {
-		page: params.page,
-		pageSize: PAGE_SIZE,
-		lastChecked: false
-	});
+	const found = await loadCatalogueHtmlPage(
+		db,
+		view,
+		toCatalogueFilter(params, view.currency),
+		{ page: params.page, pageSize: PAGE_SIZE },
+		catalogueCards
+	);
 	return renderOnly(
 		{
 			view,
@@ -37,7 +40,7 @@ export const load: PageServerLoad = async ({ url, cookies, request, isDataReques
 			matching: found.matching,
 			page: found.page,
 			pages: found.pages,
-			converters: found.entries
+			cardsHtml: found.cards.join('')
 		},
 		{ isDataRequest }
 	);

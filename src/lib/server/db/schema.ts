@@ -730,6 +730,13 @@ export const converterCards = pgTable(
 		apiShape: smallint('api_shape'),
 		/** The best offer's listing (entry.best.listingId), whose last-checked time reads join on. */
 		bestListingId: integer('best_listing_id'),
+		/**
+		 * The catalogue's card for this entry as HTML, rendered by the app (server/card-html.ts) the
+		 * first time a page shows it and kept until the card is rebuilt (a rebuild sets it null).
+		 */
+		cardHtml: text('card_html'),
+		/** The app build that rendered card_html: another build renders the card afresh. */
+		cardHtmlBuild: text('card_html_build'),
 		refreshedAt: timestamp('refreshed_at', { withTimezone: true }).notNull().defaultNow()
 	},
 	(t) => [

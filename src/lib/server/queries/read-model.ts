@@ -84,6 +84,9 @@ export async function rebuildCards(db: Db, ids: number[] | 'all'): Promise<numbe
 			apiItem: apiItemText(e),
 			apiShape: API_ITEM_SHAPE,
 			bestListingId: e.best?.listingId ?? null,
+			// the card's HTML is rendered by the app when a page first shows the rebuilt card
+			cardHtml: null,
+			cardHtmlBuild: null,
 			refreshedAt: now
 		}))
 	);
@@ -109,6 +112,8 @@ export async function rebuildCards(db: Db, ids: number[] | 'all'): Promise<numbe
 						'api_item',
 						'api_shape',
 						'best_listing_id',
+						'card_html',
+						'card_html_build',
 						'refreshed_at'
 					].map((c) => [c.replace(/_(\w)/g, (_, x: string) => x.toUpperCase()), sql.raw(`excluded.${c}`)])
 				)
@@ -394,6 +399,78 @@ export async function loadApiCataloguePage(
 			: hydrate([r], view).map((e) => JSON.stringify(apiConverter(e)))
 	);
 	return { items, ...counts };
+}
+
+/** How the catalogue's cards become HTML: the running app build and its renderer (server/card-html.ts). */
+export interface CardRenderer {
+	/** The app build (SvelteKit's `version`); null stores nothing (dev, where components change under a running server). */
+	build: string | null;
+	render: (entry: CatalogueEntry) => string;
+}
+
+/**
+ * A page of the catalogue as card HTML, in the order of loadCataloguePage. In the region's own
+ * currency a card's stored HTML is sent when this build rendered it; any other card is rendered
+ * from its entry and, in the region's currency, stored for the next page that shows it
+ * (`storeCardHtml`).
+ */
+export async function loadCatalogueHtmlPage(
+	db: Db,
+	view: Viewpoint,
+	filter: CatalogueFilter & { order?: CardOrder },
+	opts: { page?: number; pageSize: number },
+	renderer: CardRenderer
+): Promise<Omit<CataloguePage, 'entries'> & { cards: string[] }> {
+	const build = view.currency === REGION_CURRENCY[view.region] ? renderer.build : null;
+	const stored =
+		build == null
+			? sql`false`
+			: sql`${converterCards.cardHtmlBuild} = ${build} and ${converterCards.cardHtml} is not null`;
+	const { rows, ...counts } = await readCataloguePage<{ card_html: string | null; card_xmin: string }>(
+		db,
+		view,
+		filter,
+		{ ...opts, lastChecked: false },
+		sql`case when ${stored} then ${converterCards.cardHtml} end as card_html,
+			case when ${stored} then null else ${converterCards.entry} end as entry,
+			${converterCards}.xmin::text as card_xmin`
+	);
+	const rendered: RenderedCard[] = [];
+	const cards = rows.flatMap((r) => {
+		if (r.card_html != null) return [r.card_html];
+		return hydrate([r], view).map((entry) => {
+			const html = renderer.render(entry);
+			rendered.push({ id: entry.id, seen: r.card_xmin, html });
+			return html;
+		});
+	});
+	if (build != null && rendered.length) await storeCardHtml(db, view.region, build, rendered);
+	return { cards, ...counts };
+}
+
+/** A card rendered from its entry, and the version of its row (xmin) that entry was read from. */
+export interface RenderedCard {
+	id: number;
+	seen: string;
+	html: string;
+}
+
+/**
+ * Keep rendered cards' HTML with their rows, best effort: a row that changed since it was read (a
+ * rebuild wrote a new version, so its xmin moved) keeps its null, and a row another transaction
+ * holds is skipped rather than waited for. A failure costs the next page a render, never this one.
+ */
+export async function storeCardHtml(db: Db, region: Viewpoint['region'], build: string, cards: RenderedCard[]) {
+	try {
+		await db.execute(sql`
+			with v as (select * from json_to_recordset(${JSON.stringify(cards)}::json) as v(id int, seen text, html text)),
+			locked as (select c.converter_id, v.html from ${converterCards} c join v on c.converter_id = v.id
+				where c.region = ${region} and c.xmin = v.seen::xid order by c.converter_id for update of c skip locked)
+			update ${converterCards} c set card_html = locked.html, card_html_build = ${build}
+			from locked where c.region = ${region} and c.converter_id = locked.converter_id`);
+	} catch (err) {
+		console.warn('catalogue: could not keep rendered cards', err);
+	}
 }
 
 /**
