@@ -14,6 +14,7 @@ import { resolve } from 'node:path';
 import { pathToFileURL } from 'node:url';
 import zlib from 'node:zlib';
 import compression from 'compression';
+import { endWithLastWrite } from './lib/end-with-last-write.mjs';
 
 const workers = Math.max(1, Number(process.env.WEB_CONCURRENCY || 1));
 
@@ -92,6 +93,7 @@ async function serve() {
 				res.end();
 				return;
 			}
+			endWithLastWrite(res);
 			handler(req, res);
 		});
 	});
