@@ -20,9 +20,10 @@ import {
 	pruneDetailMarks,
 	readConverterDoc,
 	rebuildConverterDoc,
+	storeRevisionsHtml,
 	type ConverterDoc
 } from '../../src/lib/server/queries/converter-doc';
-import { loadConverterDetail } from '../../src/lib/server/queries/public';
+import { loadConverterDetail, loadConverterPage } from '../../src/lib/server/queries/public';
 import { loadEntriesAndRates } from '../../src/lib/server/queries/read-model';
 
 describe('converter page read model', () => {
@@ -234,6 +235,55 @@ describe('converter page read model', () => {
 			Array<{ doc: ConverterDoc }>
 		>`select doc from converter_detail where converter_id = ${id}`;
 		expect(stored.doc.offers.some((o) => o.priceMinor === 55555)).toBe(true);
+	});
+
+	describe('revision panels kept with the document', () => {
+		const html = { name: 'Test Box', panels: ['<article>A</article>', '<article>B</article>'] };
+		const readAs = (build: string | null) => readConverterDoc(h.db, SLUG, 'eu', build);
+
+		it('are read back by the build that stored them, and by no other', async () => {
+			await readAs('build-1'); // builds the document if a write left it stale
+			const first = (await readAs('build-1'))!;
+			expect(first.revisionsHtml).toBeNull();
+			expect(first.docVersion).toMatch(/^\d+$/);
+			await storeRevisionsHtml(h.db, id, first.docVersion!, 'build-1', html);
+			expect((await readAs('build-1'))!.revisionsHtml).toEqual(html);
+			expect((await readAs('build-2'))!.revisionsHtml).toBeNull();
+			expect((await readAs(null))!.revisionsHtml).toBeNull();
+			// the page's read carries them through
+			const page = (await loadConverterPage(h.db, SLUG, { region: 'eu', currency: 'EUR' }, 'build-1'))!;
+			expect(page.panels).toMatchObject({ converterId: id, stored: html });
+		});
+
+		it('go with the document they were rendered from: a new document has none', async () => {
+			await readAs('build-3');
+			const before = (await readAs('build-3'))!;
+			await storeRevisionsHtml(h.db, id, before.docVersion!, 'build-3', html);
+			await rebuildConverterDoc(h.db, id);
+			const after = (await readAs('build-3'))!;
+			expect(after.revisionsHtml).toBeNull();
+			expect(after.docVersion).not.toBe(before.docVersion);
+		});
+
+		it('are never stored over a document replaced since it was read', async () => {
+			await readAs('build-4');
+			const seen = (await readAs('build-4'))!.docVersion!;
+			expect(seen).toMatch(/^\d+$/);
+			await rebuildConverterDoc(h.db, id); // replaced while the page rendered
+			await storeRevisionsHtml(h.db, id, seen, 'build-4', html);
+			expect((await readAs('build-4'))!.revisionsHtml).toBeNull();
+		});
+
+		it('are not read from a document the read had to build again', async () => {
+			await readAs('build-5');
+			const read = (await readAs('build-5'))!;
+			await storeRevisionsHtml(h.db, id, read.docVersion!, 'build-5', html);
+			await h.sql`update converter_detail set built_at = built_at - make_interval(secs => ${DOC_MAX_AGE_SECONDS + 1})
+				where converter_id = ${id}`;
+			const rebuilt = (await readAs('build-5'))!;
+			expect(rebuilt.revisionsHtml).toBeNull();
+			expect(rebuilt.docVersion).toBeNull();
+		});
 	});
 
 	it('builds a document again when older code built it', async () => {

@@ -301,7 +301,7 @@ describe('public read model', () => {
 	});
 
 	describe('stored card HTML', () => {
-		// A stand-in for CatalogueCard (whose own output tests/unit/server/card-html.test.ts checks):
+		// A stand-in for CatalogueCard (whose own output tests/unit/server/rendered-html.test.ts checks):
 		// what matters here is which entry each card was rendered from.
 		const cardOf = (e: CatalogueEntry) =>
 			`<li>${e.slug} ${e.best?.displayMinor ?? '-'} ${e.best?.displayCurrency ?? ''} ${e.revisions.map((r) => r.band).join(',')}</li>`;

@@ -1,6 +1,6 @@
 import { db } from '$lib/server/db';
 import { renderOnly } from '$lib/render-only';
-import { catalogueCards } from '$lib/server/card-html';
+import { catalogueCards } from '$lib/server/rendered-html';
 import { loadCatalogueHtmlPage } from '$lib/server/queries/read-model';
 import {
 	catalogueParams,

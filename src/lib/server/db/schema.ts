@@ -731,7 +731,7 @@ export const converterCards = pgTable(
 		/** The best offer's listing (entry.best.listingId), whose last-checked time reads join on. */
 		bestListingId: integer('best_listing_id'),
 		/**
-		 * The catalogue's card for this entry as HTML, rendered by the app (server/card-html.ts) the
+		 * The catalogue's card for this entry as HTML, rendered by the app (server/rendered-html.ts) the
 		 * first time a page shows it and kept until the card is rebuilt (a rebuild sets it null).
 		 */
 		cardHtml: text('card_html'),
@@ -769,7 +769,15 @@ export const converterDetails = pgTable('converter_detail', {
 	/** DOC_SHAPE of the code that built it: a document from older code is built again. */
 	shape: integer('shape').notNull().default(0),
 	snapshot: pgSnapshot('snapshot').notNull(),
-	builtAt: timestamp('built_at', { withTimezone: true }).notNull()
+	builtAt: timestamp('built_at', { withTimezone: true }).notNull(),
+	/**
+	 * The page's revision panels as HTML, rendered by the app from this document the first time a
+	 * page shows it (`{ name, panels }`, RevisionHtml in converter-doc.ts); null until then, and again
+	 * whenever the document is replaced.
+	 */
+	revisionsHtml: json('revisions_html'),
+	/** The app build that rendered revisions_html: another build renders the panels afresh. */
+	htmlBuild: text('html_build')
 });
 
 /**

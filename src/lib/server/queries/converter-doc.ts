@@ -244,7 +244,8 @@ export async function rebuildConverterDoc(
 				${built.built_at}::timestamptz
 			from converter where id = ${converterId}
 			on conflict (converter_id) do update
-				set doc = excluded.doc, shape = excluded.shape, snapshot = excluded.snapshot, built_at = excluded.built_at
+				set doc = excluded.doc, shape = excluded.shape, snapshot = excluded.snapshot, built_at = excluded.built_at,
+					revisions_html = null, html_build = null
 				-- the new snapshot sees every transaction the stored one saw (clock order is not snapshot order)
 				where pg_snapshot_xmax(converter_detail.snapshot) <= pg_snapshot_xmax(excluded.snapshot)
 					and not exists (select 1 from pg_snapshot_xip(excluded.snapshot) x
@@ -255,10 +256,20 @@ export async function rebuildConverterDoc(
 	return built.doc;
 }
 
+/** A document's revision panels as the page rendered them, for the converter name they show. */
+export interface RevisionHtml {
+	name: string;
+	panels: string[];
+}
+
 /** What a page reads: the document (built again first when stale) and the listings' last-checked times. */
 export interface ConverterDocRead {
 	converterId: number;
 	doc: ConverterDoc;
+	/** The panels stored with the document by the build asked for; null when there are none. */
+	revisionsHtml: RevisionHtml | null;
+	/** The version of the stored row the document was read from (its xmin); null when it was built for this read. */
+	docVersion: string | null;
 	/** Epoch milliseconds by listing id; a listing never checked is missing. */
 	checkedMs: Record<number, number>;
 	/** The converter's card in the region asked, as stored, with today's rates; `dirty` when some card waits for a rebuild. */
@@ -297,13 +308,21 @@ function rebuildAfter(db: Db, converterId: number, readAt: number): Promise<Conv
  * A live converter's document by slug, with its card in one region and today's rates, in one
  * statement; null when there is no such live converter.
  */
-export async function readConverterDoc(db: Db, slug: string, region: Region): Promise<ConverterDocRead | null> {
+export async function readConverterDoc(
+	db: Db,
+	slug: string,
+	region: Region,
+	htmlBuild: string | null = null
+): Promise<ConverterDocRead | null> {
 	const readAt = performance.now();
 	const [row] = await preparedFor(db, 'converter_doc_by_slug', () =>
 		db
 			.select({
 				id: converters.id,
 				doc: converterDetails.doc,
+				revisionsHtml: sql<RevisionHtml | null>`case when ${converterDetails.htmlBuild} = ${sql.placeholder('build')}
+					then ${converterDetails.revisionsHtml} end`,
+				docVersion: sql<string | null>`${converterDetails}.xmin::text`,
 				stale: sql<boolean>`(${converterDetails.builtAt} is null
 					or ${converterDetails.shape} <> ${sql.raw(String(DOC_SHAPE))}
 					or ${converterDetails.builtAt} < now() - ${sql.raw(`interval '${DOC_MAX_AGE_SECONDS} seconds'`)}
@@ -322,15 +341,40 @@ export async function readConverterDoc(db: Db, slug: string, region: Region): Pr
 			.leftJoin(converterDetails, eq(converterDetails.converterId, converters.id))
 			.where(and(eq(converters.slug, sql.placeholder('slug')), isNull(converters.retiredAt)))
 			.prepare('converter_doc_by_slug')
-	).execute({ slug, region, day: rateDay() });
+	).execute({ slug, region, day: rateDay(), build: htmlBuild });
 	if (!row) return null;
 	const doc = row.stale ? await rebuildAfter(db, row.id, readAt) : (row.doc as ConverterDoc);
 	return {
 		converterId: row.id,
 		doc,
+		revisionsHtml: row.stale ? null : row.revisionsHtml,
+		docVersion: row.stale ? null : row.docVersion,
 		checkedMs: row.checked ?? {},
 		card: { entry: row.entry, rates: row.rates, dirty: row.cardsDirty }
 	};
+}
+
+/**
+ * Keep a document's rendered revision panels with it, best effort: only over the row version the
+ * document was read from (a replaced document keeps its null), skipping a row another transaction
+ * holds rather than waiting for it. A failure costs the next page a render, never this one.
+ */
+export async function storeRevisionsHtml(
+	db: Db,
+	converterId: number,
+	docVersion: string,
+	build: string,
+	html: RevisionHtml
+): Promise<void> {
+	try {
+		await db.execute(sql`
+			with locked as (select converter_id from converter_detail
+				where converter_id = ${converterId} and xmin = ${docVersion}::xid for update skip locked)
+			update converter_detail d set revisions_html = ${JSON.stringify(html)}::json, html_build = ${build}
+			from locked where d.converter_id = locked.converter_id`);
+	} catch (err) {
+		console.warn('converter page: could not keep rendered revision panels', err);
+	}
 }
 
 /**

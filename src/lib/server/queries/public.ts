@@ -23,7 +23,7 @@ import { leadGrade, type CatalogueEntry, type CatalogueOffer, type CatalogueRevi
 import { isBuyable, servesRegion, type RatesPerEur, type Region } from '../../pricing';
 import type { Band } from '../../components/bands';
 import type { ShopRevisionOdds } from '../../odds';
-import { publicRevision, readConverterDoc, runsFor, type ConverterDoc } from './converter-doc';
+import { publicRevision, readConverterDoc, runsFor, type ConverterDoc, type RevisionHtml } from './converter-doc';
 
 export type { Viewpoint } from './catalogue-entries';
 
@@ -129,7 +129,26 @@ export async function loadConverterDetail(
 	slug: string,
 	view: Viewpoint
 ): Promise<ConverterDetail | null> {
-	const read = await readConverterDoc(db, slug, view.region);
+	return (await loadConverterPage(db, slug, view, null))?.detail ?? null;
+}
+
+/** Where the converter page's revision panels stand: stored with the document, or to be rendered and stored. */
+export interface StoredPanels {
+	converterId: number;
+	/** The document's row version (storeRevisionsHtml stores over it only); null when built for this read. */
+	docVersion: string | null;
+	/** The panels `htmlBuild` rendered from this document, if any. */
+	stored: RevisionHtml | null;
+}
+
+/** loadConverterDetail for the converter page, with the revision panels `htmlBuild` stored with the document. */
+export async function loadConverterPage(
+	db: Database,
+	slug: string,
+	view: Viewpoint,
+	htmlBuild: string | null
+): Promise<{ detail: ConverterDetail; panels: StoredPanels } | null> {
+	const read = await readConverterDoc(db, slug, view.region, htmlBuild);
 	if (!read) return null;
 	const { doc, checkedMs, card } = read;
 	let entry: CatalogueEntry | undefined;
@@ -165,13 +184,16 @@ export async function loadConverterDetail(
 				(a.displayMinor ?? Infinity) - (b.displayMinor ?? Infinity)
 		);
 	return {
-		entry,
-		revisions: doc.revisions,
-		listings: listingsOut,
-		teardowns: doc.teardowns,
-		odds: doc.odds,
-		figures: doc.figures,
-		notes: doc.notes
+		detail: {
+			entry,
+			revisions: doc.revisions,
+			listings: listingsOut,
+			teardowns: doc.teardowns,
+			odds: doc.odds,
+			figures: doc.figures,
+			notes: doc.notes
+		},
+		panels: { converterId: read.converterId, docVersion: read.docVersion, stored: read.revisionsHtml }
 	};
 }
 

@@ -401,7 +401,7 @@ export async function loadApiCataloguePage(
 	return { items, ...counts };
 }
 
-/** How the catalogue's cards become HTML: the running app build and its renderer (server/card-html.ts). */
+/** How the catalogue's cards become HTML: the running app build and its renderer (server/rendered-html.ts). */
 export interface CardRenderer {
 	/** The app build (SvelteKit's `version`); null stores nothing (dev, where components change under a running server). */
 	build: string | null;

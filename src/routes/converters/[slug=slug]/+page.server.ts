@@ -1,7 +1,9 @@
 import { error } from '@sveltejs/kit';
 import { db } from '$lib/server/db';
 import { listWatches } from '$lib/server/alerts/watches';
-import { loadConverterDetail, pageRevision } from '$lib/server/queries/public';
+import { loadConverterPage, pageRevision } from '$lib/server/queries/public';
+import { storeRevisionsHtml } from '$lib/server/queries/converter-doc';
+import { HTML_BUILD, renderRevisionPanels } from '$lib/server/rendered-html';
 import { renderOnly } from '$lib/render-only';
 import { parseLenient, searchObject, viewpoint, viewpointParams } from '$lib/server/queries/public-params';
 import type { PageServerLoad } from './$types';
@@ -17,13 +19,24 @@ export const csr = false;
 export const load: PageServerLoad = async ({ params, url, cookies, request, locals, isDataRequest }) => {
 	const { data: p } = parseLenient(viewpointParams, searchObject(url));
 	const view = viewpoint(p, cookies, request.headers.get('accept-language'));
-	const detail = await loadConverterDetail(db, params.slug, view);
-	if (!detail) error(404, 'No converter by that name in the catalogue.');
+	const found = await loadConverterPage(db, params.slug, view, HTML_BUILD);
+	if (!found) error(404, 'No converter by that name in the catalogue.');
+	const { detail, panels } = found;
+	const revisions = detail.revisions.map(pageRevision);
+	// the revision panels are the same for every visitor: rendered once per document and kept with it
+	const name = `${detail.entry.brand} ${detail.entry.model}`;
+	let revisionsHtml = panels.stored?.name === name ? panels.stored.panels : null;
+	if (!revisionsHtml) {
+		revisionsHtml = renderRevisionPanels(revisions, name);
+		if (HTML_BUILD && panels.docVersion)
+			await storeRevisionsHtml(db, panels.converterId, panels.docVersion, HTML_BUILD, { name, panels: revisionsHtml });
+	}
 	const watches = locals.user ? await listWatches(db, locals.user.id) : [];
 	return renderOnly(
 		{
 			view,
-			detail: { ...detail, revisions: detail.revisions.map(pageRevision) },
+			detail: { ...detail, revisions },
+			revisionsHtml: revisionsHtml.join(''),
 			figures: detail.figures,
 			notes: detail.notes,
 			signedIn: locals.user !== null,

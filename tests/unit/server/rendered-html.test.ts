@@ -1,5 +1,5 @@
 /**
- * The catalogue card as the app stores it (src/lib/server/card-html.ts): CatalogueCard's server
+ * The catalogue card as the app stores it (src/lib/server/rendered-html.ts): CatalogueCard's server
  * output without Svelte's hydration markers. Parsed back with cheerio (an HTML parser independent
  * of Svelte) it must say what the entry says, and text from the catalogue must stay text.
  */
@@ -7,7 +7,7 @@ import { describe, expect, it } from 'vitest';
 import { load } from 'cheerio';
 import { render } from 'svelte/server';
 import CatalogueCard from '../../../src/lib/components/CatalogueCard.svelte';
-import { renderCatalogueCard } from '../../../src/lib/server/card-html';
+import { renderCatalogueCard } from '../../../src/lib/server/rendered-html';
 import type { CatalogueEntry, CatalogueRevision } from '../../../src/lib/finder';
 
 const revision = (id: number, code: string, band: CatalogueRevision['band']): CatalogueRevision => ({

@@ -1,0 +1,44 @@
+/**
+ * Parts of public pages the app renders once and keeps with the data they show, so a request joins
+ * stored fragments instead of rendering them again:
+ * - the catalogue's cards (CatalogueCard), one per card and region: read-model.ts,
+ *   `loadCatalogueHtmlPage`, stored in `converter_card.card_html`;
+ * - a converter page's revision panels (RevisionPanel), the same for every visitor: stored with the
+ *   converter's document (`converter_detail.revisions_html`, converter-doc.ts `storeRevisionsHtml`).
+ * Both pages are served without hydration (`csr = false`; their islands mount, not hydrate), so
+ * Svelte's hydration markers are left out. Stored HTML is tagged with the build that rendered it:
+ * a new build (which may render differently) renders afresh on first show; in dev nothing is
+ * stored, as components change under the running server.
+ */
+import { render } from 'svelte/server';
+import { dev, version } from '$app/environment';
+import CatalogueCard from '$lib/components/CatalogueCard.svelte';
+import RevisionPanel from '$lib/components/RevisionPanel.svelte';
+import type { CatalogueEntry } from '$lib/finder';
+import type { PageRevision } from './queries/public';
+import type { CardRenderer } from './queries/read-model';
+
+/** The build stored HTML is tagged with; null (dev) stores nothing. */
+export const HTML_BUILD: string | null = dev ? null : version;
+
+/**
+ * Svelte's hydration markers (`<!--[-->`, `<!--]-->`, `<!---->`...): a tenth of a card's bytes.
+ * Svelte escapes `<` in text and attribute values alike, so every comment in its output is a marker.
+ */
+const HYDRATION_MARKERS = /<!--[^]*?-->/g;
+
+const withoutMarkers = (body: string) => body.replace(HYDRATION_MARKERS, '');
+
+/** One card's HTML: CatalogueCard's server output (text escaped by Svelte), without hydration markers. */
+export function renderCatalogueCard(entry: CatalogueEntry): string {
+	return withoutMarkers(render(CatalogueCard, { props: { c: entry } }).body);
+}
+
+export const catalogueCards: CardRenderer = { build: HTML_BUILD, render: renderCatalogueCard };
+
+/** A converter page's revision panels, in order: RevisionPanel's server output without hydration markers. */
+export function renderRevisionPanels(revisions: PageRevision[], converterName: string): string[] {
+	return revisions.map((revision) =>
+		withoutMarkers(render(RevisionPanel, { props: { revision, converterName } }).body)
+	);
+}
