@@ -15,7 +15,9 @@ import { dev, version } from '$app/environment';
 import CatalogueCard from '$lib/components/CatalogueCard.svelte';
 import RevisionPanel from '$lib/components/RevisionPanel.svelte';
 import type { CatalogueEntry } from '$lib/finder';
-import type { PageRevision } from './queries/public';
+import type { Db } from './db/client';
+import { storeRevisionsHtml } from './queries/converter-doc';
+import type { PageRevision, StoredPanels } from './queries/public';
 import type { CardRenderer } from './queries/read-model';
 
 /** The build stored HTML is tagged with; null (dev) stores nothing. */
@@ -41,4 +43,24 @@ export function renderRevisionPanels(revisions: PageRevision[], converterName: s
 	return revisions.map((revision) =>
 		withoutMarkers(render(RevisionPanel, { props: { revision, converterName } }).body)
 	);
+}
+
+/**
+ * A converter page's revision panels: those stored with its document, when this build rendered
+ * them for this converter name; else rendered now and stored with the document they came from.
+ */
+export async function revisionPanels(
+	db: Db,
+	panels: StoredPanels,
+	revisions: PageRevision[],
+	converterName: string
+): Promise<string[]> {
+	if (panels.stored?.name === converterName) return panels.stored.panels;
+	const rendered = renderRevisionPanels(revisions, converterName);
+	if (HTML_BUILD && panels.docVersion)
+		await storeRevisionsHtml(db, panels.converterId, panels.docVersion, HTML_BUILD, {
+			name: converterName,
+			panels: rendered
+		});
+	return rendered;
 }

@@ -2,8 +2,7 @@ import { error } from '@sveltejs/kit';
 import { db } from '$lib/server/db';
 import { listWatches } from '$lib/server/alerts/watches';
 import { loadConverterPage, pageRevision } from '$lib/server/queries/public';
-import { storeRevisionsHtml } from '$lib/server/queries/converter-doc';
-import { HTML_BUILD, renderRevisionPanels } from '$lib/server/rendered-html';
+import { HTML_BUILD, revisionPanels } from '$lib/server/rendered-html';
 import { renderOnly } from '$lib/render-only';
 import { parseLenient, searchObject, viewpoint, viewpointParams } from '$lib/server/queries/public-params';
 import type { PageServerLoad } from './$types';
@@ -23,20 +22,14 @@ export const load: PageServerLoad = async ({ params, url, cookies, request, loca
 	if (!found) error(404, 'No converter by that name in the catalogue.');
 	const { detail, panels } = found;
 	const revisions = detail.revisions.map(pageRevision);
-	// the revision panels are the same for every visitor: rendered once per document and kept with it
-	const name = `${detail.entry.brand} ${detail.entry.model}`;
-	let revisionsHtml = panels.stored?.name === name ? panels.stored.panels : null;
-	if (!revisionsHtml) {
-		revisionsHtml = renderRevisionPanels(revisions, name);
-		if (HTML_BUILD && panels.docVersion)
-			await storeRevisionsHtml(db, panels.converterId, panels.docVersion, HTML_BUILD, { name, panels: revisionsHtml });
-	}
+	// the same for every visitor: rendered once per document and kept with it
+	const panelsHtml = await revisionPanels(db, panels, revisions, `${detail.entry.brand} ${detail.entry.model}`);
 	const watches = locals.user ? await listWatches(db, locals.user.id) : [];
 	return renderOnly(
 		{
 			view,
 			detail: { ...detail, revisions },
-			revisionsHtml: revisionsHtml.join(''),
+			revisionsHtml: panelsHtml.join(''),
 			figures: detail.figures,
 			notes: detail.notes,
 			signedIn: locals.user !== null,
