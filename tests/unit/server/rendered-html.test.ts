@@ -1,14 +1,16 @@
 /**
- * The catalogue card as the app stores it (src/lib/server/rendered-html.ts): CatalogueCard's server
- * output without Svelte's hydration markers. Parsed back with cheerio (an HTML parser independent
- * of Svelte) it must say what the entry says, and text from the catalogue must stay text.
+ * What the app renders once and stores (src/lib/server/rendered-html.ts): catalogue cards and a
+ * converter page's revision panels, Svelte's server output without its hydration markers. Parsed
+ * back with cheerio (an HTML parser independent of Svelte) they must say what their data says,
+ * and text from the catalogue or a curator must stay text.
  */
 import { describe, expect, it } from 'vitest';
 import { load } from 'cheerio';
 import { render } from 'svelte/server';
 import CatalogueCard from '../../../src/lib/components/CatalogueCard.svelte';
-import { renderCatalogueCard } from '../../../src/lib/server/rendered-html';
+import { renderCatalogueCard, renderRevisionPanels } from '../../../src/lib/server/rendered-html';
 import type { CatalogueEntry, CatalogueRevision } from '../../../src/lib/finder';
+import type { PageRevision } from '../../../src/lib/server/queries/public';
 
 const revision = (id: number, code: string, band: CatalogueRevision['band']): CatalogueRevision => ({
 	id,
@@ -107,5 +109,44 @@ describe('a stored catalogue card', () => {
 		expect($('h3').text().trim()).toBe('<img src=x onerror=alert(1)> Box <!-- 2 -->');
 		expect($('li.card > div p').first().text()).toBe('"><script>alert(1)</script>');
 		expect($('li.card').text()).toContain('at Shop "<b>"');
+	});
+});
+
+describe('stored revision panels', () => {
+	// A revision not yet measured (no runs): the header, the expected grade and the history show.
+	const panelRevision = (o: Partial<PageRevision> = {}): PageRevision => ({
+		...revision(21, 'C', null),
+		chipMaker: 'Maker T (invented)',
+		chipNotes: '',
+		notes: '',
+		scoreMin: null,
+		scoreMax: null,
+		rubricVersion: null,
+		gradedAt: null,
+		measuredBy: [],
+		gradeHistory: [],
+		median: null,
+		runLines: [],
+		...o
+	});
+
+	it('render one panel per revision, in order, without hydration markers', () => {
+		const panels = renderRevisionPanels([panelRevision(), panelRevision({ id: 22, code: 'D' })], 'Testbrand Box 1');
+		expect(panels).toHaveLength(2);
+		expect(panels.map((p) => load(p)('article').attr('data-revision'))).toEqual(['C', 'D']);
+		expect(panels.join('')).not.toContain('<!--');
+		expect(load(panels[0])('h2').text()).toMatch(/Revision C\s*· chip TST-C/);
+	});
+
+	it("keep markup in curators' text as text", () => {
+		const [html] = renderRevisionPanels(
+			[panelRevision({ chip: '<img src=x onerror=alert(1)>', boardMarking: '"><script>alert(1)</script>' })],
+			'Box <!-- 2 -->'
+		);
+		expect(html).not.toMatch(/<img|<script|<!--/);
+		const $ = load(html);
+		expect($('img, script')).toHaveLength(0);
+		expect($('h2').text()).toContain('chip <img src=x onerror=alert(1)>');
+		expect($('article').text()).toContain('board marked "><script>alert(1)</script>');
 	});
 });
