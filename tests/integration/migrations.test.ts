@@ -88,6 +88,26 @@ describe('migrations', () => {
 		expect(card.entry).toEqual(kept);
 	});
 
+	it('0017 counts the cards stored before it, region by region, and runs again safely', async () => {
+		const [conv] = await sql`insert into converter (slug, brand, model) values ('x-count', 'X', 'Count') returning id`;
+		for (const region of ['eu', 'jp'])
+			await sql`insert into converter_card (region, converter_id, slug, brand, model, has_audio_out, power,
+					band_rank, score, buyable, in_stock_shops, entry)
+				values (${region}, ${conv.id}, 'x-count', 'X', 'Count', true, 'usb-bus', 0, 90, 0, 1, '{}')`;
+		// as if the cards had been written before the counts existed
+		await sql`update region_card_count set cards = 0`;
+		await sql.unsafe(readFileSync('drizzle/0017_region_card_count.sql', 'utf8'));
+		const counts = await sql`select c.region::text as region, c.cards from region_card_count c order by c.region`;
+		const [{ n }] = await sql`select count(*)::int as n from converter_card where region = 'eu'`;
+		expect(counts).toEqual([
+			{ region: 'na', cards: 0 },
+			{ region: 'eu', cards: n },
+			{ region: 'uk', cards: 0 },
+			{ region: 'jp', cards: 1 },
+			{ region: 'au', cards: 0 }
+		]);
+	});
+
 	it('reject a stock state or band outside the enums', async () => {
 		await expect(sql`select 'sold'::stock_state`).rejects.toThrow(/invalid input value/);
 		await expect(sql`select 'great'::band`).rejects.toThrow(/invalid input value/);

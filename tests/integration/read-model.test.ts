@@ -7,7 +7,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import postgres from 'postgres';
 import { drizzle } from 'drizzle-orm/postgres-js';
-import { and, eq, sql as dsql, TransactionRollbackError } from 'drizzle-orm';
+import { and, eq, inArray, sql as dsql, TransactionRollbackError } from 'drizzle-orm';
 import * as schema from '../../src/lib/server/db/schema';
 import { freshDatabase } from './helpers/db';
 import { loadBenchCatalogue } from '../../scripts/lib/bench-catalogue';
@@ -396,6 +396,118 @@ describe('public read model', () => {
 
 			await storeCardHtml(h.db, 'eu', 'build-5', [{ id: e.id, seen: await row(), html: '<li>fresh</li>' }]);
 			expect(await storedHtml(e.slug)).toEqual({ card_html: '<li>fresh</li>', card_html_build: 'build-5' });
+		});
+	});
+
+	describe('the region card count (migration 0017)', () => {
+		// The reference: the cards each region has, counted now.
+		const counted = async () =>
+			Object.fromEntries(
+				REGION_CODES.map((r) => [r, 0]).concat(
+					(
+						await h.sql<{ region: Region; n: number }[]>`
+							select region, count(*)::int as n from converter_card group by region`
+					).map((r) => [r.region, r.n])
+				)
+			);
+		const kept = async (db: postgres.Sql | postgres.TransactionSql = h.sql) =>
+			Object.fromEntries(
+				REGION_CODES.map((r) => [r, 0]).concat(
+					(await db<{ region: Region; cards: number }[]>`select region, cards from region_card_count`).map((r) => [
+						r.region,
+						r.cards
+					])
+				)
+			);
+		const newConverter = async (slug: string) => {
+			const [c] = await h.db
+				.insert(schema.converters)
+				.values({ slug, brand: 'Countwell', model: slug })
+				.returning({ id: schema.converters.id });
+			await h.db.transaction((tx) => refreshCards(tx, [c.id]));
+			return c.id;
+		};
+
+		it('stays equal to the cards each region has through new, retired and deleted converters and rebuilds', async () => {
+			await loadCataloguePage(h.db, { region: 'eu', currency: 'EUR' }, {}, { pageSize: 1 }); // builds dirty cards
+			expect(await kept()).toEqual(await counted());
+			const before = await counted();
+
+			const added = await newConverter('count-one');
+			const plusOne = Object.fromEntries(REGION_CODES.map((r) => [r, before[r] + 1]));
+			expect(await counted()).toEqual(plusOne);
+			expect(await kept()).toEqual(plusOne);
+
+			// A rebuild of every card updates them all and adds none.
+			await h.db.transaction((tx) => refreshCards(tx, 'all'));
+			expect(await kept()).toEqual(plusOne);
+
+			// Retired: the rebuild deletes its cards.
+			await h.db.update(schema.converters).set({ retiredAt: new Date() }).where(eq(schema.converters.id, added));
+			await h.db.transaction((tx) => refreshCards(tx, [added]));
+			expect(await kept()).toEqual(before);
+
+			// Deleted: its cards go with it (the foreign key's cascade).
+			const gone = await newConverter('count-two');
+			expect(await kept()).toEqual(plusOne);
+			await h.db.delete(schema.converters).where(eq(schema.converters.id, gone));
+			expect(await kept()).toEqual(before);
+			expect(await counted()).toEqual(before);
+
+			// Truncated (rolled back here): every region counts none.
+			const inside = await h.sql
+				.begin(async (tx) => {
+					await tx`truncate converter_card`;
+					const seen = await kept(tx);
+					throw Object.assign(new Error('roll back'), { seen });
+				})
+				.catch((e: { seen?: Record<string, number> }) => e.seen);
+			expect(inside).toEqual(Object.fromEntries(REGION_CODES.map((r) => [r, 0])));
+			expect(await kept()).toEqual(before);
+		}, 60_000);
+
+		it('two writers adding converters at once both commit, and both are counted', async () => {
+			const before = await kept();
+			const ids = await Promise.all([newConverter('count-three'), newConverter('count-four')]);
+			expect(await kept()).toEqual(Object.fromEntries(REGION_CODES.map((r) => [r, before[r] + 2])));
+			expect(await kept()).toEqual(await counted());
+			await h.db.delete(schema.converters).where(inArray(schema.converters.id, ids));
+			expect(await kept()).toEqual(before);
+		});
+
+		it("a card's region cannot change, so no update can put the counts wrong", async () => {
+			const [card] = await h.sql`select converter_id from converter_card where region = 'eu' limit 1`;
+			await expect(
+				h.sql`update converter_card set region = 'jp' where region = 'eu' and converter_id = ${card.converter_id}`
+			).rejects.toThrow(/region cannot change/);
+		});
+
+		it('an unfiltered page takes its totals from the count; a narrowing filter counts its matches', async () => {
+			const eur = { region: 'eu' as Region, currency: 'EUR' };
+			const all = (await counted()).eu;
+			const plain = await loadCataloguePage(h.db, eur, { sort: 'band' }, { pageSize: 48 });
+			expect(plain).toMatchObject({ total: all, matching: all, pages: Math.ceil(all / 48) });
+
+			// The reference for a narrowed page: the catalogue rules ($lib/finder) over every entry.
+			const narrow: CatalogueFilter = { audio: true, minBand: 'close' };
+			const everyEntry = (await loadCataloguePage(h.db, eur, {}, { pageSize: 100_000 })).entries;
+			const expected = filterCatalogue(everyEntry, narrow).length;
+
+			// Within a transaction that sets the count to a figure no count of rows gives, and rolls back:
+			// the unfiltered page shows that figure, the narrowed one still counts its own matches.
+			const seen = await h.db
+				.transaction(async (tx) => {
+					await tx.update(schema.regionCardCounts).set({ cards: 9999 }).where(eq(schema.regionCardCounts.region, 'eu'));
+					const unfiltered = await loadCataloguePage(tx, eur, {}, { pageSize: 48 });
+					const narrowed = await loadCataloguePage(tx, eur, narrow, { pageSize: 48 });
+					throw Object.assign(new TransactionRollbackError(), { unfiltered, narrowed });
+				})
+				.catch(
+					(e: { unfiltered?: { total: number; matching: number }; narrowed?: { total: number; matching: number } }) => e
+				);
+			expect(seen.unfiltered).toMatchObject({ total: 9999, matching: 9999 });
+			expect(seen.narrowed).toMatchObject({ total: 9999, matching: expected });
+			expect((await kept()).eu).toBe(all);
 		});
 	});
 

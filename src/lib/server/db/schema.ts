@@ -747,6 +747,16 @@ export const converterCards = pgTable(
 	]
 );
 
+/**
+ * How many cards each region has, kept by statement triggers on converter_card (migration 0017:
+ * every insert, delete and truncate moves it in the same transaction), so an unfiltered catalogue
+ * page reads its "N converters" and page count instead of counting the region's cards.
+ */
+export const regionCardCounts = pgTable('region_card_count', {
+	region: regionEnum('region').primaryKey(),
+	cards: integer('cards').notNull()
+});
+
 /** Converters whose cards must be rebuilt (filled by triggers, emptied by the rebuild). */
 export const cardDirty = pgTable('card_dirty', {
 	converterId: integer('converter_id').primaryKey()

@@ -14,7 +14,7 @@
  */
 import { randomUUID } from 'node:crypto';
 import { and, asc, eq, inArray, isNull, notInArray, sql, type SQL } from 'drizzle-orm';
-import { cardDirty, converterCards, converters, listings } from '../db/schema';
+import { cardDirty, converterCards, converters, listings, regionCardCounts } from '../db/schema';
 import { buildEntries, revisionsFor, type Db, type Viewpoint } from './catalogue-entries';
 import { currentOffers, loadRates, rateDay, ratesSql } from './offers';
 import { idArray } from '../db/prepared';
@@ -322,9 +322,12 @@ function orderFor(sort: CardOrder, includeExpected?: boolean): SQL[] {
 	}
 }
 
-/** The SQL of a catalogue filter; prices compare as the visitor sees them (convertMinor's rounding). */
-function whereFor(view: Viewpoint, f: CatalogueFilter, day: string): SQL {
-	const parts: (SQL | undefined)[] = [eq(converterCards.region, view.region)];
+/**
+ * The SQL of a catalogue filter over the region's cards, and whether it narrows them at all;
+ * prices compare as the visitor sees them (convertMinor's rounding).
+ */
+function whereFor(view: Viewpoint, f: CatalogueFilter, day: string): { where: SQL; narrowed: boolean } {
+	const parts: SQL[] = [];
 	if (f.minBand) parts.push(sql`${rankWith(f.includeExpected)} <= ${bandRank(f.minBand)}`);
 	if (f.audio) parts.push(eq(converterCards.hasAudioOut, true));
 	if (f.power) parts.push(eq(converterCards.power, f.power));
@@ -335,7 +338,7 @@ function whereFor(view: Viewpoint, f: CatalogueFilter, day: string): SQL {
 		if (f.priceMin != null) parts.push(sql`${shown} >= ${f.priceMin}`);
 		if (f.priceMax != null) parts.push(sql`${shown} <= ${f.priceMax}`);
 	}
-	return and(...parts)!;
+	return { where: and(eq(converterCards.region, view.region), ...parts)!, narrowed: parts.length > 0 };
 }
 
 export interface CataloguePage {
@@ -487,18 +490,19 @@ async function readCataloguePage<Extra extends object = object>(
 	columns: SQL
 ): Promise<Omit<CataloguePage, 'entries'> & { rows: (CardRow & Extra)[] }> {
 	const day = rateDay();
-	const where = whereFor(view, filter, day);
+	const { where, narrowed } = whereFor(view, filter, day);
 	const size = opts.pageSize;
 	const asked = Math.max(1, opts.page ?? 1);
 	const order = orderFor(filter.order ?? filter.sort ?? 'band', filter.includeExpected);
 	type Row = CardRow & Extra & { total: number; matching: number; converter_id: number | null };
 	const rows = await readCards(db, async () => {
+		// the region's count is kept by triggers (migration 0017); only a narrowing filter counts cards
+		const total = sql`coalesce((select ${regionCardCounts.cards} from ${regionCardCounts} where ${regionCardCounts.region} = ${view.region}), 0)`;
 		const shownPage = sql`(least(${asked}::int, greatest(1, ceil((select matching from counts) / ${size}::float8)::int)) - 1) * ${size}::int`;
 		// array(subquery) keeps the subquery's order and `with ordinality` numbers it, so the page's
 		// order survives the joins; last-checked times are read for the page's cards only.
 		const result = await db.execute(sql`
-			with counts as (select count(*)::int as total, (count(*) filter (where ${where}))::int as matching
-				from ${converterCards} where ${eq(converterCards.region, view.region)}),
+			with counts as (select ${total} as total, ${narrowed ? sql`(select count(*)::int from ${converterCards} where ${where})` : total} as matching),
 			ids as (select id, n from unnest(array(select ${converterCards.converterId} from ${converterCards} where ${where}
 					order by ${sql.join(order, sql`, `)} limit ${size}::int offset ${shownPage})) with ordinality as t(id, n)),
 			page as (select ids.n, ${converterCards.converterId} as converter_id, ${converterCards.bestListingId}, ${columns}
