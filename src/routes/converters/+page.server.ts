@@ -1,6 +1,6 @@
 import { db } from '$lib/server/db';
 import { renderOnly } from '$lib/render-only';
-import { catalogueCards } from '$lib/server/rendered-html';
+import { catalogueCards, joinedHtml } from '$lib/server/rendered-html';
 import { loadCatalogueHtmlPage } from '$lib/server/queries/read-model';
 import {
 	catalogueParams,
@@ -40,7 +40,7 @@ export const load: PageServerLoad = async ({ url, cookies, request, isDataReques
 			matching: found.matching,
 			page: found.page,
 			pages: found.pages,
-			cardsHtml: found.cards.join('')
+			cardsHtml: joinedHtml(found.cards)
 		},
 		{ isDataRequest }
 	);

@@ -8,7 +8,7 @@ import { describe, expect, it } from 'vitest';
 import { load } from 'cheerio';
 import { render } from 'svelte/server';
 import CatalogueCard from '../../../src/lib/components/CatalogueCard.svelte';
-import { renderCatalogueCard, renderRevisionPanels } from '../../../src/lib/server/rendered-html';
+import { joinedHtml, renderCatalogueCard, renderRevisionPanels } from '../../../src/lib/server/rendered-html';
 import type { CatalogueEntry, CatalogueRevision } from '../../../src/lib/finder';
 import type { PageRevision } from '../../../src/lib/server/queries/public';
 
@@ -148,5 +148,15 @@ describe('stored revision panels', () => {
 		expect($('img, script')).toHaveLength(0);
 		expect($('h2').text()).toContain('chip <img src=x onerror=alert(1)>');
 		expect($('article').text()).toContain('board marked "><script>alert(1)</script>');
+	});
+});
+
+describe('fragments joined for a page', () => {
+	it('give the same text as Array.prototype.join, in order, empty ones and non-ASCII included', () => {
+		const fragments = ['<li>Å</li>', '', '<li>日本</li>', '<li>\u{1F4FA}</li>', '<li>4</li>'];
+		expect(joinedHtml(fragments)).toBe(fragments.join(''));
+		expect(joinedHtml([])).toBe('');
+		const many = Array.from({ length: 48 }, (_, i) => `<li class="card" data-n="${i}">${'x'.repeat(1500)}</li>`);
+		expect(joinedHtml(many)).toBe(many.join(''));
 	});
 });
