@@ -238,7 +238,7 @@ describe('converter page read model', () => {
 	});
 
 	describe('revision panels kept with the document', () => {
-		const html = { name: 'Test Box', panels: ['<article>A</article>', '<article>B</article>'] };
+		const html = { name: 'Test Box', html: '<article>A</article><article>B</article>' };
 		const readAs = (build: string | null) => readConverterDoc(h.db, SLUG, 'eu', build);
 
 		it('are read back by the build that stored them, and by no other', async () => {

@@ -4,7 +4,8 @@
  * - the catalogue's cards (CatalogueCard), one per card and region: read-model.ts,
  *   `loadCatalogueHtmlPage`, stored in `converter_card.card_html`;
  * - a converter page's revision panels (RevisionPanel), the same for every visitor: stored with the
- *   converter's document (`converter_detail.revisions_html`, converter-doc.ts `storeRevisionsHtml`).
+ *   converter's document as one text (`converter_detail.revisions_html`, converter-doc.ts
+ *   `storeRevisionsHtml`).
  * Both pages are served without hydration (`csr = false`; their islands mount, not hydrate), so
  * Svelte's hydration markers are left out. Stored HTML is tagged with the build that rendered it:
  * a new build (which may render differently) renders afresh on first show; in dev nothing is
@@ -46,23 +47,21 @@ export function renderRevisionPanels(revisions: PageRevision[], converterName: s
 }
 
 /**
- * A converter page's revision panels: those stored with its document, when this build rendered
- * them for this converter name; else rendered now and stored with the document they came from.
+ * A converter page's revision panels as one HTML text: those stored with its document, when this
+ * build rendered them for this converter name; else rendered now and stored with the document they
+ * came from. Kept as one text rather than a list, so a read gets a string without JSON to parse.
  */
 export async function revisionPanels(
 	db: Db,
 	panels: StoredPanels,
 	revisions: PageRevision[],
 	converterName: string
-): Promise<string[]> {
-	if (panels.stored?.name === converterName) return panels.stored.panels;
-	const rendered = renderRevisionPanels(revisions, converterName);
+): Promise<string> {
+	if (panels.stored?.name === converterName) return panels.stored.html;
+	const html = joinedHtml(renderRevisionPanels(revisions, converterName));
 	if (HTML_BUILD && panels.docVersion)
-		await storeRevisionsHtml(db, panels.converterId, panels.docVersion, HTML_BUILD, {
-			name: converterName,
-			panels: rendered
-		});
-	return rendered;
+		await storeRevisionsHtml(db, panels.converterId, panels.docVersion, HTML_BUILD, { name: converterName, html });
+	return html;
 }
 
 /**

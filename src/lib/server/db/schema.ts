@@ -781,11 +781,13 @@ export const converterDetails = pgTable('converter_detail', {
 	snapshot: pgSnapshot('snapshot').notNull(),
 	builtAt: timestamp('built_at', { withTimezone: true }).notNull(),
 	/**
-	 * The page's revision panels as HTML, rendered by the app from this document the first time a
-	 * page shows it (`{ name, panels }`, RevisionHtml in converter-doc.ts); null until then, and again
-	 * whenever the document is replaced.
+	 * The page's revision panels as the one HTML text the page shows, rendered by the app from this
+	 * document the first time a page shows it (RevisionHtml in converter-doc.ts); null until then, and
+	 * again whenever the document is replaced.
 	 */
-	revisionsHtml: json('revisions_html'),
+	revisionsHtml: text('revisions_html'),
+	/** The converter name the stored panels show (a rename renders them afresh). */
+	revisionsName: text('revisions_name'),
 	/** The app build that rendered revisions_html: another build renders the panels afresh. */
 	htmlBuild: text('html_build')
 });

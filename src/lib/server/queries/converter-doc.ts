@@ -245,7 +245,7 @@ export async function rebuildConverterDoc(
 			from converter where id = ${converterId}
 			on conflict (converter_id) do update
 				set doc = excluded.doc, shape = excluded.shape, snapshot = excluded.snapshot, built_at = excluded.built_at,
-					revisions_html = null, html_build = null
+					revisions_html = null, revisions_name = null, html_build = null
 				-- the new snapshot sees every transaction the stored one saw (clock order is not snapshot order)
 				where pg_snapshot_xmax(converter_detail.snapshot) <= pg_snapshot_xmax(excluded.snapshot)
 					and not exists (select 1 from pg_snapshot_xip(excluded.snapshot) x
@@ -256,10 +256,10 @@ export async function rebuildConverterDoc(
 	return built.doc;
 }
 
-/** A document's revision panels as the page rendered them, for the converter name they show. */
+/** A document's revision panels as the page shows them (one HTML text), for the converter name they show. */
 export interface RevisionHtml {
 	name: string;
-	panels: string[];
+	html: string;
 }
 
 /** What a page reads: the document (built again first when stale) and the listings' last-checked times. */
@@ -320,8 +320,9 @@ export async function readConverterDoc(
 			.select({
 				id: converters.id,
 				doc: converterDetails.doc,
-				revisionsHtml: sql<RevisionHtml | null>`case when ${converterDetails.htmlBuild} = ${sql.placeholder('build')}
+				revisionsHtml: sql<string | null>`case when ${converterDetails.htmlBuild} = ${sql.placeholder('build')}
 					then ${converterDetails.revisionsHtml} end`,
+				revisionsName: converterDetails.revisionsName,
 				docVersion: sql<string | null>`${converterDetails}.xmin::text`,
 				stale: sql<boolean>`(${converterDetails.builtAt} is null
 					or ${converterDetails.shape} <> ${sql.raw(String(DOC_SHAPE))}
@@ -347,7 +348,10 @@ export async function readConverterDoc(
 	return {
 		converterId: row.id,
 		doc,
-		revisionsHtml: row.stale ? null : row.revisionsHtml,
+		revisionsHtml:
+			row.stale || row.revisionsHtml == null || row.revisionsName == null
+				? null
+				: { name: row.revisionsName, html: row.revisionsHtml },
 		docVersion: row.stale ? null : row.docVersion,
 		checkedMs: row.checked ?? {},
 		card: { entry: row.entry, rates: row.rates, dirty: row.cardsDirty }
@@ -370,7 +374,7 @@ export async function storeRevisionsHtml(
 		await db.execute(sql`
 			with locked as (select converter_id from converter_detail
 				where converter_id = ${converterId} and xmin = ${docVersion}::xid for update skip locked)
-			update converter_detail d set revisions_html = ${JSON.stringify(html)}::json, html_build = ${build}
+			update converter_detail d set revisions_html = ${html.html}, revisions_name = ${html.name}, html_build = ${build}
 			from locked where d.converter_id = locked.converter_id`);
 	} catch (err) {
 		console.warn('converter page: could not keep rendered revision panels', err);

@@ -2,7 +2,7 @@ import { error } from '@sveltejs/kit';
 import { db } from '$lib/server/db';
 import { listWatches } from '$lib/server/alerts/watches';
 import { loadConverterPage, pageRevision } from '$lib/server/queries/public';
-import { HTML_BUILD, joinedHtml, revisionPanels } from '$lib/server/rendered-html';
+import { HTML_BUILD, revisionPanels } from '$lib/server/rendered-html';
 import { renderOnly } from '$lib/render-only';
 import { parseLenient, searchObject, viewpoint, viewpointParams } from '$lib/server/queries/public-params';
 import type { PageServerLoad } from './$types';
@@ -29,7 +29,7 @@ export const load: PageServerLoad = async ({ params, url, cookies, request, loca
 		{
 			view,
 			detail: { ...detail, revisions },
-			revisionsHtml: joinedHtml(panelsHtml),
+			revisionsHtml: panelsHtml,
 			figures: detail.figures,
 			notes: detail.notes,
 			signedIn: locals.user !== null,
