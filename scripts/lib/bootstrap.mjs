@@ -48,10 +48,17 @@ export function ensureJava() {
 	if (!onPath) aptInstall(['default-jre-headless']);
 }
 
-/** `npm ci` when node_modules is missing or was installed from another lock file. */
+/**
+ * `npm ci` when node_modules is missing or was installed from another lock file or other patches
+ * (patches/, applied by patch-package after every install).
+ */
 export function ensureNodeModules() {
-	const lock = readFileSync(resolve(ROOT, 'package-lock.json'));
-	const hash = createHash('sha256').update(lock).digest('hex');
+	const hasher = createHash('sha256').update(readFileSync(resolve(ROOT, 'package-lock.json')));
+	const patches = resolve(ROOT, 'patches');
+	for (const name of existsSync(patches) ? readdirSync(patches).sort() : []) {
+		hasher.update(name).update(readFileSync(resolve(patches, name)));
+	}
+	const hash = hasher.digest('hex');
 	const stamp = resolve(ROOT, 'node_modules', '.scopegrade-lock-hash');
 	if (existsSync(stamp) && readFileSync(stamp, 'utf8') === hash) return;
 	log('installing npm packages (npm ci)…');
