@@ -1,16 +1,12 @@
 /**
- * The patches in patches/ (applied by patch-package on install).
- *
- * Most keep each request's closures and getters out of V8's old generation. V8 allocates a function
- * literal assigned to a property (`obj.f = () => ...`) and every accessor pair there; from there they
- * keep what they close over (a query's rows, a request, a rendered page) alive through every minor
- * GC until the next full one, which made most of what a page allocated survive into the old
- * generation. Two kinds of check: a Node child with V8's native syntax (`%InYoungGeneration`, V8's
- * own test hook) shows where the objects really are, and a parse of the patched request-path modules
- * (acorn, ECMAScript's AssignmentExpression) shows no function literal is assigned to a property.
- *
- * One makes SvelteKit's djb2 hash (its page ETags) use 32-bit integer arithmetic: checked against
- * djb2 computed with BigInt modulo 2^32 (D. J. Bernstein's hash, h = h * 33 ^ c, from h = 5381).
+ * The patches in patches/ (applied by patch-package on install) keep each request's closures and
+ * getters out of V8's old generation. V8 allocates a function literal assigned to a property
+ * (`obj.f = () => ...`) and every accessor pair there; from there they keep what they close over (a
+ * query's rows, a request, a rendered page) alive through every minor GC until the next full one,
+ * which made most of what a page allocated survive into the old generation. Two kinds of check: a
+ * Node child with V8's native syntax (`%InYoungGeneration`, V8's own test hook) shows where the
+ * objects really are, and a parse of the patched request-path modules (acorn, ECMAScript's
+ * AssignmentExpression) shows no function literal is assigned to a property.
  */
 import { describe, expect, it } from 'vitest';
 import { spawnSync } from 'node:child_process';
@@ -22,7 +18,6 @@ import { parse } from 'acorn';
 const ROOT = resolve(__dirname, '../..');
 const pkgDir = (name: string) => resolve(ROOT, 'node_modules', name);
 const kitUrl = pathToFileURL(resolve(pkgDir('@sveltejs/kit'), 'src/utils/url.js')).href;
-const kitHashUrl = pathToFileURL(resolve(pkgDir('@sveltejs/kit'), 'src/utils/hash.js')).href;
 
 /** Run an ES module with V8's native syntax in a child Node; it prints one JSON line. */
 function probe(code: string): Record<string, unknown> {
@@ -176,35 +171,5 @@ describe('patched request-path modules assign no function literal to a property'
 	it('Auth.js handle, except while building', () => {
 		const file = resolve(pkgDir('@auth/sveltekit'), 'dist/index.js');
 		expect(assignedFunctionLiterals(file)).toEqual([line(file, 'event.locals.auth ??= async () => null')]);
-	});
-});
-
-/** djb2 (XOR variant) over UTF-16 code units or bytes, in BigInt modulo 2^32, as SvelteKit prints it (base 36). */
-function referenceDjb2(...values: (string | Uint8Array)[]): string {
-	let h = 5381n;
-	for (const value of values) {
-		const units = typeof value === 'string' ? [...Array(value.length)].map((_, i) => value.charCodeAt(i)) : [...value];
-		for (let i = units.length - 1; i >= 0; i--) h = ((h * 33n) ^ BigInt(units[i])) & 0xffffffffn;
-	}
-	return h.toString(36);
-}
-
-describe('patched SvelteKit hash (djb2 in 32-bit integer arithmetic)', () => {
-	it('gives djb2 modulo 2^32 for strings and bytes, page-sized ones included', async () => {
-		const { hash } = (await import(/* @vite-ignore */ kitHashUrl)) as {
-			hash: (...values: (string | Uint8Array)[]) => string;
-		};
-		const page = '<article class="card">Fair · 0.70 V</article>'.repeat(2500) + '\u{1F4FA}';
-		const cases: (string | Uint8Array)[][] = [
-			[''],
-			['a'],
-			['Scopegrade'],
-			['ÿ\u0100\uffff'],
-			[page],
-			[new TextEncoder().encode(page)],
-			[new Uint8Array([0, 255, 128, 7])],
-			['GET', '/api/v1/converters', new Uint8Array([1, 2, 3])]
-		];
-		for (const values of cases) expect(hash(...values)).toBe(referenceDjb2(...values));
 	});
 });
