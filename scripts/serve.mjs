@@ -71,16 +71,17 @@ async function serve() {
 	const dir = resolve(process.argv[2] || process.env.SG_BUILD_DIR || 'build');
 	const { handler } = await import(pathToFileURL(resolve(dir, 'handler.js')).href);
 
-	// Below 1 kB compressing costs more than it saves. Brotli quality 2 with a 256 kB window (the
+	// Below 1 kB compressing costs more than it saves. Brotli quality 1 with a 256 kB window (the
 	// default is 4 MB), larger than any page we send: each response sets up its own encoder, and the
 	// default window made that the larger cost (a 170 kB page 1.7 -> 0.8 ms, a 100 kB JSON 1.6 ->
-	// 0.4 ms, 32 at once). Quality 2 rather than 4: the catalogue page compresses in 0.19 ms instead
-	// of 0.29 and a converter page in 0.17 instead of 0.44, for 6-9 % more bytes (6.7 and 10.9 kB
-	// instead of 6.4 and 9.9); with the cache off and 32 connections that was 0.3-0.5 ms less CPU
-	// per page. Answers the page cache keeps are compressed once, harder (page-cache.ts).
+	// 0.4 ms, 32 at once). Quality 1 rather than 2 (or 4): the catalogue page compresses in 0.07 ms
+	// instead of 0.15 (0.29 at 4), a converter page in 0.10 instead of 0.17 and the catalogue JSON in
+	// 0.07 instead of 0.14, for 7-13 % more bytes (7.3, 11.5 and 6.2 kB instead of 6.7, 10.7 and
+	// 5.5). These are the answers rendered for one request; those the page cache keeps are
+	// compressed once, harder (page-cache.ts).
 	const compress = compression({
 		threshold: 1024,
-		brotli: { params: { [zlib.constants.BROTLI_PARAM_QUALITY]: 2, [zlib.constants.BROTLI_PARAM_LGWIN]: 18 } }
+		brotli: { params: { [zlib.constants.BROTLI_PARAM_QUALITY]: 1, [zlib.constants.BROTLI_PARAM_LGWIN]: 18 } }
 	});
 	// The page cache (src/lib/server/page-cache.ts) registers its fast path when the app loads: a hit
 	// is answered here, already compressed, without building a Request for SvelteKit.
