@@ -274,6 +274,47 @@ describe('converter page read model', () => {
 			expect((await readAs('build-4'))!.revisionsHtml).toBeNull();
 		});
 
+		it('keep the bench runs apart: read with the document unless the page has its panels stored', async () => {
+			const eu = { region: 'eu' as const, currency: 'EUR' };
+			await readAs('build-6');
+			const full = (await readAs('build-6'))!;
+			const runs = full.doc.revisions.map((r) => r.runsDetail);
+			expect(runs.flat().length).toBeGreaterThan(0);
+			// stored apart: the document's revisions carry none, `runs` has them in revision order
+			const [row] = await h.sql<Array<{ doc: ConverterDoc; runs: unknown }>>`
+				select doc, runs from converter_detail where converter_id = ${id}`;
+			expect(row.doc.revisions.map((r) => r.runsDetail)).toEqual(runs.map(() => []));
+			expect(row.runs).toEqual(runs);
+			// without panels stored for this build, a read that could do without runs still gets them
+			const noPanels = (await readConverterDoc(h.db, SLUG, 'eu', 'build-6', true))!;
+			expect(noPanels.runsRead).toBe(true);
+			expect(noPanels.doc).toEqual(full.doc);
+			const name = `${full.card.entry!.brand} ${full.card.entry!.model}`;
+			await storeRevisionsHtml(h.db, id, full.docVersion!, 'build-6', { name, html: '<article>A</article>' });
+			const slim = (await readConverterDoc(h.db, SLUG, 'eu', 'build-6', true))!;
+			expect(slim.runsRead).toBe(false);
+			expect(slim.doc.revisions.map((r) => r.runsDetail)).toEqual(runs.map(() => []));
+			expect({ ...slim.doc, revisions: [] }).toEqual({ ...full.doc, revisions: [] });
+			// another build, or a read that needs them, gets the runs
+			expect((await readConverterDoc(h.db, SLUG, 'eu', 'build-7', true))!.doc).toEqual(full.doc);
+			expect((await readConverterDoc(h.db, SLUG, 'eu', 'build-6'))!.doc).toEqual(full.doc);
+			// the page: its stored panels, without the runs
+			const page = (await loadConverterPage(h.db, SLUG, eu, 'build-6', true))!;
+			expect(page.panels.stored).toEqual({ name, html: '<article>A</article>' });
+			expect(page.detail.revisions.flatMap((r) => r.runsDetail)).toEqual([]);
+			// panels stored for another name are rendered afresh, so the page reads the runs after all
+			const version = (await readAs('build-6'))!.docVersion!; // the store above made a new row version
+			await storeRevisionsHtml(h.db, id, version, 'build-6', {
+				name: 'Old Name',
+				html: '<article>B</article>'
+			});
+			const renamed = (await loadConverterPage(h.db, SLUG, eu, 'build-6', true))!;
+			expect(renamed.panels.stored?.name).toBe('Old Name');
+			expect(renamed.detail.revisions.map((r) => r.runsDetail)).toEqual(runs);
+			// and the API's detail always has them
+			expect((await loadConverterDetail(h.db, SLUG, eu))!.revisions.map((r) => r.runsDetail)).toEqual(runs);
+		});
+
 		it('are not read from a document the read had to build again', async () => {
 			await readAs('build-5');
 			const read = (await readAs('build-5'))!;

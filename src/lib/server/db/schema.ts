@@ -775,7 +775,14 @@ export const converterDetails = pgTable('converter_detail', {
 	converterId: integer('converter_id')
 		.primaryKey()
 		.references(() => converters.id, { onDelete: 'cascade' }),
+	/** The document without its revisions' bench runs (each revision's runsDetail is empty here). */
 	doc: json('doc').notNull(),
+	/**
+	 * Each revision's bench runs with readings and reports, in the document's revision order: about
+	 * three quarters of the document, read only when the page renders its panels afresh (or the API
+	 * and compare page, which show them), not with panels this build has stored.
+	 */
+	runs: json('runs'),
 	/** DOC_SHAPE of the code that built it: a document from older code is built again. */
 	shape: integer('shape').notNull().default(0),
 	snapshot: pgSnapshot('snapshot').notNull(),

@@ -36,7 +36,7 @@ import type { PublicBenchRun, PublicRevision, TeardownRow } from './public';
 export const DOC_MAX_AGE_SECONDS = 60;
 
 /** Raise it with any change to ConverterDoc or to what buildConverterDoc puts in it: stored documents are then built again. */
-export const DOC_SHAPE = 1;
+export const DOC_SHAPE = 2;
 
 /** A listing's 90-day figures as the page shows them. */
 export interface ListingDayFigures {
@@ -239,12 +239,12 @@ export async function rebuildConverterDoc(
 	);
 	await db.execute(sql`
 		with stored as (
-			insert into converter_detail (converter_id, doc, shape, snapshot, built_at)
-			select id, ${JSON.stringify(built.doc)}::json, ${DOC_SHAPE}::int, ${built.snapshot}::pg_snapshot,
-				${built.built_at}::timestamptz
+			insert into converter_detail (converter_id, doc, runs, shape, snapshot, built_at)
+			select id, ${JSON.stringify(withoutRuns(built.doc))}::json, ${JSON.stringify(built.doc.revisions.map((r) => r.runsDetail))}::json,
+				${DOC_SHAPE}::int, ${built.snapshot}::pg_snapshot, ${built.built_at}::timestamptz
 			from converter where id = ${converterId}
 			on conflict (converter_id) do update
-				set doc = excluded.doc, shape = excluded.shape, snapshot = excluded.snapshot, built_at = excluded.built_at,
+				set doc = excluded.doc, runs = excluded.runs, shape = excluded.shape, snapshot = excluded.snapshot, built_at = excluded.built_at,
 					revisions_html = null, revisions_name = null, html_build = null
 				-- the new snapshot sees every transaction the stored one saw (clock order is not snapshot order)
 				where pg_snapshot_xmax(converter_detail.snapshot) <= pg_snapshot_xmax(excluded.snapshot)
@@ -254,6 +254,17 @@ export async function rebuildConverterDoc(
 		delete from detail_stale m using stored
 		where m.converter_id = ${converterId} and pg_visible_in_snapshot(m.xid, stored.snapshot)`);
 	return built.doc;
+}
+
+/** A stored document with its revisions' bench runs put back, when they were read. */
+function withRuns(doc: ConverterDoc, runs: PublicBenchRun[][] | null): ConverterDoc {
+	if (!runs) return doc;
+	return { ...doc, revisions: doc.revisions.map((r, i) => ({ ...r, runsDetail: runs[i] ?? [] })) };
+}
+
+/** A document as stored in `doc`: its revisions' bench runs are kept apart, in `runs`. */
+function withoutRuns(doc: ConverterDoc): ConverterDoc {
+	return { ...doc, revisions: doc.revisions.map((r) => ({ ...r, runsDetail: [] })) };
 }
 
 /** A document's revision panels as the page shows them (one HTML text), for the converter name they show. */
@@ -266,6 +277,8 @@ export interface RevisionHtml {
 export interface ConverterDocRead {
 	converterId: number;
 	doc: ConverterDoc;
+	/** false when the bench runs were left out (readConverterDoc's `withoutStoredRuns`): every runsDetail is empty. */
+	runsRead: boolean;
 	/** The panels stored with the document by the build asked for; null when there are none. */
 	revisionsHtml: RevisionHtml | null;
 	/** The version of the stored row the document was read from (its xmin); null when it was built for this read. */
@@ -307,12 +320,17 @@ function rebuildAfter(db: Db, converterId: number, readAt: number): Promise<Conv
 /**
  * A live converter's document by slug, with its card in one region and today's rates, in one
  * statement; null when there is no such live converter.
+ *
+ * `withoutStoredRuns`: leave the bench runs out when the panels `htmlBuild` rendered are stored
+ * (each revision's runsDetail is then empty and `runsRead` false): a page that shows those panels
+ * needs nothing else of them.
  */
 export async function readConverterDoc(
 	db: Db,
 	slug: string,
 	region: Region,
-	htmlBuild: string | null = null
+	htmlBuild: string | null = null,
+	withoutStoredRuns = false
 ): Promise<ConverterDocRead | null> {
 	const readAt = performance.now();
 	const [row] = await preparedFor(db, 'converter_doc_by_slug', () =>
@@ -320,6 +338,9 @@ export async function readConverterDoc(
 			.select({
 				id: converters.id,
 				doc: converterDetails.doc,
+				runs: sql<PublicBenchRun[][] | null>`case when not (${sql.placeholder('slim')}::boolean
+					and ${converterDetails.htmlBuild} = ${sql.placeholder('build')} and ${converterDetails.revisionsHtml} is not null)
+					then ${converterDetails.runs} end`,
 				revisionsHtml: sql<string | null>`case when ${converterDetails.htmlBuild} = ${sql.placeholder('build')}
 					then ${converterDetails.revisionsHtml} end`,
 				revisionsName: converterDetails.revisionsName,
@@ -342,12 +363,13 @@ export async function readConverterDoc(
 			.leftJoin(converterDetails, eq(converterDetails.converterId, converters.id))
 			.where(and(eq(converters.slug, sql.placeholder('slug')), isNull(converters.retiredAt)))
 			.prepare('converter_doc_by_slug')
-	).execute({ slug, region, day: rateDay(), build: htmlBuild });
+	).execute({ slug, region, day: rateDay(), build: htmlBuild, slim: withoutStoredRuns });
 	if (!row) return null;
-	const doc = row.stale ? await rebuildAfter(db, row.id, readAt) : (row.doc as ConverterDoc);
+	const doc = row.stale ? await rebuildAfter(db, row.id, readAt) : withRuns(row.doc as ConverterDoc, row.runs);
 	return {
 		converterId: row.id,
 		doc,
+		runsRead: row.stale || row.runs != null,
 		revisionsHtml:
 			row.stale || row.revisionsHtml == null || row.revisionsName == null
 				? null

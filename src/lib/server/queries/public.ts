@@ -83,7 +83,8 @@ export interface PageRevision extends Omit<PublicRevision, 'runsDetail' | 'media
 export function pageRevision({ runsDetail, medianRun, ...rest }: PublicRevision): PageRevision {
 	return {
 		...rest,
-		median: medianRun !== null ? runsDetail[medianRun] : null,
+		// (no runs when read without them: loadConverterPage's panelsOnly)
+		median: medianRun !== null ? (runsDetail[medianRun] ?? null) : null,
 		runLines: runsDetail.map(({ input: _input, report, ...run }) => ({
 			...run,
 			mark: { band: report.band, worstDeviationIre: report.worstDeviationIre, failReasons: report.failReasons }
@@ -141,16 +142,22 @@ export interface StoredPanels {
 	stored: RevisionHtml | null;
 }
 
-/** loadConverterDetail for the converter page, with the revision panels `htmlBuild` stored with the document. */
+/**
+ * loadConverterDetail for the converter page, with the revision panels `htmlBuild` stored with the
+ * document. `panelsOnly`: a page that shows the revisions only through their panels; when this
+ * build's panels for the converter's name are stored, the revisions come without their bench runs
+ * (each runsDetail empty), which are most of the document.
+ */
 export async function loadConverterPage(
 	db: Database,
 	slug: string,
 	view: Viewpoint,
-	htmlBuild: string | null
+	htmlBuild: string | null,
+	panelsOnly = false
 ): Promise<{ detail: ConverterDetail; panels: StoredPanels } | null> {
-	const read = await readConverterDoc(db, slug, view.region, htmlBuild);
+	let read = await readConverterDoc(db, slug, view.region, htmlBuild, panelsOnly);
 	if (!read) return null;
-	const { doc, checkedMs, card } = read;
+	const { checkedMs, card } = read;
 	let entry: CatalogueEntry | undefined;
 	let rates: RatesPerEur | null = card.rates;
 	if (card.entry && !card.dirty) {
@@ -164,6 +171,12 @@ export async function loadConverterPage(
 		} = await loadEntriesAndRates(db, view, [read.converterId]));
 	}
 	if (!entry || !rates) return null;
+	// panels stored for another name (a rename) are rendered afresh, from the runs: read them too
+	if (!read.runsRead && read.revisionsHtml?.name !== `${entry.brand} ${entry.model}`) {
+		read = await readConverterDoc(db, slug, view.region, htmlBuild);
+		if (!read) return null;
+	}
+	const { doc } = read;
 	const listingsOut: PublicListing[] = doc.offers
 		.map((o) => {
 			const checked = checkedMs[o.listingId];

@@ -18,7 +18,8 @@ export const csr = false;
 export const load: PageServerLoad = async ({ params, url, cookies, request, locals, isDataRequest }) => {
 	const { data: p } = parseLenient(viewpointParams, searchObject(url));
 	const view = viewpoint(p, cookies, request.headers.get('accept-language'));
-	const found = await loadConverterPage(db, params.slug, view, HTML_BUILD);
+	// an HTML page shows the revisions only through their panels; a data request sends them whole
+	const found = await loadConverterPage(db, params.slug, view, HTML_BUILD, !isDataRequest);
 	if (!found) error(404, 'No converter by that name in the catalogue.');
 	const { detail, panels } = found;
 	const revisions = detail.revisions.map(pageRevision);
