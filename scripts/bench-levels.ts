@@ -16,6 +16,8 @@
  * import alternate and the best of each is kept), BENCH_BROWSER=0 to skip Chromium.
  */
 import { build } from 'esbuild';
+// @ts-expect-error plain ES module without types
+import { ensureChromium } from './lib/bootstrap.mjs';
 import { renderCsv } from '../fixtures/traces/generate';
 import type { TraceSpec } from '../fixtures/traces/specs';
 import { analyzeLevels, importTrace, type LevelInput } from '../src/lib/levels/index';
@@ -233,6 +235,7 @@ async function benchImportBrowser(texts: Map<number, string>) {
 		minify: true
 	});
 	const code = bundle.outputFiles[0].text;
+	ensureChromium();
 	const { chromium } = await import('playwright-core');
 	const browser = await chromium.launch({
 		executablePath: '/usr/bin/chromium',

@@ -26,7 +26,7 @@ import { CONVERTERS } from '../src/lib/demo/scenario';
 // @ts-expect-error plain ES module without types
 import { profile, ROOT } from './lib/profiles.mjs';
 // @ts-expect-error plain ES module without types
-import { startCluster, stopCluster } from './lib/bootstrap.mjs';
+import { ensureChromium, startCluster, stopCluster } from './lib/bootstrap.mjs';
 
 const PORT = Number(process.env.BENCH_PORT || 4491 + Number(process.env.SG_PORT_OFFSET || 0));
 const NAME = 'sg_bench_lighthouse';
@@ -78,6 +78,7 @@ async function waitFor(target: string, ms = 30_000) {
 }
 
 async function main() {
+	if (!process.env.CHROME_PATH) ensureChromium();
 	const started = await startCluster(p, { fast: true });
 	const out = resolve(ROOT, '.data', 'bench', 'build');
 	const origin = `http://127.0.0.1:${PORT}`;

@@ -35,7 +35,7 @@ import { refreshDirtyCards } from '../src/lib/server/queries/read-model';
 // @ts-expect-error plain ES module without types
 import { profile, ROOT } from './lib/profiles.mjs';
 // @ts-expect-error plain ES module without types
-import { startCluster, stopCluster } from './lib/bootstrap.mjs';
+import { ensureChromium, startCluster, stopCluster } from './lib/bootstrap.mjs';
 
 const CONVERTERS = Number(process.env.BENCH_CONVERTERS || 2000);
 const PER = Number(process.env.BENCH_LISTINGS_PER || 10);
@@ -291,6 +291,7 @@ async function afterInvalidation(origin: string) {
 }
 
 async function main() {
+	ensureChromium(); // counts the JavaScript a page loads in Debian's Chromium
 	const started = await startCluster(p, { fast: true });
 	const out = resolve(ROOT, '.data', 'bench', 'build');
 	const modes = process.env.BENCH_CACHE === 'off' ? [false] : process.env.BENCH_CACHE === 'on' ? [true] : [true, false];

@@ -14,6 +14,14 @@ describe('HTTP helpers', () => {
 		expect(matchesEtag('"other"', e)).toBe(false);
 		expect(etagOf('{"a":2}')).not.toBe(e);
 	});
+	it('makes a strong ETag from the SHA-256 of the body bytes, string or encoded alike', () => {
+		// FIPS 180-4 example: SHA-256("abc") = ba7816bf 8f01cfea 414140de 5dae2223 b00361a3 96177a9c
+		// b410ff61 f20015ad, whose base64url (RFC 4648 section 5) starts ungWv48Bz-pBQUDeXa4iI7ADYaOWF3qctBD_YfIAFa0
+		expect(etagOf('abc')).toBe('"ungWv48Bz-pBQUDeXa4iI7ADYaO"');
+		expect(etagOf(new TextEncoder().encode('abc'))).toBe(etagOf('abc'));
+		// UTF-8 (RFC 3629): the string is hashed as its encoded bytes
+		expect(etagOf('é')).toBe(etagOf(new Uint8Array([0xc3, 0xa9])));
+	});
 	it('writes CSV per RFC 4180: CRLF, quoted fields with doubled quotes', () => {
 		const csv = toCsv([{ a: 'plain', b: 'has, comma', c: 'say "hi"', d: null }], ['a', 'b', 'c', 'd']);
 		expect(csv).toBe('a,b,c,d\r\nplain,"has, comma","say ""hi""",\r\n');

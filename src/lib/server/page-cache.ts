@@ -23,7 +23,6 @@
  * Env: PAGE_CACHE=off turns the in-process cache off (headers stay), PAGE_CACHE_MB (32), PAGE_CACHE_REWARM (8),
  * PAGE_CACHE_TTL_SECONDS (60: bounds how old "last checked" times on a cached page can be).
  */
-import { createHash } from 'node:crypto';
 import type { IncomingMessage, ServerResponse } from 'node:http';
 import { parse as parseCookies } from 'cookie';
 import zlib, { brotliCompressSync, gzipSync } from 'node:zlib';
@@ -39,7 +38,7 @@ import {
 	REGION_COOKIE,
 	viewpoint
 } from '$lib/server/queries/public-params';
-import { matchesEtag, PUBLIC_CACHE_CONTROL } from '$lib/server/queries/public-http';
+import { etagOf, matchesEtag, PUBLIC_CACHE_CONTROL } from '$lib/server/queries/public-http';
 
 /** Public, cookie-independent paths (besides region and currency): pages and the open-data API. */
 const PUBLIC_PATH =
@@ -212,8 +211,6 @@ function keyOf(url: URL, cookie: CookieGet, acceptLanguage: string | null): stri
 	const query = [...url.searchParams].sort(([a], [b]) => (a < b ? -1 : a > b ? 1 : 0));
 	return `${url.pathname}?${new URLSearchParams(query)}|${view.region}|${view.currency}`;
 }
-
-const etagOf = (body: Uint8Array) => `"${createHash('sha256').update(body).digest('base64url').slice(0, 27)}"`;
 
 /** Auth.js notes the page a visitor came from on every request; a public page can go without it. */
 const DROPPABLE_COOKIE = /^(__Secure-)?authjs\.callback-url=/;

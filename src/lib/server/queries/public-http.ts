@@ -20,8 +20,15 @@ export const DATA_LICENCE = {
 /** Shared caches may keep public answers briefly; browsers revalidate (ETag, 304) every time. */
 export const PUBLIC_CACHE_CONTROL = 'public, max-age=0, s-maxage=5, stale-while-revalidate=30';
 
-export function etagOf(body: string): string {
-	return `"${createHash('sha256').update(body).digest('base64url').slice(0, 27)}"`;
+const encoder = new TextEncoder();
+
+/**
+ * A strong ETag: the SHA-256 of the body's bytes as base64url, cut to 27 characters (162 bits).
+ * SvelteKit's rendered pages get the same (patches/@sveltejs+kit+*.patch, render.js).
+ */
+export function etagOf(body: string | Uint8Array): string {
+	const bytes = typeof body === 'string' ? encoder.encode(body) : body;
+	return `"${createHash('sha256').update(bytes).digest('base64url').slice(0, 27)}"`;
 }
 
 /** Does an If-None-Match header match this ETag (weak comparison, any of a list, or *)? */
@@ -39,7 +46,9 @@ export function cachedResponse(
 	contentType: string,
 	extra: Record<string, string> = {}
 ): Response {
-	const etag = etagOf(body);
+	// encoded once, for the ETag and the response alike
+	const bytes = encoder.encode(body);
+	const etag = etagOf(bytes);
 	const headers: Record<string, string> = {
 		ETag: etag,
 		'Cache-Control': PUBLIC_CACHE_CONTROL,
@@ -47,7 +56,7 @@ export function cachedResponse(
 		...extra
 	};
 	if (matchesEtag(request.headers.get('if-none-match'), etag)) return new Response(null, { status: 304, headers });
-	return new Response(body, { status: 200, headers: { 'Content-Type': contentType, ...headers } });
+	return new Response(bytes, { status: 200, headers: { 'Content-Type': contentType, ...headers } });
 }
 
 export const JSON_TYPE = 'application/json; charset=utf-8';
