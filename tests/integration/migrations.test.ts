@@ -108,6 +108,26 @@ describe('migrations', () => {
 		]);
 	});
 
+	it('0020 has the long read-model columns compressed with lz4 where the server has it', async () => {
+		// pg_settings lists lz4 among default_toast_compression's values only on a server built with it
+		const [{ lz4 }] =
+			await sql`select 'lz4' = any(enumvals) as lz4 from pg_settings where name = 'default_toast_compression'`;
+		const columns = await sql`select attrelid::regclass::text as tbl, attname as col, attcompression as method
+			from pg_attribute where (attrelid = 'converter_card'::regclass and attname in ('card_html', 'entry', 'api_item'))
+				or (attrelid = 'converter_detail'::regclass and attname in ('doc', 'runs', 'revisions_html'))
+			order by 1, 2`;
+		expect(columns).toHaveLength(6);
+		for (const c of columns) expect(c.method, `${c.tbl}.${c.col}`).toBe(lz4 ? 'l' : '');
+		const [conv] = await sql`insert into converter (slug, brand, model) values ('x-lz4', 'X', 'Lz4') returning id`;
+		const html = '<li class="card">'.repeat(400); // 6.8 kB, past the 2 kB where PostgreSQL compresses
+		await sql`insert into converter_card (region, converter_id, slug, brand, model, has_audio_out, power,
+				band_rank, score, buyable, in_stock_shops, entry, card_html)
+			values ('eu', ${conv.id}, 'x-lz4', 'X', 'Lz4', true, 'usb-bus', 0, 90, 0, 1, '{}', ${html})`;
+		const [stored] = await sql`select pg_column_compression(card_html) as method, card_html = ${html} as same
+			from converter_card where converter_id = ${conv.id}`;
+		expect(stored).toEqual({ method: lz4 ? 'lz4' : 'pglz', same: true });
+	});
+
 	it('reject a stock state or band outside the enums', async () => {
 		await expect(sql`select 'sold'::stock_state`).rejects.toThrow(/invalid input value/);
 		await expect(sql`select 'great'::band`).rejects.toThrow(/invalid input value/);
