@@ -50,7 +50,11 @@ export function ensureJava() {
 
 /**
  * `npm ci` when node_modules is missing or was installed from another lock file or other patches
- * (patches/, applied by patch-package after every install).
+ * (patches/, applied by patch-package after every install). Dependencies' own install scripts do
+ * not run: the only ones are esbuild's (an optional check; esbuild runs from its platform package
+ * without it) and the Nu HTML Checker's, which downloads a Java runtime when it finds none; the
+ * tests run the checker with Debian's Java (`ensureJava`). Our own postinstall (patch-package)
+ * and prepare (svelte-kit sync) run after it.
  */
 export function ensureNodeModules() {
 	const hasher = createHash('sha256').update(readFileSync(resolve(ROOT, 'package-lock.json')));
@@ -62,7 +66,9 @@ export function ensureNodeModules() {
 	const stamp = resolve(ROOT, 'node_modules', '.scopegrade-lock-hash');
 	if (existsSync(stamp) && readFileSync(stamp, 'utf8') === hash) return;
 	log('installing npm packages (npm ci)…');
-	run('npm', ['ci', '--no-audit', '--no-fund'], { cwd: ROOT });
+	run('npm', ['ci', '--no-audit', '--no-fund', '--ignore-scripts'], { cwd: ROOT });
+	run('npm', ['run', 'postinstall'], { cwd: ROOT });
+	run('npm', ['run', 'prepare'], { cwd: ROOT });
 	writeFileSync(stamp, hash);
 }
 
