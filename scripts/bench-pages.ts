@@ -6,7 +6,8 @@
  * .data/bench/build, runs it on loopback, and measures with autocannon (32 connections, one
  * run per URL) through scripts/serve.mjs: requests per second and p50/p99 latency for /converters,
  * a converter page and /api/v1/converters, each as a ratio to the same server answering
- * /robots.txt (a static file) in the same run, once with the page cache warm and once with it off
+ * /robots.txt (a static file) in the same run (the mean of the static runs just before and just
+ * after that page's), once with the page cache warm and once with it off
  * (PAGE_CACHE=off); the first request after an invalidation (a real price change); bytes on the
  * wire (brotli or gzip); and the JavaScript each page loads before any section is opened.
  * Each URL, the static file's included, first gets BENCH_WARMUP seconds of the same load that
@@ -249,22 +250,29 @@ async function measure(origin: string, cache: boolean) {
 			await drain(origin);
 		}
 	}
-	results.static = await cannon(`${origin}/robots.txt`);
+	// Each page runs between two runs of the static file, and its ratio is to their mean: on a shared
+	// machine the speed drifts within a minute, and a page measured half a minute after a single
+	// static run could be compared with another machine state.
+	const statics = [await cannon(`${origin}/robots.txt`)];
 	await drain(origin);
+	const ceiling: Record<string, number> = {};
 	for (const [label, path] of TARGETS) {
 		results[label] = await cannon(origin + path);
 		await drain(origin);
+		statics.push(await cannon(`${origin}/robots.txt`));
+		await drain(origin);
+		ceiling[label] = (statics.at(-2)!.rps + statics.at(-1)!.rps) / 2;
 	}
 	const line = (label: string, r: Result) =>
 		console.log(
 			`${(label + tag).padEnd(36)} ${r.rps.toFixed(1).padStart(9)} req/s   p50 ${String(r.p50).padStart(5)} ms   p99 ${String(r.p99).padStart(5)} ms${r.errors ? `   (${r.errors} errors/non-2xx)` : ''}`
 		);
-	line('static /robots.txt', results.static);
+	statics.forEach((r, i) => line(`static /robots.txt (${i + 1})`, r));
 	for (const [label] of TARGETS) line(label, results[label]);
 	// One line per figure, for scripts: `<url> rps x<ratio>` (and p99 in ms).
 	for (const [label] of TARGETS) {
 		const r = results[label];
-		console.log(`${label} rps x${(r.rps / results.static.rps).toFixed(3)}${tag} p99 ${r.p99} ms`);
+		console.log(`${label} rps x${(r.rps / ceiling[label]).toFixed(3)}${tag} p99 ${r.p99} ms`);
 	}
 }
 
