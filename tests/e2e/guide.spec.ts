@@ -344,3 +344,12 @@ test('chart code loads only on pages that draw charts', async ({ page }) => {
 	await expect(page.locator('[data-testid=level-chart]').first()).toHaveAttribute('data-ready', 'true');
 	expect((await Promise.all(bodies)).some((t) => t.includes(MARK))).toBe(true);
 });
+
+test('a chart in the first screen draws once the pointer moves, without a scroll', async ({ page }) => {
+	await page.goto('/converters/brisling-scanlet');
+	await page.waitForLoadState('networkidle');
+	await expect(page.locator('[data-testid=level-chart]')).toHaveCount(0);
+	await page.mouse.move(300, 300);
+	await page.mouse.move(420, 360);
+	await expect(page.locator('[data-testid=level-chart]').first()).toHaveAttribute('data-ready', 'true');
+});

@@ -7,7 +7,9 @@
  */
 import { ISLANDS, type IslandName, type IslandTrigger } from './registry';
 
-const ENGAGING = ['scroll', 'wheel', 'keydown', 'pointerdown', 'touchstart', 'focusin'] as const;
+// A pointer moving over the page counts too: a desktop visitor looks at a chart in the first screen
+// without scrolling, and would see an empty frame until the first wheel turn.
+const ENGAGING = ['scroll', 'wheel', 'keydown', 'pointerdown', 'pointermove', 'touchstart', 'focusin'] as const;
 let engaged = false;
 const waiting = new Set<() => void>();
 
